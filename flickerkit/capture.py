@@ -1,0 +1,125 @@
+"""The one value every analysis starts from: a uniformly sampled signal.
+
+Measured captures (from :mod:`flickerkit.readers`) and modelled light (from the
+drive models) meet here, so that everything after this point -- period finding,
+spectrum, metrics, verdicts, exports -- is shared.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Mapping
+
+import numpy as np
+
+from .errors import InputError
+
+#: Quantities a capture can hold.
+QUANTITIES = ("light", "voltage")
+
+
+@dataclass(frozen=True, eq=False)
+class Capture:
+    """A uniformly sampled signal with its sample rate and provenance.
+
+    Build one with :func:`make_capture`, which validates the samples once; the
+    computation functions trust a ``Capture``.
+
+    Attributes
+    ----------
+    samples : numpy.ndarray
+        1-D float64 array of the signal, linear in the quantity (light in any
+        linear unit, e.g. photodiode volts after dark subtraction; or voltage)
+        [arbitrary linear unit].
+    sample_rate_hz : float
+        Sample rate [Hz].
+    label : str
+        Short human name (file name, "level 30 %", ...).
+    source : str
+        Where the samples came from: a file path, or a drive-model description.
+    quantity : str
+        ``"light"`` or ``"voltage"``.
+    notes : tuple of str
+        Findings of the reader that later reports must carry (gaps filled,
+        resampling, dark level applied, ...).
+    meta : Mapping
+        Free provenance fields (column, dark level, file size, ...).
+    """
+
+    samples: np.ndarray
+    sample_rate_hz: float
+    label: str = ""
+    source: str = ""
+    quantity: str = "light"
+    notes: tuple[str, ...] = ()
+    meta: Mapping[str, Any] = field(default_factory=dict)
+
+    @property
+    def n_samples(self) -> int:
+        """Number of samples."""
+        return int(self.samples.shape[0])
+
+    @property
+    def duration_s(self) -> float:
+        """Length of the capture, ``n_samples / sample_rate_hz`` [s]."""
+        return self.n_samples / self.sample_rate_hz
+
+
+def make_capture(
+    samples: Any,
+    sample_rate_hz: float,
+    *,
+    label: str = "",
+    source: str = "",
+    quantity: str = "light",
+    notes: tuple[str, ...] | list[str] = (),
+    meta: Mapping[str, Any] | None = None,
+) -> Capture:
+    """Validate samples and wrap them in a :class:`Capture`.
+
+    Parameters
+    ----------
+    samples : array_like
+        1-D signal [arbitrary linear unit]. Converted to float64 (a memory-mapped
+        float64 array is kept as it is, not copied).
+    sample_rate_hz : float
+        Sample rate [Hz]; finite and positive.
+    label, source, quantity, notes, meta
+        See :class:`Capture`.
+
+    Returns
+    -------
+    Capture
+
+    Raises
+    ------
+    InputError
+        If the samples are not 1-D, hold fewer than 2 values, are not finite,
+        or the sample rate is not a positive finite number.
+    """
+    where = source or label or None
+    x = np.asarray(samples)
+    if x.dtype != np.float64:
+        try:
+            x = x.astype(np.float64)
+        except (TypeError, ValueError) as exc:
+            raise InputError(f"samples are not numeric ({exc})", source=where) from None
+    if x.ndim != 1:
+        raise InputError(f"samples must be 1-D, got shape {x.shape}", source=where)
+    if x.shape[0] < 2:
+        raise InputError(f"capture holds {x.shape[0]} sample(s); at least 2 are needed",
+                         source=where)
+    try:
+        rate = float(sample_rate_hz)
+    except (TypeError, ValueError):
+        raise InputError(f"sample rate {sample_rate_hz!r} is not a number", source=where) from None
+    if not np.isfinite(rate) or rate <= 0:
+        raise InputError(f"sample rate must be a positive number of hertz, got {rate:g}",
+                         source=where)
+    if not np.isfinite(x).all():
+        bad = int(np.flatnonzero(~np.isfinite(x))[0])
+        raise InputError(f"sample {bad} is not a finite number ({x[bad]!r})", source=where)
+    if quantity not in QUANTITIES:
+        raise InputError(f"quantity must be one of {QUANTITIES}, got {quantity!r}", source=where)
+    return Capture(samples=x, sample_rate_hz=rate, label=label, source=source,
+                   quantity=quantity, notes=tuple(notes), meta=dict(meta or {}))

@@ -1,0 +1,80 @@
+"""Command line: ``flickerkit COMMAND ...``.
+
+Each command lives in its own module in this package with two functions:
+``add_parser(subparsers)`` (argparse set-up; light imports only) and
+``run(args) -> int``. Heavy libraries are imported inside ``run`` so that
+``flickerkit --help`` starts fast. Commands print; nothing below this package
+does.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from .. import __version__
+
+#: Command modules, in the order ``--help`` lists them.
+COMMANDS = ("measure", "demo")
+
+_DESCRIPTION = """\
+Temporal light modulation (flicker) of dimmable LED lighting: measure
+photodiode captures, judge them against published criteria, and write the
+record.
+
+  flickerkit demo                      invented example product, end to end
+  flickerkit measure CAPTURE.csv       percent flicker, flicker index, IEEE 1789 region
+
+Run 'flickerkit COMMAND --help' for each command's options.
+"""
+
+_CAUTION = """\
+caution: modulated light at roughly 3-70 Hz can trigger seizures in people with
+photosensitive epilepsy, and modulation at higher frequencies can cause
+headaches and other effects. flickerkit gives an engineering assessment of the
+captures or models given to it, not a certification; the applicable standards,
+local codes and an accredited laboratory decide compliance.
+"""
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """Return the top-level parser with every command registered."""
+    parser = argparse.ArgumentParser(
+        prog="flickerkit",
+        description=_DESCRIPTION,
+        epilog=_CAUTION,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("--version", action="version", version=f"flickerkit {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for name in COMMANDS:
+        module = importlib.import_module(f".{name}", __name__)
+        module.add_parser(sub)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the command line; return the exit status.
+
+    Project errors become one line on stderr (``flickerkit: error: ...``) and
+    exit status 1; usage errors exit with 2 (argparse's convention); Ctrl-C
+    exits with 130.
+    """
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "command", None):
+        parser.print_help(sys.stderr)
+        return 2
+    from ..errors import FlickerkitError
+
+    try:
+        return int(args.run(args) or 0)
+    except FlickerkitError as exc:
+        print(f"flickerkit: error: {exc}", file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print("flickerkit: interrupted; no partial output was left", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 1

@@ -1,0 +1,199 @@
+"""Fundamental modulation frequency of a light signal.
+
+The period is found in the time domain, from the autocorrelation of the
+mean-removed signal, so that it is robust to harmonics that alias above the
+Nyquist frequency (narrow PWM pulses) and to waveforms whose harmonics are all
+about equally strong (1 % duty PWM). A coarse estimate from the first
+:data:`SEGMENT_SAMPLES` samples is refined at large multiples of the period within
+the segment, so a capture of any length costs one FFT of the segment.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Samples used for the coarse autocorrelation (2**21: 2 s at 1 MS/s).
+SEGMENT_SAMPLES = 2**21
+
+#: Normalised autocorrelation at one period below which a signal is said to
+#: have no periodic modulation (noise dominates). Chosen here, not from a
+#: standard: white noise gives about 5/sqrt(n) at its largest lag; a periodic
+#: signal with noise power equal to its own reaches 0.5.
+MIN_STRENGTH = 0.3
+
+#: A later autocorrelation peak is preferred over the first one only if it is
+#: higher than the first by more than this factor (guards against taking a
+#: multiple of the period).
+_PEAK_RATIO = 0.8
+
+
+@dataclass(frozen=True)
+class Periodicity:
+    """The fundamental modulation of a capture.
+
+    Attributes
+    ----------
+    frequency_hz : float or None
+        Fundamental modulation frequency [Hz]; ``None`` if no periodic
+        modulation was found.
+    period_samples : float or None
+        Period in samples (fractional) [samples].
+    periods : int
+        Whole periods in the capture (0 if none found).
+    strength : float
+        Normalised autocorrelation at one period, 0 to 1: how much of the
+        signal's variance is periodic [unitless].
+    reason : str
+        Empty when a period was found, otherwise why not.
+    """
+
+    frequency_hz: float | None
+    period_samples: float | None
+    periods: int
+    strength: float
+    reason: str = ""
+
+
+def _autocorrelation(x0: np.ndarray, max_lag: int) -> np.ndarray:
+    """Unbiased normalised autocorrelation for lags 0..max_lag (r[0] = 1)."""
+    from scipy import fft
+
+    n = x0.shape[0]
+    nfft = fft.next_fast_len(2 * n, real=True)
+    spec = fft.rfft(x0, nfft)
+    r = fft.irfft(spec.real**2 + spec.imag**2, nfft)[: max_lag + 1]
+    r /= n - np.arange(max_lag + 1)
+    return r / r[0]
+
+
+def _parabolic_peak(y_minus: float, y0: float, y_plus: float) -> float:
+    """Offset (-0.5..0.5) of a parabola's vertex through three equally spaced points."""
+    denom = y_minus - 2.0 * y0 + y_plus
+    if denom >= 0:
+        return 0.0
+    return float(np.clip(0.5 * (y_minus - y_plus) / denom, -0.5, 0.5))
+
+
+def fundamental_frequency(
+    samples: np.ndarray,
+    sample_rate_hz: float,
+    *,
+    min_strength: float = MIN_STRENGTH,
+) -> Periodicity:
+    """Find the fundamental modulation frequency of a signal.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        1-D signal [arbitrary linear unit].
+    sample_rate_hz : float
+        Sample rate [Hz].
+    min_strength : float, optional
+        Smallest normalised autocorrelation at one period that counts as
+        periodic modulation [unitless].
+
+    Returns
+    -------
+    Periodicity
+
+    Notes
+    -----
+    1. Remove the mean and compute the unbiased autocorrelation r(k) of the
+       first ``SEGMENT_SAMPLES`` samples by FFT, smoothed over three lags so that
+       the height of a narrow peak does not depend on where the true period
+       falls between two samples.
+    2. Past the first lag where r < 0, the highest peak r_max is found; the
+       period is the first peak at least 0.8 r_max high. If r_max is below
+       ``min_strength`` there is no periodic modulation.
+    3. The period is refined with parabolic interpolation at growing
+       multiples of it (each at most 4 times the last), up to half the
+       segment: the error falls as 1/multiple.
+
+    The longest period that can be found is a quarter of the segment (or of
+    the capture, if shorter): two whole periods must fit in half of it.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> t = np.arange(20000) / 20000.0
+    >>> p = fundamental_frequency(1 + 0.3 * np.sin(2 * np.pi * 100 * t), 20000.0)
+    >>> round(p.frequency_hz, 6), p.periods
+    (100.0, 100)
+    """
+    x = np.asarray(samples, dtype=np.float64)
+    n_total = x.shape[0]
+    mean = float(np.mean(x))
+    seg = x[: min(n_total, SEGMENT_SAMPLES)] - mean
+    n = seg.shape[0]
+    if n < 8 or not np.any(seg):
+        return Periodicity(None, None, 0, 0.0, "the signal is constant")
+    max_lag = n // 2
+    r = _autocorrelation(seg, max_lag)
+    rs = np.empty_like(r)
+    rs[1:-1] = (r[:-2] + r[1:-1] + r[2:]) / 3.0
+    rs[0] = r[0]
+    rs[-1] = r[-1]
+    below = np.flatnonzero(rs[1:] < 0.0)
+    if below.size == 0:
+        return Periodicity(None, None, 0, 0.0,
+                           "no whole period fits in the capture (slow drift or too short)")
+    k0 = int(below[0]) + 1
+    if k0 >= max_lag - 2:
+        return Periodicity(None, None, 0, 0.0, "no whole period fits in the capture")
+    region = rs[k0:max_lag]
+    r_max = float(region.max())
+    if r_max < min_strength:
+        return Periodicity(None, None, 0, max(r_max, 0.0),
+                           f"no periodic modulation above the noise (autocorrelation "
+                           f"{max(r_max, 0.0):.2f} < {min_strength:.2f})")
+    # local maxima of the smoothed autocorrelation that are high enough
+    interior = region[1:-1]
+    is_peak = (interior >= region[:-2]) & (interior >= region[2:]) & (
+        interior >= _PEAK_RATIO * r_max)
+    peaks = np.flatnonzero(is_peak) + 1 + k0
+    lag = int(peaks[0]) if peaks.size else int(np.argmax(region)) + k0
+    # move to the local maximum of the raw autocorrelation near the smoothed one
+    lo, hi = max(lag - 1, 1), min(lag + 2, max_lag + 1)
+    lag = lo + int(np.argmax(r[lo:hi]))
+    period = lag + (_parabolic_peak(r[lag - 1], r[lag], r[lag + 1]) if 0 < lag < max_lag else 0.0)
+    strength = float(r[lag])
+
+    # refine at growing multiples of the period, within the segment
+    period = _refine(r, period, max_lag)
+
+    periods = int(np.floor(n_total / period + 0.01))
+    frequency = sample_rate_hz / period
+    if periods < 1:
+        return Periodicity(None, None, 0, strength, "no whole period fits in the capture")
+    return Periodicity(frequency, period, periods, strength)
+
+
+def _refine(r: np.ndarray, period: float, max_lag: int) -> float:
+    """Refine a period estimate at growing multiples of it.
+
+    Each step moves to a multiple at most 4 times the previous one and searches
+    the autocorrelation peak there within the uncertainty of the current
+    estimate, so the peak cannot be confused with a neighbouring multiple.
+    """
+    m_prev, delta = 1, 1.0  # current multiple and uncertainty of the period [samples]
+    while True:
+        m = min(4 * m_prev, int(max_lag // period))
+        if m <= m_prev:
+            return period
+        centre = m * period
+        half = int(np.ceil(m * delta)) + 2
+        half = min(half, int(period / 2) - 1)  # never reach a neighbouring multiple
+        if half < 1:
+            return period
+        lo = max(1, int(round(centre)) - half)
+        hi = min(max_lag - 1, int(round(centre)) + half)
+        if hi <= lo:
+            return period
+        k = lo + int(np.argmax(r[lo : hi + 1]))
+        if k in (lo, hi):  # peak not inside the window: the estimate is not better
+            return period
+        peak = k + _parabolic_peak(r[k - 1], r[k], r[k + 1])
+        period = float(peak / m)
+        m_prev, delta = m, 2.0 / m
