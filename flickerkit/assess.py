@@ -236,7 +236,12 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
 
     period = fundamental_frequency(x, fs)
     spec = modulation_spectrum(x, fs, period)
-    noise = metrics.noise_rms(x, period.period_samples)
+    template = None
+    if (period.period_samples is not None and period.period_samples >= 4
+            and period.periods >= MIN_PERIODS):
+        template, noise = metrics.periodic_average_and_noise(x, period.period_samples)
+    else:
+        noise = metrics.noise_rms(x)
 
     if period.frequency_hz is not None:
         bounds = metrics.period_bounds(period.periods, period.period_samples, n)
@@ -261,10 +266,7 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
             f"index are over the whole capture and the spectrum is Hann-windowed"))
 
     pf = metrics.percent_flicker(span)
-    pf_avg = None
-    if spp is not None and spp >= 4 and period.periods >= MIN_PERIODS:
-        pf_avg = metrics.percent_flicker(
-            metrics.synchronous_average(span[: metrics.NOISE_SAMPLES], spp))
+    pf_avg = metrics.percent_flicker(template) if template is not None else None
     fi = metrics.flicker_index(span)
     mean = float(np.mean(span))
     noise_pf = metrics.noise_percent_flicker(noise, mean, spp if spp else n)
@@ -288,10 +290,10 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
 
     harmonics: list[Harmonic] = []
     bins = spec.harmonic_bins()
-    for order, b in enumerate(bins[: settings.harmonics], start=1):
+    shown = bins[: settings.harmonics]
+    for order, (b, ph) in enumerate(zip(shown, spec.phase_at(shown)), start=1):
         harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
-                                  float(spec.amplitudes[b]),
-                                  float(np.degrees(spec.phases_rad[b]))))
+                                  float(spec.amplitudes[b]), float(np.degrees(ph))))
 
     fund = per_h = None
     if period.frequency_hz is not None:
