@@ -586,6 +586,13 @@ class Light:
         grid of ``grid`` points per base period and per ripple period.
         """
         T = self.trains[0].period_s
+        if len(self.trains) == 1 and self._ripple_terms()[0].size == 0:
+            tr = self.trains[0]
+            start = np.where(tr.is_exp, tr.a + tr.b, tr.a)
+            end = np.where(tr.is_exp, tr.a + tr.b * np.exp(-tr.length / tr.tau),
+                           tr.a + tr.b * tr.length)
+            v = np.concatenate([start, end])
+            return float(v.min()), float(v.max())
         f0 = self.fundamental_hz
         span = 1.0 / f0 if f0 else T
         span = min(span, 100 * T)
@@ -750,7 +757,9 @@ class Light:
         meta = {"model": self.description, "fundamental_hz": f0,
                 "periods": (n * f0 / fs) if f0 else None, "sampling": "interval average"}
         return make_capture(x, fs, label=label or self.description,
-                            source=f"model: {self.description}", notes=tuple(notes), meta=meta)
+                            source=f"model: {self.description}",
+                            notes=("modelled light, samples are exact interval averages",),
+                            warnings=tuple(notes), meta=meta)
 
 
 # --------------------------------------------------------------------------- models
