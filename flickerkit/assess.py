@@ -22,6 +22,8 @@ from .errors import CaptureWarning, FlickerkitWarning, InputError
 from .periodicity import Periodicity, fundamental_frequency
 from .spectrum import Spectrum, modulation_spectrum
 
+#: Fewest samples an assessment accepts (less holds no usable modulation; project choice).
+MIN_SAMPLES = 16
 #: Fewest whole periods for stable figures (common practice, no source).
 MIN_PERIODS = 2
 #: Fewest samples per period for time-domain percent flicker and flicker
@@ -205,6 +207,9 @@ def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessme
     settings = settings or AssessSettings()
     x = capture.samples
     where = capture.source or capture.label or None
+    if capture.n_samples < MIN_SAMPLES:
+        raise InputError(f"capture holds {capture.n_samples} samples; at least {MIN_SAMPLES} "
+                         f"are needed", source=where)
     hi = float(np.max(x))
     lo = float(np.min(x))
     if hi == 0.0 and lo == 0.0:
@@ -236,7 +241,12 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
 
     period = fundamental_frequency(x, fs)
     spec = modulation_spectrum(x, fs, period)
-    noise = metrics.noise_rms(x, period.period_samples)
+    template = None
+    if (period.period_samples is not None and period.period_samples >= 4
+            and period.periods >= MIN_PERIODS):
+        template, noise = metrics.periodic_average_and_noise(x, period.period_samples)
+    else:
+        noise = metrics.noise_rms(x)
 
     if period.frequency_hz is not None:
         bounds = metrics.period_bounds(period.periods, period.period_samples, n)
@@ -261,10 +271,7 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
             f"index are over the whole capture and the spectrum is Hann-windowed"))
 
     pf = metrics.percent_flicker(span)
-    pf_avg = None
-    if spp is not None and spp >= 4 and period.periods >= MIN_PERIODS:
-        pf_avg = metrics.percent_flicker(
-            metrics.synchronous_average(span[: metrics.NOISE_SAMPLES], spp))
+    pf_avg = metrics.percent_flicker(template) if template is not None else None
     fi = metrics.flicker_index(span)
     mean = float(np.mean(span))
     noise_pf = metrics.noise_percent_flicker(noise, mean, spp if spp else n)
@@ -288,10 +295,10 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
 
     harmonics: list[Harmonic] = []
     bins = spec.harmonic_bins()
-    for order, b in enumerate(bins[: settings.harmonics], start=1):
+    shown = bins[: settings.harmonics]
+    for order, (b, ph) in enumerate(zip(shown, spec.phase_at(shown)), start=1):
         harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
-                                  float(spec.amplitudes[b]),
-                                  float(np.degrees(spec.phases_rad[b]))))
+                                  float(spec.amplitudes[b]), float(np.degrees(ph))))
 
     fund = per_h = None
     if period.frequency_hz is not None:

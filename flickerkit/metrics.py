@@ -152,7 +152,11 @@ def per_period_stats(samples: np.ndarray, bounds: np.ndarray) -> PeriodStats:
     with np.errstate(invalid="ignore", divide="ignore"):
         pf = 100.0 * (hi - lo) / (hi + lo)
         mean = total / lengths
-        above = np.add.reduceat(np.maximum(span - np.repeat(mean, lengths), 0.0), starts)
+        work = np.repeat(mean, lengths)
+        np.subtract(span, work, out=work)
+        np.maximum(work, 0.0, out=work)
+        above = np.add.reduceat(work, starts)
+        del work
         fi = above / total
     return PeriodStats(
         count=int(starts.size),
@@ -170,6 +174,30 @@ def _fold(x: np.ndarray, period_samples: float) -> tuple[np.ndarray, np.ndarray]
     counts = np.bincount(phase, minlength=bins)
     template = np.bincount(phase, weights=x, minlength=bins) / np.maximum(counts, 1)
     return template, phase
+
+
+def periodic_average_and_noise(samples: np.ndarray,
+                               period_samples: float) -> tuple[np.ndarray, float]:
+    """Synchronous average and the noise around it, from one fold of the signal.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Signal; at most :data:`NOISE_SAMPLES` are used [input unit].
+    period_samples : float
+        Period [samples].
+
+    Returns
+    -------
+    template : numpy.ndarray
+        See :func:`synchronous_average` [input unit].
+    noise_std : float
+        ``1.4826 MAD`` of the residual after removing the template [input unit].
+    """
+    x = np.asarray(samples[:NOISE_SAMPLES], dtype=np.float64)
+    template, phase = _fold(x, period_samples)
+    resid = x - template[phase]
+    return template, float(1.4826 * np.median(np.abs(resid - np.median(resid))))
 
 
 def synchronous_average(samples: np.ndarray, period_samples: float) -> np.ndarray:
@@ -229,9 +257,7 @@ def noise_rms(samples: np.ndarray, period_samples: float | None = None) -> float
     if n < 4:
         return 0.0
     if period_samples is not None and n >= 2 * period_samples and period_samples >= 4:
-        template, phase = _fold(x, period_samples)
-        resid = x - template[phase]
-        return float(1.4826 * np.median(np.abs(resid - np.median(resid))))
+        return periodic_average_and_noise(x, period_samples)[1]
     d2 = np.diff(x, 2)
     return float(1.4826 * np.median(np.abs(d2 - np.median(d2))) / np.sqrt(6.0))
 
