@@ -695,6 +695,8 @@ def _column_values(a: np.ndarray) -> list:
         return [bool(v) for v in a.tolist()]
     if np.issubdtype(a.dtype, np.integer):
         return [int(v) for v in a.tolist()]
+    if a.dtype == object or a.dtype.kind in "US":
+        return [None if v is None or v == "" else str(v) for v in a.tolist()]
     return [v if v == v and v not in (float("inf"), float("-inf")) else None
             for v in a.astype(np.float64).tolist()]
 
@@ -777,6 +779,9 @@ def build_table(
     transfer: Transfer | None = None,
     visible_step: float = DEFAULT_VISIBLE_STEP,
     curve_params: dict | None = None,
+    pwm_frequency_hz: float | None = None,
+    drive: Any = None,
+    target_region: str = "low-risk",
 ) -> StepTable:
     """Build a brightness table for a PWM counter and judge it.
 
@@ -808,6 +813,17 @@ def build_table(
         :data:`DEFAULT_VISIBLE_STEP`.
     curve_params : dict, optional
         Curve parameters (``{"gamma": 2.2}``, user points...).
+    pwm_frequency_hz : float, optional
+        PWM frequency; adds per-step flicker of ideal PWM (vectorised exact
+        Fourier series, :func:`flickerkit.stepflicker.step_flicker`) [Hz].
+        With a calibration the effective duty of a step is its relative light
+        (the product's losses taken as lost pulse width).
+    drive : flickerkit.drive.Drive, optional
+        Drive description; adds per-step flicker of its modelled light through
+        :func:`flickerkit.assess.assess` (slower; one model per distinct count).
+    target_region : str
+        IEEE 1789 region the table should stay in: ``"low-risk"`` (default)
+        or ``"no-observable-effect"``.
 
     Returns
     -------
@@ -856,6 +872,18 @@ def build_table(
     ideal = ideal_counts(target, counter, transfer)
     lo = min_level if min_level is not None else cv.default_min
     flicker = None
+    if drive is not None:
+        from .stepflicker import step_flicker_from_drive
+
+        if pwm_frequency_hz is not None and float(pwm_frequency_hz) != drive.frequency_hz:
+            raise SettingsError(f"PWM frequency {pwm_frequency_hz:g} Hz differs from the drive "
+                                f"description's {drive.frequency_hz:g} Hz")
+        flicker = step_flicker_from_drive(counts / counter.top, drive,
+                                          target_region=target_region)
+    elif pwm_frequency_hz is not None:
+        from .stepflicker import step_flicker
+
+        flicker = step_flicker(light, pwm_frequency_hz, target_region=target_region)
     return StepTable(
         curve=cv.name, curve_description=cv.description,
         curve_params={k: v for k, v in cv.params.items()},
