@@ -13,7 +13,8 @@ Two paths, which agree where both apply (tested):
   measured capture. Exact for any drive, but about a hundredth of a second
   per distinct count.
 
-The IEEE 1789 region comes from :mod:`flickerkit.ieee1789` in both paths.
+The IEEE 1789 region comes from :mod:`flickerkit.ieee1789` and SVM from
+:func:`flickerkit.svm.svm_from_components` (on the exact series) in both paths.
 """
 
 from __future__ import annotations
@@ -98,6 +99,10 @@ class StepFlicker:
         frequency); ``""`` for dark steps.
     fundamental_amplitude : numpy.ndarray
         C_1, the fundamental's amplitude relative to the mean [unitless].
+    svm : numpy.ndarray
+        Stroboscopic visibility measure of the step's light [unitless].
+    svm_threshold : str
+        Threshold model of the SVM (see :data:`flickerkit.svm.THRESHOLDS`).
     target_region : str
         Region the table should stay in (that region or a better one).
     """
@@ -108,6 +113,8 @@ class StepFlicker:
     flicker_index: np.ndarray
     ieee1789_region: np.ndarray
     fundamental_amplitude: np.ndarray
+    svm: np.ndarray
+    svm_threshold: str = "power"
     target_region: str = DEFAULT_TARGET_REGION
 
     def outside(self) -> np.ndarray:
@@ -122,7 +129,7 @@ class StepFlicker:
         """Per-step columns for the table rows."""
         region = np.array([r if r else None for r in self.ieee1789_region.tolist()], dtype=object)
         return {"percent_flicker": self.percent_flicker, "flicker_index": self.flicker_index,
-                "ieee1789_region": region}
+                "ieee1789_region": region, "svm": self.svm}
 
     def summary(self) -> dict[str, Any]:
         """Where the table leaves its target region (JSON-ready)."""
@@ -134,6 +141,7 @@ class StepFlicker:
         lit = np.isfinite(self.percent_flicker)
         worst = (int(np.nanargmax(np.where(lit, self.percent_flicker, -1.0)))
                  if lit.any() else None)
+        worst_svm = (int(np.nanargmax(np.where(lit, self.svm, -1.0))) if lit.any() else None)
         return {
             "pwm_frequency_hz": self.pwm_frequency_hz,
             "model": self.model,
@@ -144,6 +152,9 @@ class StepFlicker:
             "worst_step": worst,
             "worst_percent_flicker": (None if worst is None
                                       else float(self.percent_flicker[worst])),
+            "worst_svm_step": worst_svm,
+            "worst_svm": None if worst_svm is None else float(self.svm[worst_svm]),
+            "svm_threshold": self.svm_threshold,
             "low_risk_limit_percent": _finite(low_risk_limit_percent(self.pwm_frequency_hz)),
             "noel_limit_percent": _finite(noel_limit_percent(self.pwm_frequency_hz)),
             "caution": ("engineering estimate from a model of the light; the applicable "
@@ -161,6 +172,9 @@ class StepFlicker:
                 f"first step outside IEEE 1789 {s['target_region']}: {s['first_step_outside']}"
                 f" ({s['steps_outside']} steps outside; inside from step "
                 f"{s['inside_from_step']})")
+        if s["worst_svm_step"] is not None:
+            lines.append(f"largest SVM: {s['worst_svm']:.3g} at step {s['worst_svm_step']} "
+                         f"({s['svm_threshold']} threshold model)")
         return lines
 
 
@@ -184,6 +198,7 @@ def step_flicker(
     *,
     target_region: str = DEFAULT_TARGET_REGION,
     f_max_hz: float = DEFAULT_F_MAX_HZ,
+    svm_threshold: str = "power",
 ) -> StepFlicker:
     """Flicker figures of ideal PWM at each step's effective duty, vectorised.
 
@@ -198,6 +213,8 @@ def step_flicker(
         ``"low-risk"`` (default) or ``"no-observable-effect"``.
     f_max_hz : float
         Highest harmonic kept in the series [Hz].
+    svm_threshold : str
+        SVM threshold model (:data:`flickerkit.svm.THRESHOLDS`).
 
     Returns
     -------
@@ -208,7 +225,8 @@ def step_flicker(
     For on/off light of duty D (0 < D < 1): percent flicker 100 %, flicker
     index ``(1 - D) D / D = 1 - D`` (area above the mean over the total area);
     at D = 1 the light is steady (0, 0); at D = 0 there is no light (NaN).
-    C_1 from :func:`pwm_series`.
+    C_1 and SVM (:func:`flickerkit.svm.svm_from_components`, one call over
+    all steps) from :func:`pwm_series`.
 
     References
     ----------
@@ -217,6 +235,7 @@ def step_flicker(
     (boundaries as recalled, see :mod:`flickerkit.ieee1789`).
     """
     from .ieee1789 import region_of
+    from .svm import svm_from_components
 
     target = _check_target(target_region)
     d = np.clip(np.asarray(duty, dtype=np.float64), 0.0, 1.0)
@@ -226,9 +245,17 @@ def step_flicker(
     pf = np.where(lit, np.where(d < 1, 100.0, 0.0), np.nan)
     fi = np.where(lit, 1.0 - d, np.nan)
     region = np.where(lit, region_of(np.full(d.shape, f), np.nan_to_num(pf)), "")
+    if freqs.size:
+        svm = np.asarray(svm_from_components(freqs, amps, threshold=svm_threshold),
+                         dtype=np.float64).reshape(d.shape)
+    else:
+        svm = np.zeros(d.shape)
+    svm = np.where(lit, svm, np.nan)
+    c1 = amps[:, 0] if freqs.size else np.zeros(d.shape)
     return StepFlicker(pwm_frequency_hz=f, model=f"ideal PWM at {f:g} Hz, exact Fourier series",
                        percent_flicker=pf, flicker_index=fi, ieee1789_region=region,
-                       fundamental_amplitude=amps[:, 0], target_region=target)
+                       fundamental_amplitude=c1, svm=svm, svm_threshold=svm_threshold,
+                       target_region=target)
 
 
 def step_flicker_from_drive(
@@ -236,6 +263,7 @@ def step_flicker_from_drive(
     drive: Any,
     *,
     target_region: str = DEFAULT_TARGET_REGION,
+    svm_threshold: str = "power",
 ) -> StepFlicker:
     """Flicker figures of each step through a drive description and :func:`assess`.
 
@@ -247,6 +275,8 @@ def step_flicker_from_drive(
         How a level becomes light (edges, off-level, delays, ripple...).
     target_region : str
         ``"low-risk"`` (default) or ``"no-observable-effect"``.
+    svm_threshold : str
+        SVM threshold model (:data:`flickerkit.svm.THRESHOLDS`).
 
     Returns
     -------
@@ -256,17 +286,19 @@ def step_flicker_from_drive(
     -----
     Each distinct non-zero level is modelled once: ``drive.at(level)``, its
     sampled light (exact interval averages over whole periods), then
-    :func:`flickerkit.assess.assess`. The fundamental amplitude is the
-    model's exact Fourier series at its fundamental.
+    :func:`flickerkit.assess.assess`. The fundamental amplitude and SVM come
+    from the model's exact Fourier series.
     """
     from .assess import assess
     from .ieee1789 import region_of
+    from .svm import svm_from_components
 
     target = _check_target(target_region)
     d = np.asarray(duty, dtype=np.float64)
     pf = np.full(d.shape, np.nan)
     fi = np.full(d.shape, np.nan)
     c1 = np.full(d.shape, np.nan)
+    svm = np.full(d.shape, np.nan)
     region = np.full(d.shape, "", dtype=object)
     levels, inverse = np.unique(d, return_inverse=True)
     for j, lv in enumerate(levels.tolist()):
@@ -281,9 +313,12 @@ def step_flicker_from_drive(
                        else region_of(drive.frequency_hz, a.percent_flicker))
         fs = model.fourier_series(max(DEFAULT_F_MAX_HZ, drive.frequency_hz))
         c1[sel] = float(fs.amplitudes[0]) if fs.amplitudes.size else 0.0
+        svm[sel] = (svm_from_components(fs.frequencies_hz, fs.amplitudes,
+                                        threshold=svm_threshold)
+                    if fs.amplitudes.size else 0.0)
     return StepFlicker(pwm_frequency_hz=float(drive.frequency_hz),
                        model=f"drive model through assess ({drive.method}, "
                              f"{drive.frequency_hz:g} Hz)",
                        percent_flicker=pf, flicker_index=fi,
                        ieee1789_region=region.astype(str), fundamental_amplitude=c1,
-                       target_region=target)
+                       svm=svm, svm_threshold=svm_threshold, target_region=target)

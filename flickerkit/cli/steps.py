@@ -30,6 +30,11 @@ examples:
   flickerkit steps -n 64 --bits 12 --format c --name fade_table -o fade_table.h
   flickerkit steps -n 128 --bits 16 --calibration measured.csv --format json
   flickerkit steps -n 64 --bits 10 --pwm-frequency 2000 --xlsx table.xlsx
+  flickerkit steps -n 32 --bits 12 --drive driver.toml --target-region no-observable-effect
+
+Flicker figures come from a model of the light, not a measurement; the
+applicable standards, local codes and an accredited laboratory decide
+compliance.
 """
 
 #: Rows shown in the terminal table before it is shortened (see --all-rows).
@@ -76,7 +81,15 @@ def add_parser(sub) -> None:
                    help="L* step above which a step is flagged visible (default 2.3)")
     j.add_argument("--pwm-frequency", type=float, metavar="HZ",
                    help="PWM frequency: adds percent flicker, flicker index, IEEE 1789 region "
-                        "and SVM per step")
+                        "and SVM per step, for ideal on/off pulses (exact, vectorised)")
+    j.add_argument("--drive", metavar="DRIVE.toml",
+                   help="drive description (frequency_hz, off_level, [edges], [ripple], ...): "
+                        "per-step flicker of its modelled light through the measurement path "
+                        "(slower: one model per distinct count)")
+    j.add_argument("--target-region", choices=("low-risk", "no-observable-effect"),
+                   default="low-risk",
+                   help="IEEE 1789 region the table should stay in (default low-risk); the "
+                        "summary names the first step outside it")
     o = p.add_argument_group("output")
     o.add_argument("--format", choices=("table", "csv", "json", "c"), default="table",
                    help="table for the terminal (default), csv, json, or c (a C header)")
@@ -160,6 +173,7 @@ def build(args: argparse.Namespace):
     counter = make_counter(bits=args.bits, top=args.top, min_count=args.min_count)
     transfer = (read_transfer_csv(args.calibration, top=counter.top)
                 if args.calibration else None)
+    drive = read_drive(args.drive) if args.drive else None
     return build_table(
         args.steps, curve,
         min_level=None if args.min_percent is None else args.min_percent / 100.0,
@@ -167,7 +181,25 @@ def build(args: argparse.Namespace):
         bits=args.bits, top=args.top, min_count=args.min_count, rounding=args.rounding,
         transfer=transfer,
         visible_step=DEFAULT_VISIBLE_STEP if args.visible_step is None else args.visible_step,
-        pwm_frequency_hz=args.pwm_frequency, curve_params=params)
+        pwm_frequency_hz=args.pwm_frequency, curve_params=params, drive=drive,
+        target_region=args.target_region)
+
+
+def read_drive(path: str):
+    """A drive description from a TOML file (see :func:`flickerkit.drive.drive_from_mapping`)."""
+    import tomllib
+
+    from ..drive import drive_from_mapping
+    from ..errors import InputError
+
+    try:
+        with open(path, "rb") as fh:
+            data = tomllib.load(fh)
+    except OSError as exc:
+        raise InputError(f"cannot read ({exc.strerror or exc})", source=path) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML ({exc})", source=path) from None
+    return drive_from_mapping(data, source=path)
 
 
 def settings_record(args: argparse.Namespace) -> dict:
@@ -178,6 +210,7 @@ def settings_record(args: argparse.Namespace) -> dict:
         "off step": args.off, "bits": args.bits, "TOP": args.top, "minimum on-count":
         args.min_count, "rounding": args.rounding, "calibration file": args.calibration,
         "visible step [L*]": args.visible_step, "PWM frequency [Hz]": args.pwm_frequency,
+        "drive description": args.drive, "target IEEE 1789 region": args.target_region,
     }
 
 
