@@ -53,7 +53,7 @@ def run(args: argparse.Namespace) -> int:
     if not args.quiet:
         print(f"INVENTED demo: {demo.PRODUCT['name']} by {demo.PRODUCT['maker']}; "
               f"captures written to {folder}/", file=sys.stderr)
-    margs = ["measure", *captures, "--dark", str(paths[-1]), "--xlsx", str(workbook)]
+    margs = ["measure", *captures, "--dark", str(paths[-1]), "--xlsx", str(workbook), "-j", "1"]
     if args.force:
         margs.append("--force")
     if args.json:

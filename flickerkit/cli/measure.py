@@ -79,34 +79,42 @@ def add_parser(sub) -> None:
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
     o.add_argument("--force", action="store_true", help="replace an existing workbook")
     o.add_argument("-q", "--quiet", action="store_true", help="no progress or cautions on stderr")
+    add_batch_options(p)
     p.set_defaults(run=run)
 
 
+def add_batch_options(p: argparse.ArgumentParser) -> None:
+    """Options for measuring many captures at once."""
+    g = p.add_argument_group("many captures")
+    g.add_argument("-j", "--workers", type=int, metavar="N",
+                   help="worker processes (default: one per CPU; 1 = no workers)")
+    g.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run on a Dask distributed scheduler (tcp://host:8786) instead of "
+                        "local workers; needs the 'distributed' extra")
+
+
 def run(args: argparse.Namespace) -> int:
-    from ..errors import FlickerkitError, SettingsError
+    from ..errors import SettingsError
     from ..fileio import check_writable
 
     if args.harmonics < 1:
         raise SettingsError("--harmonics must be at least 1")
+    if args.workers is not None and args.workers < 1:
+        raise SettingsError("--workers must be at least 1")
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
-    from ..assess import AssessSettings, assess
-    from ..readers import read_capture
+    from ..assess import AssessSettings
 
     settings = AssessSettings(ieee1789_mode=args.ieee1789_mode, harmonics=args.harmonics)
-    options = read_options(args)
-    records, failed = [], 0
-    for path in _progress(args.captures, args.quiet):
-        try:
-            cap = read_capture(path, options)
-            records.append(assess(cap, settings).to_dict())
-        except FlickerkitError as exc:
-            failed += 1
-            print(f"flickerkit: error: {exc}", file=sys.stderr)
-    if failed:
-        if len(args.captures) > 1:
-            print(f"flickerkit: {failed} of {len(args.captures)} captures could not be "
-                  f"measured; nothing was written", file=sys.stderr)
+    outcomes = run_batch(args, args.captures, read_options(args), settings)
+    records = [o.record for o in outcomes if o.record is not None]
+    failed = [o for o in outcomes if o.record is None]
+    for o in failed:
+        print(f"flickerkit: error: {o.error}", file=sys.stderr)
+    if failed and len(outcomes) > 1:
+        print(f"flickerkit: {len(failed)} of {len(outcomes)} captures could not be measured"
+              + ("; the others are reported" if records else ""), file=sys.stderr)
+    if not records:
         return 1
     if args.json:
         from ..export.jsonout import dumps
@@ -124,7 +132,41 @@ def run(args: argparse.Namespace) -> int:
         from . import _CAUTION
 
         print(_CAUTION, file=sys.stderr, end="")
-    return 0
+    return 1 if failed else 0
+
+
+def run_batch(args: argparse.Namespace, paths: list[str], options, settings):
+    """Measure ``paths`` with the batch options; report progress and interruption."""
+    from ..batch import measure_many
+
+    bar = None
+    if not args.quiet and len(paths) >= 3:
+        from tqdm import tqdm
+
+        bar = tqdm(total=len(paths), file=sys.stderr, disable=None, unit="capture",
+                   leave=False)
+    done = []
+
+    def tick(outcome) -> None:
+        done.append(outcome)
+        if bar is not None:
+            bar.update(1)
+
+    try:
+        return measure_many(paths, options, settings, workers=args.workers,
+                            scheduler=args.scheduler, on_result=tick)
+    except KeyboardInterrupt:
+        if bar is not None:
+            bar.close()
+        raise _Interrupted(len(done), len(paths)) from None
+    finally:
+        if bar is not None:
+            bar.close()
+
+
+class _Interrupted(KeyboardInterrupt):
+    def __init__(self, done: int, total: int) -> None:
+        super().__init__(f"interrupted after {done} of {total} captures; no output was written")
 
 
 def settings_record(args: argparse.Namespace) -> dict:
@@ -140,14 +182,6 @@ def settings_record(args: argparse.Namespace) -> dict:
                                 "0.01f, 0.0333f (90-3000 Hz); recalled, not read in the "
                                 "standard (methods brief §2.2)",
     }
-
-
-def _progress(items, quiet: bool):
-    if len(items) < 3 or quiet:
-        return items
-    from tqdm import tqdm
-
-    return tqdm(items, file=sys.stderr, disable=None, unit="capture", leave=False)
 
 
 def summary_table(records: list[dict]) -> str:
