@@ -69,7 +69,8 @@ def pwm_series(duty: np.ndarray, frequency_hz: float,
     """
     f = float(frequency_hz)
     if not np.isfinite(f) or f <= 0:
-        raise SettingsError(f"PWM frequency must be a positive number of hertz, got {frequency_hz!r}")
+        raise SettingsError(
+            f"PWM frequency must be a positive number of hertz, got {frequency_hz!r}")
     d = np.asarray(duty, dtype=np.float64)
     k = np.arange(1, int(np.floor(f_max_hz / f * (1 + 1e-12))) + 1, dtype=np.float64)
     amps = 2.0 * np.abs(np.sinc(d[:, None] * k[None, :]))

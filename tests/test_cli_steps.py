@@ -158,3 +158,27 @@ def test_existing_output_needs_force(tmp_path, capsys):
     code, _, _ = run(capsys, "-n", "8", "--bits", "8", "--format", "csv", "-o", str(f),
                      "--force", "-q")
     assert code == 0 and f.read_text().startswith("step,count")
+
+
+def test_calibration_from_captures_matches_the_csv(tmp_path, capsys):
+    # invented product: dark up to count 60, then light rising; captures carry a dark offset
+    counts = [0, 30, 60, 120, 300, 600, 1023]
+    light = [0.0, 0.0, 0.0, 0.04, 0.22, 0.55, 1.0]
+    dark = 0.01
+    args = []
+    for c, v in zip(counts, light):
+        f = tmp_path / f"cap{c}.csv"
+        t = [i / 10000 for i in range(200)]
+        # constant light plus a zero-mean wiggle of 4 samples: the mean is v + dark
+        x = [v + dark + 0.001 * (1, -1, 1, -1)[i % 4] for i in range(200)]
+        f.write_text("time (s),light\n" + "".join(f"{a:.6f},{b:.6f}\n" for a, b in zip(t, x)))
+        args += ["--calibration-capture", f"{c}={f}"]
+    cal = tmp_path / "cal.csv"
+    cal.write_text("".join(f"{c},{v}\n" for c, v in zip(counts, light)))
+    _, a, _ = run(capsys, "-n", "20", "--bits", "10", "--dark", str(dark), *args,
+                  "--format", "json")
+    _, b, _ = run(capsys, "-n", "20", "--bits", "10", "--calibration", str(cal), "--format", "json")
+    ca = [s["count"] for s in json.loads(a)["steps"]]
+    assert ca == [s["count"] for s in json.loads(b)["steps"]]
+    code, _, err = run(capsys, "-n", "20", "--bits", "10", "--calibration-capture", "x=1")
+    assert code == 1 and "COUNT=CAPTURE" in err

@@ -17,7 +17,6 @@ from flickerkit.curves import (
     lightness,
     luminance,
     read_curve_csv,
-    user_curve,
 )
 from flickerkit.errors import InputError, SettingsError
 

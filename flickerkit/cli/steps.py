@@ -29,6 +29,8 @@ examples:
   flickerkit steps -n 100 --curve gamma --gamma 2.2 --min 0.5 --top 47999 --min-count 8
   flickerkit steps -n 64 --bits 12 --format c --name fade_table -o fade_table.h
   flickerkit steps -n 128 --bits 16 --calibration measured.csv --format json
+  flickerkit steps -n 64 --bits 12 --dark 0.002 --calibration-capture 40=c40.csv \
+      --calibration-capture 400=c400.csv --calibration-capture 4095=c4095.csv
   flickerkit steps -n 64 --bits 10 --pwm-frequency 2000 --xlsx table.xlsx
   flickerkit steps -n 32 --bits 12 --drive driver.toml --target-region no-observable-effect
 
@@ -73,9 +75,14 @@ def add_parser(sub) -> None:
     c.add_argument("--rounding", choices=("distinct", "nearest"), default="distinct",
                    help="distinct: keep steps apart where the counter has a count between "
                         "them (default); nearest: plain rounding of each step")
-    c.add_argument("--calibration", metavar="CSV",
-                   help="measured light of the product: rows 'count,light' (dark level "
-                        "removed, full scale included); the table is built on it")
+    cal = c.add_mutually_exclusive_group()
+    cal.add_argument("--calibration", metavar="CSV",
+                     help="measured light of the product: rows 'count,light' (dark level "
+                          "removed, full scale included); the table is built on it")
+    cal.add_argument("--calibration-capture", action="append", metavar="COUNT=CAPTURE",
+                     help="a light capture taken at a count (repeat for each count, full "
+                          "scale included); its mean is the measured light. Captures are "
+                          "read as by 'flickerkit measure' (see the reading options, --dark)")
     j = p.add_argument_group("judgement")
     j.add_argument("--visible-step", type=float, default=None, metavar="DL",
                    help="L* step above which a step is flagged visible (default 2.3)")
@@ -90,6 +97,9 @@ def add_parser(sub) -> None:
                    default="low-risk",
                    help="IEEE 1789 region the table should stay in (default low-risk); the "
                         "summary names the first step outside it")
+    from .measure import add_read_options
+
+    add_read_options(p)
     o = p.add_argument_group("output")
     o.add_argument("--format", choices=("table", "csv", "json", "c"), default="table",
                    help="table for the terminal (default), csv, json, or c (a C header)")
@@ -171,8 +181,11 @@ def build(args: argparse.Namespace):
             raise SettingsError("--gamma belongs to --curve gamma")
         params["gamma"] = args.gamma
     counter = make_counter(bits=args.bits, top=args.top, min_count=args.min_count)
-    transfer = (read_transfer_csv(args.calibration, top=counter.top)
-                if args.calibration else None)
+    transfer = None
+    if args.calibration:
+        transfer = read_transfer_csv(args.calibration, top=counter.top)
+    elif args.calibration_capture:
+        transfer = transfer_from_files(args, counter.top)
     drive = read_drive(args.drive) if args.drive else None
     return build_table(
         args.steps, curve,
@@ -183,6 +196,28 @@ def build(args: argparse.Namespace):
         visible_step=DEFAULT_VISIBLE_STEP if args.visible_step is None else args.visible_step,
         pwm_frequency_hz=args.pwm_frequency, curve_params=params, drive=drive,
         target_region=args.target_region)
+
+
+def transfer_from_files(args: argparse.Namespace, top: int):
+    """The product's transfer from ``COUNT=CAPTURE`` options (the mean light of each)."""
+    from ..errors import SettingsError
+    from ..readers import read_capture
+    from ..steps import transfer_from_captures
+    from .measure import read_options
+
+    counts, captures = [], []
+    options = read_options(args)
+    for item in args.calibration_capture:
+        count, sep, path = item.partition("=")
+        try:
+            c = int(count)
+        except ValueError:
+            c = None
+        if not sep or c is None or not path:
+            raise SettingsError(f"--calibration-capture wants COUNT=CAPTURE, got {item!r}")
+        counts.append(c)
+        captures.append(read_capture(path, options))
+    return transfer_from_captures(counts, captures, top=top, source="calibration captures")
 
 
 def read_drive(path: str):
@@ -209,6 +244,8 @@ def settings_record(args: argparse.Namespace) -> dict:
         "gamma": args.gamma, "min level [%]": args.min_percent, "max level [%]": args.max_percent,
         "off step": args.off, "bits": args.bits, "TOP": args.top, "minimum on-count":
         args.min_count, "rounding": args.rounding, "calibration file": args.calibration,
+        "calibration captures": ", ".join(args.calibration_capture or []) or None,
+        "dark level option": args.dark,
         "visible step [L*]": args.visible_step, "PWM frequency [Hz]": args.pwm_frequency,
         "drive description": args.drive, "target IEEE 1789 region": args.target_region,
     }
