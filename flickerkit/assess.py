@@ -22,6 +22,8 @@ from .errors import CaptureWarning, FlickerkitWarning, InputError
 from .periodicity import Periodicity, fundamental_frequency
 from .spectrum import Spectrum, modulation_spectrum
 
+#: Fewest samples an assessment accepts (less holds no usable modulation; project choice).
+MIN_SAMPLES = 16
 #: Fewest whole periods for stable figures (common practice, no source).
 MIN_PERIODS = 2
 #: Fewest samples per period for time-domain percent flicker and flicker
@@ -205,6 +207,9 @@ def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessme
     settings = settings or AssessSettings()
     x = capture.samples
     where = capture.source or capture.label or None
+    if capture.n_samples < MIN_SAMPLES:
+        raise InputError(f"capture holds {capture.n_samples} samples; at least {MIN_SAMPLES} "
+                         f"are needed", source=where)
     hi = float(np.max(x))
     lo = float(np.min(x))
     if hi == 0.0 and lo == 0.0:
