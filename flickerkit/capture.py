@@ -40,8 +40,11 @@ class Capture:
     quantity : str
         ``"light"`` or ``"voltage"``.
     notes : tuple of str
-        Findings of the reader that later reports must carry (gaps filled,
-        resampling, dark level applied, ...).
+        Provenance that later reports must carry (gaps filled, resampling,
+        dark level applied, ...).
+    warnings : tuple of str
+        Doubts the reader found (clipping at the recorder's rail, ...);
+        :func:`flickerkit.assess.assess` adds them to its own.
     meta : Mapping
         Free provenance fields (column, dark level, file size, ...).
     """
@@ -52,6 +55,7 @@ class Capture:
     source: str = ""
     quantity: str = "light"
     notes: tuple[str, ...] = ()
+    warnings: tuple[str, ...] = ()
     meta: Mapping[str, Any] = field(default_factory=dict)
 
     @property
@@ -73,6 +77,7 @@ def make_capture(
     source: str = "",
     quantity: str = "light",
     notes: tuple[str, ...] | list[str] = (),
+    warnings: tuple[str, ...] | list[str] = (),
     meta: Mapping[str, Any] | None = None,
 ) -> Capture:
     """Validate samples and wrap them in a :class:`Capture`.
@@ -84,7 +89,7 @@ def make_capture(
         float64 array is kept as it is, not copied).
     sample_rate_hz : float
         Sample rate [Hz]; finite and positive.
-    label, source, quantity, notes, meta
+    label, source, quantity, notes, warnings, meta
         See :class:`Capture`.
 
     Returns
@@ -122,4 +127,5 @@ def make_capture(
     if quantity not in QUANTITIES:
         raise InputError(f"quantity must be one of {QUANTITIES}, got {quantity!r}", source=where)
     return Capture(samples=x, sample_rate_hz=rate, label=label, source=source,
-                   quantity=quantity, notes=tuple(notes), meta=dict(meta or {}))
+                   quantity=quantity, notes=tuple(notes), warnings=tuple(warnings),
+                   meta=dict(meta or {}))

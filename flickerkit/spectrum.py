@@ -10,6 +10,7 @@ flagged as such.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -30,9 +31,8 @@ class Spectrum:
     amplitudes : numpy.ndarray
         C_k = single-sided amplitude of bin k divided by the mean; C_0 = 0
         [unitless]. For ``1 + m sin(2 pi f t)``, C at f is m.
-    phases_rad : numpy.ndarray
-        Phase of each bin (cosine convention, relative to the first sample
-        used) [rad].
+    coefficients : numpy.ndarray
+        The complex DFT of the span (windowed when ``window == "hann"``).
     mean : float
         Mean of the samples used [input unit].
     n_samples : int
@@ -49,13 +49,22 @@ class Spectrum:
 
     frequencies_hz: np.ndarray
     amplitudes: np.ndarray
-    phases_rad: np.ndarray
+    coefficients: np.ndarray
     mean: float
     n_samples: int
     start: int
     whole_periods: int
     fundamental_hz: float | None
     window: str
+
+    @cached_property
+    def phases_rad(self) -> np.ndarray:
+        """Phase of each bin, cosine convention, relative to the first sample [rad]."""
+        return np.angle(self.coefficients)
+
+    def phase_at(self, bins: np.ndarray) -> np.ndarray:
+        """Phases of selected bins only (cheaper than :attr:`phases_rad`) [rad]."""
+        return np.angle(self.coefficients[bins])
 
     @property
     def resolution_hz(self) -> float:
@@ -191,12 +200,11 @@ def modulation_spectrum(
     amps[0] = 0.0
     if n_span % 2 == 0 and amps.size > 1:
         amps[-1] /= 2.0  # the Nyquist bin is not doubled in a real signal
-    phases = np.angle(spec)
     freqs = np.arange(spec.shape[0]) * (sample_rate_hz / n_span)
     return Spectrum(
         frequencies_hz=freqs,
         amplitudes=amps,
-        phases_rad=phases,
+        coefficients=spec,
         mean=float(mean),
         n_samples=int(n_span),
         start=0,

@@ -73,8 +73,9 @@ def main(argv: list[str] | None = None) -> int:
     except FlickerkitError as exc:
         print(f"flickerkit: error: {exc}", file=sys.stderr)
         return 1
-    except KeyboardInterrupt:
-        print("flickerkit: interrupted; no partial output was left", file=sys.stderr)
+    except KeyboardInterrupt as exc:
+        detail = str(exc) or "no partial output was left"
+        print(f"flickerkit: interrupted: {detail}", file=sys.stderr)
         return 130
     except BrokenPipeError:
         return 1

@@ -1,0 +1,332 @@
+"""One assessment of a capture: every figure computed once, for every report.
+
+``assess`` runs period finding, the modulation spectrum, the metrics and the
+IEEE 1789 placement for a :class:`~flickerkit.capture.Capture` -- measured or
+modelled -- and returns a frozen :class:`Assessment` that the terminal table,
+JSON, workbook and criteria all read. Warnings raised on the way (the
+project's :class:`~flickerkit.errors.FlickerkitWarning`) are collected into the
+result, so they reach every report.
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from . import ieee1789, metrics
+from .capture import Capture
+from .errors import CaptureWarning, FlickerkitWarning, InputError
+from .periodicity import Periodicity, fundamental_frequency
+from .spectrum import Spectrum, modulation_spectrum
+
+#: Fewest whole periods for stable figures (common practice, no source).
+MIN_PERIODS = 2
+#: Fewest samples per period for time-domain percent flicker and flicker
+#: index (methods brief §6.2: duty quantisation errors below this).
+MIN_SAMPLES_PER_PERIOD = 10
+#: A percent flicker below this many times the noise floor is called noise-limited.
+NOISE_MARGIN = 3.0
+
+
+@dataclass(frozen=True)
+class AssessSettings:
+    """Choices that change an assessment.
+
+    Attributes
+    ----------
+    ieee1789_mode : str
+        Which IEEE 1789 mode gives the headline region: ``"fundamental"``
+        (overall percent flicker at the fundamental) or ``"per-harmonic"``.
+    harmonics : int
+        How many harmonics to report.
+    """
+
+    ieee1789_mode: str = "fundamental"
+    harmonics: int = 20
+
+    def __post_init__(self) -> None:
+        if self.ieee1789_mode not in ("fundamental", "per-harmonic"):
+            raise ValueError(f"ieee1789_mode must be 'fundamental' or 'per-harmonic', "
+                             f"got {self.ieee1789_mode!r}")
+        if self.harmonics < 1:
+            raise ValueError("harmonics must be at least 1")
+
+
+@dataclass(frozen=True)
+class Harmonic:
+    """One Fourier component of the modulation.
+
+    Attributes
+    ----------
+    order : int
+        1 for the fundamental.
+    frequency_hz : float
+        [Hz].
+    amplitude : float
+        Amplitude relative to the mean, C_k [unitless].
+    phase_deg : float
+        Phase, cosine convention, relative to the first sample [degree].
+    """
+
+    order: int
+    frequency_hz: float
+    amplitude: float
+    phase_deg: float
+
+
+@dataclass(frozen=True)
+class Assessment:
+    """Every figure of one capture. Read by all reports; never recomputed there.
+
+    Light levels (mean, minimum, maximum) are in the capture's own unit.
+    """
+
+    label: str
+    source: str
+    quantity: str
+    sample_rate_hz: float
+    n_samples: int
+    duration_s: float
+    mean: float
+    minimum: float
+    maximum: float
+    periodicity: Periodicity
+    frequency_hz: float | None
+    periods: int
+    samples_per_period: float | None
+    percent_flicker: float
+    flicker_index: float
+    percent_flicker_averaged: float | None
+    per_period: metrics.PeriodStats
+    noise_rms: float
+    noise_percent_flicker: float
+    spectrum: Spectrum = field(repr=False)
+    harmonics: tuple[Harmonic, ...]
+    ieee1789_fundamental: ieee1789.Ieee1789Result | None
+    ieee1789_per_harmonic: ieee1789.Ieee1789Result | None
+    warnings: tuple[str, ...]
+    notes: tuple[str, ...]
+    settings: AssessSettings
+    meta: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def ieee1789(self) -> ieee1789.Ieee1789Result | None:
+        """The headline IEEE 1789 result, in the mode the settings chose."""
+        if self.settings.ieee1789_mode == "per-harmonic" and self.ieee1789_per_harmonic:
+            return self.ieee1789_per_harmonic
+        return self.ieee1789_fundamental
+
+    def to_dict(self) -> dict[str, Any]:
+        """The public JSON object of this assessment (keys are a stable interface)."""
+        def num(v: float | None) -> float | None:
+            return None if v is None or not np.isfinite(v) else float(v)
+
+        def ieee(r: ieee1789.Ieee1789Result | None) -> dict[str, Any] | None:
+            if r is None:
+                return None
+            return {
+                "region": r.region,
+                "mode": r.mode,
+                "frequency_hz": num(r.frequency_hz),
+                "modulation_percent": num(r.modulation_percent),
+                "low_risk_limit_percent": num(r.low_risk_limit_percent),
+                "noel_limit_percent": num(r.noel_limit_percent),
+                "low_risk_margin_percent": num(r.low_risk_margin_percent),
+                "noel_margin_percent": num(r.noel_margin_percent),
+                "harmonic": r.harmonic,
+            }
+
+        head = ieee(self.ieee1789)
+        if head is not None:
+            head["fundamental"] = ieee(self.ieee1789_fundamental)
+            head["per_harmonic"] = ieee(self.ieee1789_per_harmonic)
+        return {
+            "label": self.label,
+            "source": self.source,
+            "quantity": self.quantity,
+            "sample_rate_hz": num(self.sample_rate_hz),
+            "n_samples": self.n_samples,
+            "duration_s": num(self.duration_s),
+            "mean": num(self.mean),
+            "min": num(self.minimum),
+            "max": num(self.maximum),
+            "frequency_hz": num(self.frequency_hz),
+            "periods": self.periods,
+            "samples_per_period": num(self.samples_per_period),
+            "percent_flicker": num(self.percent_flicker),
+            "flicker_index": num(self.flicker_index),
+            "percent_flicker_averaged": num(self.percent_flicker_averaged),
+            "per_period": {
+                "count": self.per_period.count,
+                "percent_flicker_median": num(self.per_period.percent_flicker_median),
+                "percent_flicker_worst": num(self.per_period.percent_flicker_worst),
+                "flicker_index_median": num(self.per_period.flicker_index_median),
+                "flicker_index_worst": num(self.per_period.flicker_index_worst),
+            },
+            "noise": {
+                "rms_relative": num(self.noise_rms / self.mean) if self.mean > 0 else None,
+                "percent_flicker_floor": num(self.noise_percent_flicker),
+                "spectrum_floor": num(self.spectrum.noise_floor()),
+            },
+            "ieee1789": head,
+            "harmonics": [
+                {"order": h.order, "frequency_hz": num(h.frequency_hz),
+                 "amplitude": num(h.amplitude), "phase_deg": num(h.phase_deg)}
+                for h in self.harmonics
+            ],
+            "spectrum_window": self.spectrum.window,
+            "warnings": list(self.warnings),
+            "notes": list(self.notes),
+        }
+
+
+def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessment:
+    """Compute every figure of a light capture.
+
+    Parameters
+    ----------
+    capture : Capture
+        Validated light signal, dark level already removed.
+    settings : AssessSettings, optional
+        Defaults to ``AssessSettings()``.
+
+    Returns
+    -------
+    Assessment
+
+    Raises
+    ------
+    InputError
+        If the capture is dark (all zero) or its mean light is not positive.
+    """
+    settings = settings or AssessSettings()
+    x = capture.samples
+    where = capture.source or capture.label or None
+    hi = float(np.max(x))
+    lo = float(np.min(x))
+    if hi == 0.0 and lo == 0.0:
+        raise InputError("capture is dark: every sample is zero", source=where)
+    if float(np.mean(x)) <= 0:
+        raise InputError("mean light is not positive: check the dark level and the "
+                         "detector's polarity", source=where)
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", FlickerkitWarning)
+        result = _assess(capture, settings, hi, lo)
+    found = list(capture.warnings)
+    found += [str(w.message) for w in caught if issubclass(w.category, FlickerkitWarning)]
+    return _with_warnings(result, found)
+
+
+def _with_warnings(a: Assessment, more: list[str]) -> Assessment:
+    from dataclasses import replace
+
+    merged = tuple(dict.fromkeys([*a.warnings, *more]))
+    return replace(a, warnings=merged)
+
+
+def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) -> Assessment:
+    x = capture.samples
+    fs = capture.sample_rate_hz
+    n = capture.n_samples
+    warn: list[str] = []
+
+    period = fundamental_frequency(x, fs)
+    spec = modulation_spectrum(x, fs, period)
+    template = None
+    if (period.period_samples is not None and period.period_samples >= 4
+            and period.periods >= MIN_PERIODS):
+        template, noise = metrics.periodic_average_and_noise(x, period.period_samples)
+    else:
+        noise = metrics.noise_rms(x)
+
+    if period.frequency_hz is not None:
+        bounds = metrics.period_bounds(period.periods, period.period_samples, n)
+        span = x[: bounds[-1]]
+        per = metrics.per_period_stats(x, bounds)
+        spp = float(period.period_samples)
+        if period.periods < MIN_PERIODS:
+            warnings.warn(CaptureWarning(
+                f"capture holds {period.periods} period of its {period.frequency_hz:.4g} Hz "
+                f"modulation; at least {MIN_PERIODS} are needed for stable figures"))
+        if spp < MIN_SAMPLES_PER_PERIOD:
+            warnings.warn(CaptureWarning(
+                f"sample rate {fs:.6g} Hz gives {spp:.3g} samples per period of the "
+                f"{period.frequency_hz:.4g} Hz modulation; at least {MIN_SAMPLES_PER_PERIOD} "
+                f"are needed, so percent flicker and flicker index may be off"))
+    else:
+        span = x
+        per = metrics.per_period_stats(x, np.array([0, n]))
+        spp = None
+        warnings.warn(CaptureWarning(
+            f"no periodic modulation found ({period.reason}); percent flicker and flicker "
+            f"index are over the whole capture and the spectrum is Hann-windowed"))
+
+    pf = metrics.percent_flicker(span)
+    pf_avg = metrics.percent_flicker(template) if template is not None else None
+    fi = metrics.flicker_index(span)
+    mean = float(np.mean(span))
+    noise_pf = metrics.noise_percent_flicker(noise, mean, spp if spp else n)
+    if noise > 0 and np.isfinite(noise_pf) and pf < NOISE_MARGIN * noise_pf:
+        warnings.warn(CaptureWarning(
+            f"percent flicker {pf:.3g} % is within {NOISE_MARGIN:g}x of the noise floor "
+            f"({noise_pf:.2g} %): it is noise-limited, not a measure of modulation"
+            + (f"; the period-averaged waveform gives {pf_avg:.3g} %" if pf_avg is not None
+               else "")))
+    # noise alone reaches about -sigma sqrt(2 ln n) below a zero off-level
+    noise_reach = (np.sqrt(2.0 * np.log(max(n, 2))) + 2.0) * noise
+    if lo < 0 and lo < -max(noise_reach, 1e-9 * abs(hi)):
+        warnings.warn(CaptureWarning(
+            f"light goes negative (minimum {lo:.4g}, mean {mean:.4g}): the dark level may "
+            f"be too high or the detector offset drifted; ratio metrics are biased"))
+    if metrics.suspected_clipping(x, noise):
+        warnings.warn(CaptureWarning(
+            f"clipping suspected: {metrics.fraction_at_max(x):.1%} of samples sit exactly at "
+            f"the maximum {hi:.6g} while the rest is noisy; the recorder's range may be too "
+            f"small, which lowers percent flicker"))
+
+    harmonics: list[Harmonic] = []
+    bins = spec.harmonic_bins()
+    shown = bins[: settings.harmonics]
+    for order, (b, ph) in enumerate(zip(shown, spec.phase_at(shown)), start=1):
+        harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
+                                  float(spec.amplitudes[b]), float(np.degrees(ph))))
+
+    fund = per_h = None
+    if period.frequency_hz is not None:
+        fund = ieee1789.classify(period.frequency_hz, pf)
+        if bins.size:
+            per_h = ieee1789.classify_components(spec.frequencies_hz[bins], spec.amplitudes[bins])
+
+    return Assessment(
+        label=capture.label,
+        source=capture.source,
+        quantity=capture.quantity,
+        sample_rate_hz=fs,
+        n_samples=n,
+        duration_s=capture.duration_s,
+        mean=mean,
+        minimum=lo,
+        maximum=hi,
+        periodicity=period,
+        frequency_hz=period.frequency_hz,
+        periods=period.periods,
+        samples_per_period=spp,
+        percent_flicker=pf,
+        flicker_index=fi,
+        percent_flicker_averaged=pf_avg,
+        per_period=per,
+        noise_rms=noise,
+        noise_percent_flicker=noise_pf,
+        spectrum=spec,
+        harmonics=tuple(harmonics),
+        ieee1789_fundamental=fund,
+        ieee1789_per_harmonic=per_h,
+        warnings=tuple(warn),
+        notes=capture.notes,
+        settings=settings,
+        meta=dict(capture.meta),
+    )

@@ -1,0 +1,153 @@
+"""Many captures at once: a pure map of ``measure_one`` over files.
+
+The work item is a file path plus settings; the result is the assessment's
+JSON object or the one-line error, so results can cross process (or machine)
+boundaries and come back in input order. Local worker processes are the
+default; an optional Dask distributed scheduler runs the same map across
+machines (``pip install 'flickerkit[distributed]'``).
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+from dataclasses import dataclass
+from typing import Any, Callable, Iterable, Sequence
+
+from .assess import AssessSettings
+from .readers import ReadOptions
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """What became of one capture.
+
+    Attributes
+    ----------
+    path : str
+        The capture file.
+    record : dict or None
+        ``Assessment.to_dict()`` when it was measured.
+    error : str or None
+        The error line when it was not.
+    """
+
+    path: str
+    record: dict[str, Any] | None
+    error: str | None = None
+
+
+def measure_one(path: str, options: ReadOptions, settings: AssessSettings) -> Outcome:
+    """Read and assess one capture; project errors become ``Outcome.error``.
+
+    Pure apart from reading the file: the same inputs give the same outcome
+    in any process.
+    """
+    from .assess import assess
+    from .errors import FlickerkitError
+    from .readers import read_capture
+
+    try:
+        return Outcome(path, assess(read_capture(path, options), settings).to_dict())
+    except FlickerkitError as exc:
+        return Outcome(path, None, str(exc))
+    except MemoryError:
+        return Outcome(path, None, f"{path}: not enough memory to measure this capture")
+
+
+def _ignore_sigint() -> None:  # worker initialiser: the parent handles Ctrl-C
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+def _star(job: tuple[str, ReadOptions, AssessSettings]) -> Outcome:
+    return measure_one(*job)
+
+
+def default_workers() -> int:
+    """Worker processes used by default: the CPUs this process may run on."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - not on Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def measure_many(
+    paths: Sequence[str],
+    options: ReadOptions,
+    settings: AssessSettings,
+    *,
+    workers: int | None = None,
+    scheduler: str | None = None,
+    on_result: Callable[[Outcome], None] | None = None,
+) -> list[Outcome]:
+    """Measure captures, in parallel, returning outcomes in input order.
+
+    Parameters
+    ----------
+    paths : sequence of str
+        Capture files.
+    options, settings
+        Passed to every :func:`measure_one`.
+    workers : int, optional
+        Local worker processes; default :func:`default_workers`. 1 runs in
+        this process.
+    scheduler : str, optional
+        Address of a Dask distributed scheduler (``tcp://host:8786``) to run
+        the map on instead of local processes. Needs the ``distributed`` extra.
+    on_result : callable, optional
+        Called with each outcome as it arrives, in input order (for progress).
+
+    Returns
+    -------
+    list of Outcome
+        One per path, in the order given, whatever the worker count.
+
+    Raises
+    ------
+    KeyboardInterrupt
+        Passed on after pending work is cancelled; outcomes received so far
+        were handed to ``on_result``.
+    """
+    jobs = [(str(p), options, settings) for p in paths]
+    if scheduler:
+        return _on_dask(jobs, scheduler, on_result)
+    n = workers if workers is not None else default_workers()
+    if n <= 1 or len(jobs) <= 1:
+        return list(_each(map(_star, jobs), on_result))
+    from concurrent.futures import ProcessPoolExecutor
+
+    chunk = max(1, min(32, len(jobs) // (4 * n)))
+    pool = ProcessPoolExecutor(max_workers=min(n, len(jobs)), initializer=_ignore_sigint)
+    try:
+        out = list(_each(pool.map(_star, jobs, chunksize=chunk), on_result))
+    except BaseException:
+        pool.shutdown(wait=False, cancel_futures=True)
+        raise
+    pool.shutdown()
+    return out
+
+
+def _each(results: Iterable[Outcome], on_result) -> Iterable[Outcome]:
+    for r in results:
+        if on_result:
+            on_result(r)
+        yield r
+
+
+def _on_dask(jobs, address: str, on_result) -> list[Outcome]:
+    from .errors import SettingsError
+
+    try:
+        from distributed import Client
+    except ImportError:
+        raise SettingsError("--scheduler needs Dask distributed: pip install "
+                            "'flickerkit[distributed]'") from None
+    try:
+        client = Client(address, timeout=10, set_as_default=False)
+    except (OSError, TimeoutError) as exc:
+        raise SettingsError(f"cannot reach the scheduler at {address} ({exc})") from None
+    try:
+        futures = client.map(_star, jobs, pure=False)
+        return list(_each((f.result() for f in futures), on_result))
+    finally:
+        client.close()

@@ -1,0 +1,66 @@
+"""``flickerkit demo``: the invented example product, end to end."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+HELP = "write invented captures of an invented product and measure them"
+
+DESCRIPTION = """\
+Write captures of an INVENTED product (a made-up hybrid-driver downlight at
+five dimming levels, in five different file layouts, plus a dark capture) to
+a folder, measure them exactly as 'flickerkit measure' would, print the
+summary and leave a workbook beside them. Nothing here describes a real
+product or a real measurement.
+
+example:
+  flickerkit demo                    # into ./flickerkit-demo
+  flickerkit demo --out /tmp/demo --force
+"""
+
+
+def add_parser(sub) -> None:
+    p = sub.add_parser("demo", help=HELP, description=DESCRIPTION,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("--out", default="flickerkit-demo", metavar="FOLDER",
+                   help="folder for the invented captures and the workbook "
+                        "(default ./flickerkit-demo)")
+    p.add_argument("--force", action="store_true", help="replace an earlier demo's files")
+    p.add_argument("--json", action="store_true", help="print the JSON instead of the table")
+    p.add_argument("-q", "--quiet", action="store_true", help="no cautions on stderr")
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from ..errors import OutputError
+    from .. import demo
+    from . import measure
+
+    folder = Path(args.out)
+    workbook = folder / "ardent12_measurement.xlsx"
+    if folder.exists() and not folder.is_dir():
+        raise OutputError(f"{folder}: exists and is not a folder")
+    if (folder / demo.CAPTURES[0].filename).exists() and not args.force:
+        raise OutputError(f"{folder}: holds an earlier demo; use --force to replace it")
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"{folder}: cannot be created ({exc.strerror})") from None
+    paths = demo.write_captures(folder)
+    captures = [str(p) for p in paths[:-1]]
+    if not args.quiet:
+        print(f"INVENTED demo: {demo.PRODUCT['name']} by {demo.PRODUCT['maker']}; "
+              f"captures written to {folder}/", file=sys.stderr)
+    margs = ["measure", *captures, "--dark", str(paths[-1]), "--xlsx", str(workbook), "-j", "1"]
+    if args.force:
+        margs.append("--force")
+    if args.json:
+        margs.append("--json")
+    if args.quiet:
+        margs.append("--quiet")
+    from . import build_parser
+
+    ns = build_parser().parse_args(margs)
+    return measure.run(ns)

@@ -1,0 +1,93 @@
+"""Writing output files safely: a temporary file in the same folder, then a rename.
+
+An interrupted or failed run never leaves a half-written file, and never
+replaces an existing file unless asked to.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import tempfile
+from pathlib import Path
+from typing import Callable, Iterator
+
+from .errors import OutputError
+
+
+def check_writable(path: str | os.PathLike[str], *, force: bool = False) -> Path:
+    """Check, before any work is done, that ``path`` can be created.
+
+    Parameters
+    ----------
+    path : str or path-like
+        Output file.
+    force : bool
+        Allow replacing an existing file.
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    OutputError
+        If the folder does not exist or is not writable, the path is a folder,
+        or the file exists and ``force`` is false.
+    """
+    p = Path(path)
+    folder = p.parent if str(p.parent) else Path(".")
+    if p.is_dir():
+        raise OutputError(f"{p}: is a folder; give a file name")
+    if p.exists() and not force:
+        raise OutputError(f"{p}: exists; use --force to replace it")
+    if not folder.is_dir():
+        raise OutputError(f"{p}: folder {folder} does not exist")
+    if not os.access(folder, os.W_OK):
+        raise OutputError(f"{p}: folder {folder} is not writable")
+    return p
+
+
+@contextlib.contextmanager
+def atomic_path(path: str | os.PathLike[str], *, force: bool = False) -> Iterator[Path]:
+    """Yield a temporary path beside ``path``; rename it onto ``path`` on success.
+
+    On any exception (including KeyboardInterrupt) the temporary file is
+    removed and ``path`` is left as it was.
+    """
+    p = Path(path)
+    check_writable(p, force=force)
+    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".part", dir=p.parent or ".")
+    os.close(fd)
+    tmp_path = Path(tmp)
+    try:
+        yield tmp_path
+        if p.exists() and not force:
+            raise OutputError(f"{p}: appeared while writing; use --force to replace it")
+        os.replace(tmp_path, p)
+    except OSError as exc:
+        tmp_path.unlink(missing_ok=True)
+        if isinstance(exc, OutputError):
+            raise
+        raise OutputError(f"{p}: cannot be written ({exc.strerror or exc})") from None
+    except BaseException:
+        tmp_path.unlink(missing_ok=True)
+        raise
+
+
+def write_text(path: str | os.PathLike[str], text: str, *, force: bool = False) -> Path:
+    """Write text atomically (UTF-8, ``\\n`` line ends)."""
+    with atomic_path(path, force=force) as tmp:
+        with open(tmp, "w", encoding="utf-8", newline="\n") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+    return Path(path)
+
+
+def write_with(path: str | os.PathLike[str], writer: Callable[[Path], None], *,
+               force: bool = False) -> Path:
+    """Call ``writer(tmp_path)`` and move the result onto ``path`` atomically."""
+    with atomic_path(path, force=force) as tmp:
+        writer(tmp)
+    return Path(path)

@@ -1,0 +1,242 @@
+"""IEEE Std 1789-2015 recommended-practice boundaries for modulation and frequency.
+
+Boundaries (Recommended Practices 1 and 2 of clause 8), as recalled in the
+project's methods brief ``flicker-metrics.md`` §2.2 -- *from memory, not read
+in the standard*; they are internally consistent (each line reaches 100 %
+modulation exactly at its upper breakpoint):
+
+=======================  ===============  ========================  =============
+region                   below 90 Hz      90 Hz <= f <= upper        above upper
+=======================  ===============  ========================  =============
+low risk (RP1)           Mod% < 0.025 f   Mod% < 0.08 f  (1250 Hz)   no restriction
+no observable effect     Mod% < 0.01 f    Mod% < 0.0333 f (3000 Hz)  no restriction
+=======================  ===============  ========================  =============
+
+Edge semantics chosen here (documented, tested): the comparison is strict
+(``<``); f = 90 Hz belongs to the upper segment; at exactly 1250 Hz (3000 Hz)
+the line applies, above it there is no restriction.
+
+IEEE 1789 states its practices for a waveform's flicker frequency and its
+overall modulation. The "fundamental" mode does exactly that. The
+"per-harmonic" mode, an addition of this project and labelled so, tests each
+Fourier component k at its own frequency with ``Mod%_k = 100 C_k`` and
+reports the worst.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Regions, best first.
+REGIONS = ("no-observable-effect", "low-risk", "above-low-risk")
+
+#: Breakpoints and slopes [Hz], [percent per Hz] (methods brief §2.2, [M]).
+LOW_FREQUENCY_BREAK_HZ = 90.0
+LOW_RISK_SLOPES = (0.025, 0.08)
+LOW_RISK_EXEMPT_ABOVE_HZ = 1250.0
+NOEL_SLOPES = (0.01, 0.0333)
+NOEL_EXEMPT_ABOVE_HZ = 3000.0
+
+
+def _limit(f_hz, slopes, exempt_above_hz) -> np.ndarray | float:
+    f = np.asarray(f_hz, dtype=np.float64)
+    lim = np.where(f < LOW_FREQUENCY_BREAK_HZ, slopes[0] * f, slopes[1] * f)
+    lim = np.where(f > exempt_above_hz, np.inf, lim)
+    lim = np.where(f > 0, lim, 0.0)
+    return float(lim) if lim.ndim == 0 else lim
+
+
+def low_risk_limit_percent(f_hz):
+    """Largest modulation that is low-risk at a frequency (IEEE 1789 RP1).
+
+    Parameters
+    ----------
+    f_hz : float or array_like
+        Modulation frequency [Hz].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Limit of Mod% (strict: the modulation must be below it) [percent];
+        ``inf`` above 1250 Hz, 0 at or below 0 Hz.
+
+    References
+    ----------
+    IEEE Std 1789-2015, clause 8, Recommended Practice 1 (as recalled in the
+    methods brief §2.2; not read in the standard).
+
+    Examples
+    --------
+    >>> low_risk_limit_percent(100.0)
+    8.0
+    """
+    return _limit(f_hz, LOW_RISK_SLOPES, LOW_RISK_EXEMPT_ABOVE_HZ)
+
+
+def noel_limit_percent(f_hz):
+    """Largest modulation with no observable effect (IEEE 1789 RP2).
+
+    Parameters
+    ----------
+    f_hz : float or array_like
+        Modulation frequency [Hz].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Limit of Mod% [percent]; ``inf`` above 3000 Hz.
+
+    References
+    ----------
+    IEEE Std 1789-2015, clause 8, Recommended Practice 2 (as recalled in the
+    methods brief §2.2; not read in the standard).
+    """
+    return _limit(f_hz, NOEL_SLOPES, NOEL_EXEMPT_ABOVE_HZ)
+
+
+def region_of(f_hz, modulation_percent) -> np.ndarray | str:
+    """IEEE 1789 region of (frequency, modulation) points.
+
+    Parameters
+    ----------
+    f_hz : float or array_like
+        Modulation frequency [Hz].
+    modulation_percent : float or array_like
+        Modulation depth (percent flicker) [percent].
+
+    Returns
+    -------
+    str or numpy.ndarray of str
+        One of :data:`REGIONS` per point.
+    """
+    f = np.asarray(f_hz, dtype=np.float64)
+    m = np.asarray(modulation_percent, dtype=np.float64)
+    out = np.where(m < noel_limit_percent(f), REGIONS[0],
+                   np.where(m < low_risk_limit_percent(f), REGIONS[1], REGIONS[2]))
+    return str(out) if out.ndim == 0 else out
+
+
+@dataclass(frozen=True)
+class Ieee1789Result:
+    """A capture's place against the IEEE 1789 boundaries.
+
+    Attributes
+    ----------
+    region : str
+        ``"no-observable-effect"``, ``"low-risk"`` or ``"above-low-risk"``.
+    frequency_hz : float
+        Frequency the verdict was taken at [Hz].
+    modulation_percent : float
+        Modulation judged [percent].
+    low_risk_limit_percent, noel_limit_percent : float
+        Limits at that frequency (``inf`` where exempt) [percent].
+    low_risk_margin_percent, noel_margin_percent : float
+        Limit minus modulation; positive is inside [percentage points].
+    mode : str
+        ``"fundamental"`` or ``"per-harmonic"``.
+    harmonic : int or None
+        In per-harmonic mode, the order of the component that decided.
+    """
+
+    region: str
+    frequency_hz: float
+    modulation_percent: float
+    low_risk_limit_percent: float
+    noel_limit_percent: float
+    low_risk_margin_percent: float
+    noel_margin_percent: float
+    mode: str = "fundamental"
+    harmonic: int | None = None
+
+
+def classify(frequency_hz: float, modulation_percent: float, *, mode: str = "fundamental",
+             harmonic: int | None = None) -> Ieee1789Result:
+    """Place one (frequency, modulation) point against the IEEE 1789 lines.
+
+    Parameters
+    ----------
+    frequency_hz : float
+        Fundamental modulation frequency [Hz].
+    modulation_percent : float
+        Percent flicker (overall Mod%) [percent].
+    mode, harmonic
+        Recorded in the result (see :class:`Ieee1789Result`).
+
+    Returns
+    -------
+    Ieee1789Result
+
+    References
+    ----------
+    IEEE Std 1789-2015, clause 8, Recommended Practices 1 and 2.
+
+    Examples
+    --------
+    >>> classify(100.0, 7.9).region
+    'low-risk'
+    >>> classify(100.0, 8.1).region
+    'above-low-risk'
+    """
+    lr = low_risk_limit_percent(frequency_hz)
+    noel = noel_limit_percent(frequency_hz)
+    return Ieee1789Result(
+        region=region_of(frequency_hz, modulation_percent),
+        frequency_hz=float(frequency_hz),
+        modulation_percent=float(modulation_percent),
+        low_risk_limit_percent=float(lr),
+        noel_limit_percent=float(noel),
+        low_risk_margin_percent=float(lr - modulation_percent),
+        noel_margin_percent=float(noel - modulation_percent),
+        mode=mode,
+        harmonic=harmonic,
+    )
+
+
+def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> Ieee1789Result:
+    """Per-harmonic mode: judge each Fourier component at its own frequency.
+
+    Parameters
+    ----------
+    frequencies_hz : numpy.ndarray
+        Component frequencies [Hz] (harmonics 1, 2, ... in order).
+    amplitudes : numpy.ndarray
+        Amplitudes relative to the mean, C_k [unitless]; ``Mod%_k = 100 C_k``.
+
+    Returns
+    -------
+    Ieee1789Result
+        The component with the worst margin (to the NOEL line first, then the
+        low-risk line), with ``mode="per-harmonic"``.
+
+    Notes
+    -----
+    A project extension, not a reading of IEEE 1789 (the methods brief §2.4
+    found no per-harmonic rule in the standard). It is less strict than the
+    fundamental mode for harmonic-rich waveforms: overall Mod% can exceed
+    every single ``Mod%_k``.
+    """
+    f = np.asarray(frequencies_hz, dtype=np.float64)
+    m = 100.0 * np.asarray(amplitudes, dtype=np.float64)
+    if f.size == 0:
+        raise ValueError("no components to judge")
+    lr = low_risk_limit_percent(f)
+    noel = noel_limit_percent(f)
+    rank = np.array([REGIONS.index(r) for r in np.atleast_1d(region_of(f, m))])
+    with np.errstate(invalid="ignore"):
+        # relative margin; exempt components (inf limit) never decide
+        rel = np.where(np.isinf(noel), np.inf, (noel - m) / np.where(noel > 0, noel, 1))
+    order = np.lexsort((rel, -rank))
+    i = int(order[0])
+    return Ieee1789Result(
+        region=REGIONS[rank[i]],
+        frequency_hz=float(f[i]),
+        modulation_percent=float(m[i]),
+        low_risk_limit_percent=float(lr[i]),
+        noel_limit_percent=float(noel[i]),
+        low_risk_margin_percent=float(lr[i] - m[i]),
+        noel_margin_percent=float(noel[i] - m[i]),
+        mode="per-harmonic",
+        harmonic=i + 1,
+    )

@@ -1,0 +1,333 @@
+"""Percent flicker, flicker index, per-period statistics and the noise floor.
+
+Pure functions on numpy arrays. Percent flicker and flicker index do not
+depend on frequency; they are computed over whole periods (the IEC 60050-845
+definition of the flicker index requires it).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+def percent_flicker(samples: np.ndarray) -> float:
+    """Percent flicker (modulation depth) of a light signal.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Light signal over whole periods, linear in light, dark level removed
+        [arbitrary linear unit].
+
+    Returns
+    -------
+    float
+        ``100 (L_max - L_min) / (L_max + L_min)`` [percent]; ``nan`` if
+        ``L_max + L_min <= 0``.
+
+    References
+    ----------
+    IEEE Std 1789-2015, "Modulation (Mod%)"; CIE ILV 17-39 (amplitude of
+    fluctuation of the luminous flux); California Title 24 JA10.6.
+
+    Examples
+    --------
+    >>> percent_flicker(np.array([1.0, 3.0]))
+    50.0
+    """
+    x = np.asarray(samples, dtype=np.float64)
+    hi = float(np.max(x))
+    lo = float(np.min(x))
+    total = hi + lo
+    return 100.0 * (hi - lo) / total if total > 0 else float("nan")
+
+
+def flicker_index(samples: np.ndarray) -> float:
+    """Flicker index of a light signal over whole periods.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Light signal over an integer number of periods [arbitrary linear unit].
+
+    Returns
+    -------
+    float
+        Area above the mean divided by the total area, 0 to 1 [unitless];
+        ``nan`` if the total is not positive.
+
+    Notes
+    -----
+    Discrete form: ``FI = sum(max(x - mean(x), 0)) / sum(x)``.
+
+    References
+    ----------
+    IES Lighting Handbook definition 5.9.9.4 (flicker index);
+    IEC 60050-845:2020, IEV 845-22-094.
+
+    Examples
+    --------
+    >>> flicker_index(np.array([1.0, 0.0, 0.0, 0.0]))
+    0.75
+    """
+    x = np.asarray(samples, dtype=np.float64)
+    total = float(np.sum(x))
+    if total <= 0:
+        return float("nan")
+    mean = total / x.shape[0]
+    return float(np.sum(np.maximum(x - mean, 0.0)) / total)
+
+
+@dataclass(frozen=True)
+class PeriodStats:
+    """Percent flicker and flicker index of each whole period, summarised.
+
+    Attributes
+    ----------
+    count : int
+        Number of whole periods used.
+    percent_flicker_median, percent_flicker_worst : float
+        Median and largest per-period percent flicker [percent].
+    flicker_index_median, flicker_index_worst : float
+        Median and largest per-period flicker index [unitless].
+    """
+
+    count: int
+    percent_flicker_median: float
+    percent_flicker_worst: float
+    flicker_index_median: float
+    flicker_index_worst: float
+
+
+def period_bounds(periods: int, period_samples: float, n_samples: int) -> np.ndarray:
+    """Sample indices that split a capture into whole periods.
+
+    Parameters
+    ----------
+    periods : int
+        Number of whole periods.
+    period_samples : float
+        Period length, may be fractional [samples].
+    n_samples : int
+        Capture length [samples].
+
+    Returns
+    -------
+    numpy.ndarray
+        ``periods + 1`` increasing indices, the first 0, the last at most
+        ``n_samples``.
+    """
+    b = np.rint(np.arange(periods + 1) * period_samples).astype(np.int64)
+    return np.minimum(b, n_samples)
+
+
+def per_period_stats(samples: np.ndarray, bounds: np.ndarray) -> PeriodStats:
+    """Percent flicker and flicker index of each period between ``bounds``.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Light signal [arbitrary linear unit].
+    bounds : numpy.ndarray
+        Period boundaries from :func:`period_bounds`.
+
+    Returns
+    -------
+    PeriodStats
+    """
+    x = np.asarray(samples, dtype=np.float64)
+    starts = bounds[:-1]
+    lengths = np.diff(bounds)
+    keep = lengths > 0
+    starts, lengths = starts[keep], lengths[keep]
+    if starts.size == 0:
+        nan = float("nan")
+        return PeriodStats(0, nan, nan, nan, nan)
+    span = x[: bounds[-1]]
+    hi = np.maximum.reduceat(span, starts)
+    lo = np.minimum.reduceat(span, starts)
+    total = np.add.reduceat(span, starts)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        pf = 100.0 * (hi - lo) / (hi + lo)
+        mean = total / lengths
+        work = np.repeat(mean, lengths)
+        np.subtract(span, work, out=work)
+        np.maximum(work, 0.0, out=work)
+        above = np.add.reduceat(work, starts)
+        del work
+        fi = above / total
+    return PeriodStats(
+        count=int(starts.size),
+        percent_flicker_median=float(np.nanmedian(pf)),
+        percent_flicker_worst=float(np.nanmax(pf)),
+        flicker_index_median=float(np.nanmedian(fi)),
+        flicker_index_worst=float(np.nanmax(fi)),
+    )
+
+
+def _fold(x: np.ndarray, period_samples: float) -> tuple[np.ndarray, np.ndarray]:
+    bins = int(round(period_samples))
+    phase = np.floor(np.mod(np.arange(x.shape[0]) / period_samples, 1.0) * bins).astype(np.int64)
+    np.minimum(phase, bins - 1, out=phase)
+    counts = np.bincount(phase, minlength=bins)
+    template = np.bincount(phase, weights=x, minlength=bins) / np.maximum(counts, 1)
+    return template, phase
+
+
+def periodic_average_and_noise(samples: np.ndarray,
+                               period_samples: float) -> tuple[np.ndarray, float]:
+    """Synchronous average and the noise around it, from one fold of the signal.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Signal; at most :data:`NOISE_SAMPLES` are used [input unit].
+    period_samples : float
+        Period [samples].
+
+    Returns
+    -------
+    template : numpy.ndarray
+        See :func:`synchronous_average` [input unit].
+    noise_std : float
+        ``1.4826 MAD`` of the residual after removing the template [input unit].
+    """
+    x = np.asarray(samples[:NOISE_SAMPLES], dtype=np.float64)
+    template, phase = _fold(x, period_samples)
+    resid = x - template[phase]
+    return template, float(1.4826 * np.median(np.abs(resid - np.median(resid))))
+
+
+def synchronous_average(samples: np.ndarray, period_samples: float) -> np.ndarray:
+    """Mean waveform of one period, averaged over every period of a capture.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Signal over whole periods [input unit].
+    period_samples : float
+        Period, may be fractional [samples].
+
+    Returns
+    -------
+    numpy.ndarray
+        ``round(period_samples)`` phase bins, each the mean of the samples whose
+        phase falls in it [input unit]. Noise falls as 1/sqrt(periods), so the
+        percent flicker of this waveform is a noise-robust companion to the
+        raw one; edges that move between bins are slightly smoothed.
+    """
+    template, _ = _fold(np.asarray(samples, dtype=np.float64), period_samples)
+    return template
+
+
+#: Samples used to estimate the noise (2**21).
+NOISE_SAMPLES = 2**21
+
+
+def noise_rms(samples: np.ndarray, period_samples: float | None = None) -> float:
+    """Robust estimate of the white-noise standard deviation of a signal.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Signal [arbitrary linear unit].
+    period_samples : float, optional
+        Period of the modulation, if known [samples].
+
+    Returns
+    -------
+    float
+        Noise standard deviation [input unit].
+
+    Notes
+    -----
+    With a period, the periodic part is removed by subtracting the
+    synchronous average (the mean waveform over all periods, in
+    ``round(period)`` phase bins), and the noise is ``1.4826 MAD`` of the
+    residual. The median ignores the few samples at edges that move between
+    phase bins. Without a period, it is ``1.4826 MAD`` of the second
+    differences divided by ``sqrt(6)`` (second differences of white noise have
+    variance ``6 sigma^2``; a slowly varying signal has nearly none). At most
+    :data:`NOISE_SAMPLES` samples are used.
+    """
+    x = np.asarray(samples[:NOISE_SAMPLES], dtype=np.float64)
+    n = x.shape[0]
+    if n < 4:
+        return 0.0
+    if period_samples is not None and n >= 2 * period_samples and period_samples >= 4:
+        return periodic_average_and_noise(x, period_samples)[1]
+    d2 = np.diff(x, 2)
+    return float(1.4826 * np.median(np.abs(d2 - np.median(d2))) / np.sqrt(6.0))
+
+
+def noise_percent_flicker(noise_std: float, mean: float, samples_per_period: float) -> float:
+    """Percent flicker that noise alone would show on steady light.
+
+    Parameters
+    ----------
+    noise_std : float
+        Noise standard deviation [input unit].
+    mean : float
+        Mean light [input unit].
+    samples_per_period : float
+        Samples over which max and min are taken [samples].
+
+    Returns
+    -------
+    float
+        ``100 sigma sqrt(2 ln n) / mean`` [percent]: the expected extreme of n
+        Gaussian samples is about ``sigma sqrt(2 ln n)`` either side of the
+        mean. A measured percent flicker within a few times this figure is
+        noise-limited.
+    """
+    n = max(float(samples_per_period), 2.0)
+    if mean <= 0:
+        return float("nan")
+    return 100.0 * noise_std * np.sqrt(2.0 * np.log(n)) / mean
+
+
+def fraction_at_max(samples: np.ndarray) -> float:
+    """Fraction of samples exactly equal to the maximum [unitless]."""
+    x = np.asarray(samples)
+    return float(np.count_nonzero(x == np.max(x))) / x.shape[0]
+
+
+def suspected_clipping(samples: np.ndarray, noise_std: float) -> bool:
+    """Whether a signal looks clipped at the top of the recorder's range.
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        Signal [input unit].
+    noise_std : float
+        Noise estimate from :func:`noise_rms` [input unit].
+
+    Returns
+    -------
+    bool
+        True when the signal is noisy (``noise_std > 0``), at least 1 % of the
+        samples equal the maximum exactly, and the maximum value occurs more
+        than twice as often as the next lower value present. Noise does not
+        repeat its largest value exactly; a rail does. A noiseless synthetic
+        flat top is not flagged.
+
+    Notes
+    -----
+    A heuristic of this project (no published source). Quantised recorders
+    whose noise is below one code step are not flagged: their top code is
+    in the tail of the noise distribution, rarer than the code below it.
+    """
+    x = np.asarray(samples)
+    if noise_std <= 0 or x.shape[0] < 100:
+        return False
+    hi = np.max(x)
+    at_max = np.count_nonzero(x == hi)
+    if at_max < 0.01 * x.shape[0]:
+        return False
+    below = x[x < hi]
+    if below.size == 0:
+        return False
+    nxt = np.max(below)
+    return bool(at_max > 2 * np.count_nonzero(x == nxt))

@@ -1,0 +1,592 @@
+"""Reading captures: text tables, WAV and NumPy files into a :class:`Capture`.
+
+Text tables are read as bench instruments and data loggers write them:
+
+* any number of comment or metadata lines before the table (``# ...``,
+  ``key: value``, ``key,value``); a metadata line naming a sample rate
+  (``sample rate: 20000``) or sample interval (``sample interval, 5e-5``) is
+  used when the table has no time column;
+* comma, semicolon, tab or space separated; decimal comma where the separator
+  is not a comma;
+* an optional header row; a time column recognised by its name (``t``,
+  ``time``, ``zeit``, ``temps``, ``tiempo``, ``sec``...) or, without a header,
+  by strictly increasing values in the first of several columns; the time
+  unit from the header (``time (ms)``, ``t[us]``, ``time_ns``, ``µs``), seconds
+  when none is given;
+* one or more signal columns, chosen by name or 1-based number.
+
+WAV files are read with ``scipy.io.wavfile`` (memory-mapped); ``.npy`` files
+with ``numpy.load(mmap_mode="r")``: a 1-D array is a signal (give the sample
+rate), a 2-D array holds columns, the first being time in seconds unless a
+sample rate is given.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import struct
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .capture import Capture, make_capture
+from .errors import InputError
+
+#: Time units recognised in headers and options [s].
+TIME_UNITS = {"s": 1.0, "sec": 1.0, "second": 1.0, "seconds": 1.0, "ms": 1e-3,
+              "us": 1e-6, "µs": 1e-6, "μs": 1e-6, "ns": 1e-9}
+
+_TIME_NAMES = re.compile(r"^\s*(t|time|zeit|temps|tiempo|tempo|sec|second|seconds|x)(?![a-z])",
+                         re.I)
+_UNIT_IN_NAME = re.compile(r"[\(\[\{/_ ]\s*(ns|us|µs|μs|ms|s|sec)\s*[\)\]\}]?\s*$", re.I)
+_RATE_KEY = re.compile(r"sampl\w*[ _-]*(rate|frequency|freq)", re.I)
+_INTERVAL_KEY = re.compile(r"(sampl\w*[ _-]*(interval|period|time))|time[ _-]*step|^\s*dt\b", re.I)
+_COMMENT = ("#", "%", "//", ";", "!", "*")
+_HEAD_BYTES = 256 * 1024
+#: A sample this far (in sample intervals) from a uniform grid makes the time non-uniform.
+UNIFORM_TOLERANCE = 0.5
+
+
+@dataclass(frozen=True)
+class ReadOptions:
+    """How to read a capture.
+
+    Attributes
+    ----------
+    column : str or int or None
+        Signal column: a header name or a 1-based column number (for WAV
+        files the channel number, for 2-D ``.npy`` the column number).
+        Default: the first column that is not time.
+    sample_rate_hz : float or None
+        Sample rate [Hz]; needed when the file has no time column and no
+        sample rate of its own. Given together with a time column, it wins.
+    time_unit : str or None
+        Unit of the time column (s, ms, us, µs, ns), overriding the header.
+    dark : float or str or None
+        Dark level to subtract: a number in the signal's unit, or the path
+        of a dark capture whose mean is used.
+    resample : bool
+        Resample non-uniform or unordered time onto a uniform grid instead of
+        refusing the file.
+    fill_gaps : bool
+        Fill blank or NaN cells by linear interpolation instead of refusing.
+    quantity : str
+        ``"light"`` or ``"voltage"``.
+    """
+
+    column: str | int | None = None
+    sample_rate_hz: float | None = None
+    time_unit: str | None = None
+    dark: float | str | None = None
+    resample: bool = False
+    fill_gaps: bool = False
+    quantity: str = "light"
+
+
+def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = None) -> Capture:
+    """Read a capture file and apply the dark level.
+
+    Parameters
+    ----------
+    path : str or path-like
+        ``.csv``/``.txt``/``.tsv``/``.dat`` (text table), ``.wav`` or ``.npy``.
+    options : ReadOptions, optional
+
+    Returns
+    -------
+    Capture
+
+    Raises
+    ------
+    InputError
+        With the file, and the line or column where it applies.
+    """
+    options = options or ReadOptions()
+    p = Path(path)
+    name = str(path)
+    if not p.exists():
+        raise InputError("no such file", source=name)
+    if p.is_dir():
+        raise InputError("is a folder, not a capture file", source=name)
+    if not os.access(p, os.R_OK):
+        raise InputError("cannot be read (permission denied)", source=name)
+    size = p.stat().st_size
+    if size == 0:
+        raise InputError("file is empty", source=name)
+    suffix = p.suffix.lower()
+    if suffix == ".wav":
+        samples, fs, notes, warns, meta = _read_wav(p, options)
+    elif suffix == ".npy":
+        samples, fs, notes, warns, meta = _read_npy(p, options)
+    else:
+        samples, fs, notes, warns, meta = _read_table(p, options)
+    meta = {"file": name, "file_size_bytes": size, **meta}
+    if options.dark is not None:
+        dark, dark_note = _dark_level(options.dark, options)
+        samples = np.asarray(samples, dtype=np.float64) - dark
+        notes = [*notes, dark_note]
+        meta["dark_level"] = dark
+    return make_capture(samples, fs, label=p.name, source=name, quantity=options.quantity,
+                        notes=notes, warnings=warns, meta=meta)
+
+
+def _dark_level(dark: float | str, options: ReadOptions) -> tuple[float, str]:
+    if isinstance(dark, (int, float)):
+        if not np.isfinite(dark):
+            raise InputError(f"dark level {dark!r} is not a finite number", source="--dark")
+        return float(dark), f"dark level {float(dark):.6g} subtracted"
+    try:
+        return float(dark), f"dark level {float(dark):.6g} subtracted"
+    except ValueError:
+        pass
+    sub = ReadOptions(column=options.column, sample_rate_hz=options.sample_rate_hz or 1.0,
+                      time_unit=options.time_unit, fill_gaps=options.fill_gaps,
+                      resample=options.resample)
+    try:
+        cap = read_capture(dark, sub)
+    except InputError as exc:
+        if options.column is None or "column" not in str(exc):
+            raise
+        # the dark capture need not have the signal's column layout
+        cap = read_capture(dark, ReadOptions(sample_rate_hz=sub.sample_rate_hz,
+                                             fill_gaps=options.fill_gaps,
+                                             resample=options.resample))
+    level = float(np.mean(cap.samples))
+    return level, f"dark level {level:.6g} subtracted (mean of {dark})"
+
+
+# --------------------------------------------------------------------------- text
+
+
+def _decode_head(p: Path) -> tuple[str, str]:
+    with p.open("rb") as fh:
+        raw = fh.read(_HEAD_BYTES)
+    if b"\x00" in raw[:4096]:
+        raise InputError("looks like a binary file, not a text table (use .wav or .npy "
+                         "for binary captures)", source=str(p))
+    for enc in ("utf-8-sig", "latin-1"):
+        try:
+            text = raw.decode(enc)
+            break
+        except UnicodeDecodeError:
+            continue
+    if len(raw) == _HEAD_BYTES:  # the last line may be cut
+        text = text[: text.rfind("\n") + 1] if "\n" in text else text
+    return text, enc
+
+
+def _to_float(field: str, decimal: str) -> float | None:
+    f = field.strip().strip('"').strip("'")
+    if decimal == ",":
+        if "." in f:
+            return None
+        f = f.replace(",", ".")
+    if not f:
+        return None
+    try:
+        return float(f)
+    except ValueError:
+        return None
+
+
+def _split(line: str, sep: str) -> list[str]:
+    return line.split() if sep == " " else line.split(sep)
+
+
+def _numeric_fields(line: str, sep: str, decimal: str) -> int:
+    """Number of fields if every field is numeric, else 0."""
+    fields = _split(line.strip(), sep)
+    if sep != " " and fields and fields[-1].strip() == "":
+        fields = fields[:-1]  # a trailing separator
+    if not fields:
+        return 0
+    for f in fields:
+        if _to_float(f, decimal) is None:
+            return 0
+    return len(fields)
+
+
+def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int]:
+    """Separator, decimal mark, index of the first data line, fields per row.
+
+    Each candidate (separator, decimal mark) is scored on the last 20
+    non-empty lines of the head: the number of lines that split into the same
+    count of numeric fields. The best score wins, then the larger field count.
+    The table starts at the first line that is such a row.
+    """
+    body = [ln for ln in lines if ln.strip()]
+    if not body:
+        raise InputError("file holds no table", source=name)
+    tail = body[-min(len(body), 20):]
+    best: tuple[int, int, str, str] | None = None
+    for sep, dec in (("\t", "."), ("\t", ","), (";", "."), (";", ","), (",", "."),
+                     (" ", "."), (" ", ",")):
+        counts = [_numeric_fields(ln, sep, dec) for ln in tail]
+        nonzero = [c for c in counts if c > 0]
+        if not nonzero:
+            continue
+        k = max(set(nonzero), key=lambda c: (nonzero.count(c), c))
+        score = (nonzero.count(k), k)
+        if best is None or score > best[:2]:
+            best = (score[0], k, sep, dec)
+    if best is None or best[0] < max(1, len(tail) // 2):
+        raise InputError("no numeric table found: the last lines are not rows of numbers "
+                         "with a common separator (comma, semicolon, tab or space)",
+                         source=name)
+    _, k, sep, dec = best
+    for i, ln in enumerate(lines):
+        if ln.strip() and not ln.lstrip().startswith(_COMMENT[:3]) and \
+                _numeric_fields(ln, sep, dec) == k:
+            return sep, dec, i, k
+    raise InputError("no numeric table found", source=name)
+
+
+def _header_and_meta(lines: list[str], first: int, sep: str, k: int) -> tuple[list[str] | None, dict[str, str]]:
+    header = None
+    meta_lines = lines[:first]
+    for j in range(first - 1, -1, -1):
+        ln = lines[j]
+        if not ln.strip():
+            continue
+        if ln.lstrip().startswith(_COMMENT):
+            break
+        fields = [f.strip().strip('"').strip("'") for f in _split(ln.strip(), sep)]
+        if sep != " " and fields and fields[-1] == "":
+            fields = fields[:-1]
+        if len(fields) == k and not (k == 1 and re.match(r"^[^:=]+[:=]\s*\S", ln.strip())):
+            header = fields
+            meta_lines = lines[:j]
+        break
+    meta: dict[str, str] = {}
+    for ln in meta_lines:
+        s = ln.strip().lstrip("#%/;!* ").strip()
+        m = re.match(r"^([^:=,;\t]+?)\s*[:=,;\t]\s*(.+)$", s)
+        if m:
+            meta[m.group(1).strip()] = m.group(2).strip().strip('"')
+    return header, meta
+
+
+def _unit_of(name: str) -> float | None:
+    m = _UNIT_IN_NAME.search(name)
+    if m:
+        return TIME_UNITS[m.group(1).lower() if m.group(1) not in ("µs", "μs") else m.group(1)]
+    low = name.strip().lower()
+    for unit in ("ns", "us", "µs", "μs", "ms"):
+        if low.endswith(unit):
+            return TIME_UNITS[unit]
+    return None
+
+
+def _rate_from_meta(meta: dict[str, str]) -> tuple[float | None, str | None]:
+    for key, value in meta.items():
+        num = re.match(r"^\s*([-+0-9.eE]+)\s*([a-zA-Zµμ]*)", value.replace(",", "."))
+        if not num:
+            continue
+        try:
+            v = float(num.group(1))
+        except ValueError:
+            continue
+        unit = num.group(2).lower()
+        if _RATE_KEY.search(key) and v > 0:
+            scale = {"khz": 1e3, "mhz": 1e6, "ks/s": 1e3, "ms/s": 1e6}.get(unit, 1.0)
+            if unit.startswith("k"):
+                scale = 1e3
+            elif unit.startswith("m") and unit not in ("ms",):
+                scale = 1e6
+            return v * scale, key
+        if _INTERVAL_KEY.search(key) and v > 0:
+            scale = TIME_UNITS.get(unit, 1.0)
+            return 1.0 / (v * scale), key
+    return None, None
+
+
+def _pick_columns(header: list[str] | None, k: int, head_rows: np.ndarray,
+                  options: ReadOptions, name: str) -> tuple[int | None, int, list[str]]:
+    names = header if header else [f"column {i + 1}" for i in range(k)]
+    time_col: int | None = None
+    if header:
+        time_col = next((i for i, h in enumerate(header) if _TIME_NAMES.match(h)), None)
+    elif k >= 2 and head_rows.shape[0] >= 3 and np.all(np.diff(head_rows[:, 0]) > 0):
+        time_col = 0
+    if options.column is not None:
+        col = options.column
+        if isinstance(col, str) and col.strip().isdigit():
+            col = int(col)
+        if isinstance(col, int):
+            if not 1 <= col <= k:
+                raise InputError(f"column {col} does not exist: the table has {k} column(s) "
+                                 f"({', '.join(names)})", source=name)
+            sig = col - 1
+        else:
+            matches = [i for i, h in enumerate(names) if h.strip().lower() == str(col).strip().lower()]
+            if not matches:
+                raise InputError(f"unknown column {col!r}; the columns are: {', '.join(names)}",
+                                 source=name)
+            sig = matches[0]
+        if sig == time_col:
+            time_col = None if options.sample_rate_hz else time_col
+            if time_col is not None:
+                raise InputError(f"column {names[sig]!r} is the time column; choose a signal "
+                                 f"column", source=name)
+    else:
+        candidates = [i for i in range(k) if i != time_col]
+        if not candidates:
+            raise InputError("the table has a time column but no signal column", source=name)
+        sig = candidates[0]
+    return time_col, sig, names
+
+
+def _read_table(p: Path, options: ReadOptions):
+    import pandas as pd
+
+    name = str(p)
+    text, enc = _decode_head(p)
+    lines = text.splitlines()
+    sep, dec, first, k = _sniff(lines, name)
+    header, meta = _header_and_meta(lines, first, sep, k)
+    head_rows = np.array([[_to_float(f, dec) for f in _split(ln.strip(), sep)[:k]]
+                          for ln in lines[first : first + 50] if ln.strip()
+                          and _numeric_fields(ln, sep, dec) == k], dtype=float)
+    time_col, sig, names = _pick_columns(header, k, head_rows, options, name)
+    use_time = time_col is not None and options.sample_rate_hz is None
+    cols = [time_col, sig] if use_time else [sig]
+    # physical line numbers: splitlines() counts like the file
+    skip = first
+    try:
+        frame = pd.read_csv(
+            p, sep=r"\s+" if sep == " " else sep, decimal=dec, header=None,
+            skiprows=skip, usecols=cols, dtype=np.float64, engine="c",
+            encoding="utf-8-sig" if enc == "utf-8-sig" else "latin-1",
+            skip_blank_lines=False, na_filter=True, keep_default_na=True,
+            on_bad_lines="error", index_col=False,
+        )
+    except (ValueError, pd.errors.ParserError) as exc:
+        raise _locate_bad_cell(p, sep, dec, skip, cols, names, enc, exc) from None
+    data = {c: frame[c].to_numpy() for c in cols}
+    notes: list[str] = []
+    warns: list[str] = []
+    # trailing blank lines are not gaps
+    n = len(frame)
+    allnan = np.ones(n, dtype=bool)
+    for c in cols:
+        allnan &= np.isnan(data[c])
+    last = n
+    while last > 0 and allnan[last - 1]:
+        last -= 1
+    for c in cols:
+        data[c] = data[c][:last]
+    for c in cols:
+        bad = ~np.isfinite(data[c])
+        if bad.any():
+            i = int(np.flatnonzero(bad)[0])
+            count = int(bad.sum())
+            what = "blank or NaN" if np.isnan(data[c][i]) else "infinite"
+            if options.fill_gaps and what != "infinite" and count < data[c].size - 1:
+                idx = np.arange(data[c].size)
+                good = ~bad
+                data[c] = np.interp(idx, idx[good], data[c][good])
+                notes.append(f"{count} blank or NaN cell(s) in column {names[c]!r} filled by "
+                             f"linear interpolation")
+            else:
+                hint = " (use --fill-gaps to interpolate them)" if what != "infinite" else ""
+                raise InputError(f"{count} {what} cell(s), the first here{hint}", source=name,
+                                 line=skip + i + 1, column=names[c])
+    signal = data[sig]
+    meta_out: dict[str, Any] = {"column": names[sig], "format": "text table",
+                                "separator": {"\t": "tab", " ": "space"}.get(sep, sep),
+                                "decimal": dec}
+    if meta:
+        meta_out["header_metadata"] = meta
+    if options.sample_rate_hz is not None:
+        fs = float(options.sample_rate_hz)
+        if time_col is not None:
+            notes.append(f"time column {names[time_col]!r} ignored: sample rate given")
+    elif use_time:
+        unit = None
+        if options.time_unit:
+            unit = TIME_UNITS.get(options.time_unit.strip().lower())
+            if unit is None:
+                raise InputError(f"unknown time unit {options.time_unit!r}; use one of "
+                                 f"{', '.join(sorted(set(TIME_UNITS)))}", source="--time-unit")
+        elif header:
+            unit = _unit_of(names[time_col])
+        if unit is None:
+            unit = 1.0
+            notes.append(f"time column {names[time_col]!r} has no unit; read as seconds")
+        t = data[time_col] * unit
+        signal, fs, tnotes = _uniform(t, signal, options.resample, name, skip)
+        notes += tnotes
+        meta_out["time_column"] = names[time_col]
+    else:
+        fs, key = _rate_from_meta(meta)
+        if fs is None:
+            raise InputError("no time column and no sample rate: give --sample-rate HZ",
+                             source=name)
+        notes.append(f"sample rate {fs:g} Hz from the file's metadata ({key!r})")
+    if signal.size < 2:
+        raise InputError(f"the table holds {signal.size} row(s); at least 2 are needed",
+                         source=name)
+    return signal, fs, notes, warns, meta_out
+
+
+def _locate_bad_cell(p: Path, sep: str, dec: str, skip: int, cols: list[int], names: list[str],
+                     enc: str, exc: Exception) -> InputError:
+    """Find the first non-numeric cell after pandas refused the table."""
+    import pandas as pd
+
+    name = str(p)
+    try:
+        frame = pd.read_csv(p, sep=r"\s+" if sep == " " else sep, header=None, skiprows=skip,
+                            usecols=cols, dtype=str, engine="c", keep_default_na=False,
+                            skip_blank_lines=False, encoding="utf-8-sig" if enc == "utf-8-sig"
+                            else "latin-1", index_col=False)
+    except (ValueError, pd.errors.ParserError) as exc2:
+        msg = str(exc2).splitlines()[0]
+        m = re.search(r"line (\d+)", msg)
+        line = skip + int(m.group(1)) if m else None
+        return InputError(f"rows do not all have the same number of fields ({msg})",
+                          source=name, line=line)
+    for c in cols:
+        col = frame[c].to_numpy()
+        for i, v in enumerate(col):
+            if v.strip() == "" or v.strip().lower() in ("nan", "na", "n/a", "null"):
+                continue
+            if _to_float(v, dec) is None:
+                return InputError(f"cell {v.strip()!r} is not a number", source=name,
+                                  line=skip + i + 1, column=names[c])
+    return InputError(f"cannot read the table ({str(exc).splitlines()[0]})", source=name)
+
+
+def _uniform(t: np.ndarray, x: np.ndarray, resample: bool, name: str,
+             skip: int) -> tuple[np.ndarray, float, list[str]]:
+    """Check that time is increasing and uniform; resample on request."""
+    notes: list[str] = []
+    dt = np.diff(t)
+    if dt.size == 0:
+        raise InputError("a capture needs at least 2 rows", source=name)
+    bad = np.flatnonzero(dt <= 0)
+    span = t[-1] - t[0]
+    if bad.size == 0 and span > 0:
+        fs = (t.size - 1) / span
+        grid = t[0] + np.arange(t.size) / fs
+        dev = np.abs(t - grid) * fs
+        worst = int(np.argmax(dev))
+        if dev[worst] <= UNIFORM_TOLERANCE:
+            return x, float(fs), notes
+        if not resample:
+            raise InputError(
+                f"time steps are not uniform: the sample here is {dev[worst]:.3g} sample "
+                f"intervals off a uniform grid at {fs:.6g} Hz (gaps or jitter); use "
+                f"--resample to interpolate onto a uniform grid", source=name,
+                line=skip + worst + 1)
+    elif not resample:
+        i = int(bad[0]) + 1
+        what = "repeats" if dt[bad[0]] == 0 else "goes backwards"
+        raise InputError(f"time {what} here ({t[i - 1]:.9g} then {t[i]:.9g} s); use --resample "
+                         f"to sort and interpolate onto a uniform grid", source=name,
+                         line=skip + i + 1)
+    order = np.argsort(t, kind="stable")
+    ts, xs = t[order], x[order]
+    uniq, inv = np.unique(ts, return_inverse=True)
+    if uniq.size < 2:
+        raise InputError("all time stamps are equal", source=name)
+    xm = np.bincount(inv, weights=xs) / np.bincount(inv)
+    fs = (uniq.size - 1) / (uniq[-1] - uniq[0])
+    grid = uniq[0] + np.arange(uniq.size) / fs
+    out = np.interp(grid, uniq, xm)
+    notes.append(f"time was not uniform or not increasing: {t.size} rows sorted, "
+                 f"{t.size - uniq.size} duplicate time(s) averaged, resampled linearly to "
+                 f"{fs:.6g} Hz")
+    return out, float(fs), notes
+
+
+# --------------------------------------------------------------------------- binary
+
+
+def _channel(data: np.ndarray, options: ReadOptions, name: str, what: str) -> tuple[np.ndarray, int]:
+    if data.ndim == 1:
+        if options.column not in (None, 1, "1"):
+            raise InputError(f"{what} has one {what == 'WAV file' and 'channel' or 'column'}; "
+                             f"column {options.column!r} does not exist", source=name)
+        return data, 1
+    k = data.shape[1]
+    col = options.column if options.column is not None else 1
+    try:
+        col = int(col)
+    except (TypeError, ValueError):
+        raise InputError(f"{what} columns are numbered 1 to {k}; got {options.column!r}",
+                         source=name) from None
+    if not 1 <= col <= k:
+        raise InputError(f"column {col} does not exist: the {what} has {k}", source=name)
+    return data[:, col - 1], col
+
+
+def _read_wav(p: Path, options: ReadOptions):
+    from scipy.io import wavfile
+
+    name = str(p)
+    try:
+        with open(p, "rb") as fh:
+            rate, data = wavfile.read(fh, mmap=False) if p.stat().st_size < 64 << 20 else (None, None)
+        if rate is None:
+            rate, data = wavfile.read(name, mmap=True)
+    except (ValueError, EOFError, OSError, IndexError, TypeError, struct.error) as exc:
+        raise InputError(f"not a readable WAV file ({exc})", source=name) from None
+    if data.size == 0:
+        raise InputError("WAV file holds no samples", source=name)
+    sig, ch = _channel(data, options, name, "WAV file")
+    warns: list[str] = []
+    if np.issubdtype(sig.dtype, np.integer):
+        info = np.iinfo(sig.dtype)
+        at_rail = int(np.count_nonzero((sig == info.max) | (sig == info.min)))
+        if at_rail > max(1, sig.size // 1000):
+            warns.append(f"clipping: {at_rail} sample(s) sit at the recorder's full scale "
+                         f"({info.min}/{info.max}); percent flicker is underestimated")
+    fs = float(options.sample_rate_hz) if options.sample_rate_hz else float(rate)
+    notes = [f"sample rate {fs:g} Hz from the WAV header" if not options.sample_rate_hz
+             else f"sample rate {fs:g} Hz given (WAV header says {rate} Hz)"]
+    return np.asarray(sig, dtype=np.float64), fs, notes, warns, {"format": "WAV",
+                                                               "column": f"channel {ch}"}
+
+
+def _read_npy(p: Path, options: ReadOptions):
+    name = str(p)
+    try:
+        data = np.load(p, mmap_mode="r", allow_pickle=False)
+    except (ValueError, EOFError, OSError) as exc:
+        raise InputError(f"not a readable .npy file ({exc})", source=name) from None
+    if data.dtype.names:
+        raise InputError("structured .npy arrays are not supported; save plain columns",
+                         source=name)
+    if not (np.issubdtype(data.dtype, np.number) and not np.iscomplexobj(data)):
+        raise InputError(f".npy holds {data.dtype}, not real numbers", source=name)
+    if data.ndim not in (1, 2) or data.size == 0:
+        raise InputError(f".npy array must be 1-D or 2-D and non-empty, got shape {data.shape}",
+                         source=name)
+    notes: list[str] = []
+    if data.ndim == 1 or options.sample_rate_hz:
+        if not options.sample_rate_hz:
+            raise InputError("a 1-D .npy holds no time: give --sample-rate HZ", source=name)
+        sig, col = _channel(data, options, name, ".npy array")
+        fs = float(options.sample_rate_hz)
+        x = np.asarray(sig)
+    else:
+        if data.shape[1] < 2:
+            raise InputError("a 2-D .npy needs a time column and a signal column, or "
+                             "--sample-rate", source=name)
+        opts = options if options.column is not None else ReadOptions(column=2)
+        sig, col = _channel(data, opts, name, ".npy array")
+        if col == 1:
+            raise InputError("column 1 of a 2-D .npy is time; choose a signal column",
+                             source=name)
+        t = np.asarray(data[:, 0], dtype=np.float64)
+        x, fs, notes = _uniform(t, np.asarray(sig, dtype=np.float64), options.resample, name, 0)
+    if x.dtype != np.float64:
+        x = x.astype(np.float64)
+    if not np.all(np.isfinite(x)):
+        i = int(np.flatnonzero(~np.isfinite(x))[0])
+        raise InputError(f"sample {i} is not a finite number", source=name)
+    return x, fs, notes, [], {"format": "NumPy .npy", "column": f"column {col}"}
