@@ -467,10 +467,15 @@ def svm_of_spectrum(
         f_fund = spectrum.fundamental_hz
         method_note = (f"components over {spectrum.whole_periods} whole periods of "
                        f"{f_fund:.6g} Hz, rectangular window (no leakage)")
-        freqs = np.asarray(spectrum.frequencies_hz)
-        amps = np.asarray(spectrum.amplitudes)
+        all_f = np.asarray(spectrum.frequencies_hz)
+        # bins are sorted: keep the band only (a 10-minute capture has millions of bins)
+        lo = int(np.searchsorted(all_f, f_min_hz * (1 - 1e-9), side="left"))
+        hi = int(np.searchsorted(all_f, f_max_hz * (1 + 1e-9), side="right"))
+        freqs = all_f[lo:hi]
+        amps = np.asarray(spectrum.amplitudes)[lo:hi]
         harmonic = np.zeros(freqs.size, dtype=bool)
-        harmonic[spectrum.harmonic_bins()] = True
+        hb = spectrum.harmonic_bins(f_max_hz)
+        harmonic[hb[(hb >= lo) & (hb < hi)] - lo] = True
     else:
         method = "hann-windowed"
         method_note = ("no clean period: Hann window, each spectral peak's main-lobe power "
@@ -502,7 +507,11 @@ def svm_of_spectrum(
     model_note = (f"SVM threshold model {model.name!r} is {model.status}"
                   if model.status != "sourced" else None)
 
-    order = np.argsort(terms)[::-1][:MAX_LISTED_COMPONENTS]
+    if terms.size > MAX_LISTED_COMPONENTS:
+        top = np.argpartition(terms, -MAX_LISTED_COMPONENTS)[-MAX_LISTED_COMPONENTS:]
+    else:
+        top = np.arange(terms.size)
+    order = top[np.argsort(terms[top])[::-1]]
     comps = []
     for i in order:
         if total <= 0 or terms[i] < 1e-3 * total:
