@@ -60,7 +60,8 @@ SAMPLES_PER_FEATURE = 8  #: samples across the narrowest pulse or gap, where the
 MIN_SAMPLES_PER_PERIOD = 64  #: samples per fundamental period at least
 MIN_SAMPLE_RATE_HZ = 20_000.0  #: at least the 20 kHz of California JA10.5
 MIN_PERIODS = 8  #: whole fundamental periods at least (period finding needs 4)
-MIN_DURATION_S = 0.05  #: capture length aimed for when the budget allows [s]
+PREFERRED_PERIODS = 64  #: periods aimed for: the shared period finder's error falls with them
+MIN_DURATION_S = 0.1  #: capture length aimed for when the budget allows [s]
 DEFAULT_MAX_SAMPLES = 2**17  #: sample budget of one modelled capture
 
 #: Relative tolerance when deciding that two frequencies coincide (spectral lines,
@@ -586,6 +587,13 @@ class Light:
         grid of ``grid`` points per base period and per ripple period.
         """
         T = self.trains[0].period_s
+        if len(self.trains) == 1 and self._ripple_terms()[0].size == 0:
+            tr = self.trains[0]
+            start = np.where(tr.is_exp, tr.a + tr.b, tr.a)
+            end = np.where(tr.is_exp, tr.a + tr.b * np.exp(-tr.length / tr.tau),
+                           tr.a + tr.b * tr.length)
+            v = np.concatenate([start, end])
+            return float(v.min()), float(v.max())
         f0 = self.fundamental_hz
         span = 1.0 / f0 if f0 else T
         span = min(span, 100 * T)
@@ -690,7 +698,7 @@ class Light:
             if duration_s is not None:
                 p = max(1, int(round(duration_s * f0)))
             else:
-                p = max(MIN_PERIODS, int(math.ceil(MIN_DURATION_S * f0)))
+                p = max(PREFERRED_PERIODS, int(math.ceil(MIN_DURATION_S * f0)))
                 p = max(MIN_PERIODS, min(p, max_samples // m))
             if m * p > max_samples and duration_s is None:
                 m_fit = max(MIN_SAMPLES_PER_PERIOD, max_samples // p)
@@ -706,8 +714,9 @@ class Light:
         if duration_s is not None:
             n = int(round(duration_s * fs))
         else:
-            p = max(MIN_PERIODS, int(math.ceil(MIN_DURATION_S * f0)))
-            n = int(round(p * fs / f0))
+            p = max(PREFERRED_PERIODS, int(math.ceil(MIN_DURATION_S * f0)))
+            n = min(int(round(p * fs / f0)), max(max_samples, int(round(MIN_PERIODS * fs / f0))))
+            n = int(round(round(n * f0 / fs) * fs / f0))
         per = n * f0 / fs
         if abs(per - round(per)) > 1e-6:
             notes.append(f"the capture holds {per:.3f} periods, not a whole number")
@@ -731,7 +740,8 @@ class Light:
             or gap, within ``max_samples``.
         duration_s : float, optional
             Capture length [s]; default a whole number of fundamental periods
-            (at least :data:`MIN_PERIODS`, aiming for :data:`MIN_DURATION_S`).
+            (at least :data:`MIN_PERIODS`, aiming for :data:`PREFERRED_PERIODS`
+            and :data:`MIN_DURATION_S`).
         max_samples : int
             Sample budget when rate or length is chosen here.
         label : str
@@ -750,7 +760,9 @@ class Light:
         meta = {"model": self.description, "fundamental_hz": f0,
                 "periods": (n * f0 / fs) if f0 else None, "sampling": "interval average"}
         return make_capture(x, fs, label=label or self.description,
-                            source=f"model: {self.description}", notes=tuple(notes), meta=meta)
+                            source=f"model: {self.description}",
+                            notes=("modelled light, samples are exact interval averages",),
+                            warnings=tuple(notes), meta=meta)
 
 
 # --------------------------------------------------------------------------- models

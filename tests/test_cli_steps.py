@@ -112,11 +112,17 @@ def test_calibration_file(tmp_path, capsys):
 def test_drive_description(tmp_path, capsys):
     drv = tmp_path / "drive.toml"
     drv.write_text('method = "pwm"\nfrequency_hz = 1000.0\noff_level = 0.2\n')  # invented
-    code, out, _ = run(capsys, "-n", "6", "--bits", "8", "--drive", str(drv), "--format",
+    code, out, _ = run(capsys, "-n", "6", "--bits", "8", "--drive-file", str(drv), "--format",
                        "json", "-q")
     assert code == 0
     pf = [s["percent_flicker"] for s in json.loads(out)["steps"][1:-1]]
     assert pf == pytest.approx([100 * 0.8 / 1.2] * len(pf), rel=1e-6)  # analytic: 0.2..1 light
+    code, out, _ = run(capsys, "-n", "6", "--bits", "8", "--pwm-frequency", "1000",
+                       "--off-level", "0.5", "--format", "json", "-q")
+    pf = [s["percent_flicker"] for s in json.loads(out)["steps"][1:-1]]
+    assert pf == pytest.approx([100 * 0.5 / 1.5] * len(pf), rel=1e-6)  # analytic: 0.5..1 light
+    code, _, err = run(capsys, "-n", "6", "--bits", "8", "--off-level", "0.5")
+    assert code == 1 and "needs --pwm-frequency" in err
 
 
 @pytest.mark.parametrize("argv, match", [

@@ -16,7 +16,9 @@ end, steps above a visibility threshold in L*, the lowest lit level, and the
 bits the table would need. With measured light at several counts (a CSV of
 count,light) the table is built on the product's own transfer, so that the
 light, not the duty, is even. With a PWM frequency each step also gets its
-percent flicker, flicker index, IEEE 1789 region and SVM.
+percent flicker, flicker index, IEEE 1789 region and SVM: of ideal on/off
+pulses (exact, vectorised), or, with a drive description (--drive-file or
+the drive options), of the drive model's light through the measurement path.
 
 Duty is count / TOP. A step is flagged visible when its L* step exceeds
 --visible-step (default 2.3, the CIE 1976 JND of Mahy et al. 1994 as kept by
@@ -32,7 +34,9 @@ examples:
   flickerkit steps -n 64 --bits 12 --dark 0.002 --calibration-capture 40=c40.csv \
       --calibration-capture 400=c400.csv --calibration-capture 4095=c4095.csv
   flickerkit steps -n 64 --bits 10 --pwm-frequency 2000 --xlsx table.xlsx
-  flickerkit steps -n 32 --bits 12 --drive driver.toml --target-region no-observable-effect
+  flickerkit steps -n 32 --bits 12 --drive-file driver.toml --target-region no-observable-effect
+  flickerkit steps -n 32 --bits 12 --pwm-frequency 1500 --off-level 0.05 --edges linear \
+      --rise-us 3 --fall-us 3
 
 Flicker figures come from a model of the light, not a measurement; the
 applicable standards, local codes and an accredited laboratory decide
@@ -89,16 +93,14 @@ def add_parser(sub) -> None:
     j.add_argument("--pwm-frequency", type=float, metavar="HZ",
                    help="PWM frequency: adds percent flicker, flicker index, IEEE 1789 region "
                         "and SVM per step, for ideal on/off pulses (exact, vectorised)")
-    j.add_argument("--drive", metavar="DRIVE.toml",
-                   help="drive description (frequency_hz, off_level, [edges], [ripple], ...): "
-                        "per-step flicker of its modelled light through the measurement path "
-                        "(slower: one model per distinct count)")
     j.add_argument("--target-region", choices=("low-risk", "no-observable-effect"),
                    default="low-risk",
                    help="IEEE 1789 region the table should stay in (default low-risk); the "
                         "summary names the first step outside it")
+    from ._driveopts import add_drive_options
     from .measure import add_read_options
 
+    add_drive_options(p, frequency=False)
     add_read_options(p)
     o = p.add_argument_group("output")
     o.add_argument("--format", choices=("table", "csv", "json", "c"), default="table",
@@ -186,7 +188,7 @@ def build(args: argparse.Namespace):
         transfer = read_transfer_csv(args.calibration, top=counter.top)
     elif args.calibration_capture:
         transfer = transfer_from_files(args, counter.top)
-    drive = read_drive(args.drive) if args.drive else None
+    drive = drive_of(args)
     return build_table(
         args.steps, curve,
         min_level=None if args.min_percent is None else args.min_percent / 100.0,
@@ -220,21 +222,26 @@ def transfer_from_files(args: argparse.Namespace, top: int):
     return transfer_from_captures(counts, captures, top=top, source="calibration captures")
 
 
-def read_drive(path: str):
-    """A drive description from a TOML file (see :func:`flickerkit.drive.drive_from_mapping`)."""
-    import tomllib
+#: Options of the shared drive description; any of them selects the drive-model path.
+DRIVE_OPTIONS = ("drive_file", "method", "edges", "rise_us", "fall_us", "delay_us", "min_on_us",
+                 "min_on_mode", "off_level", "ripple", "ripple_shape", "line_hz", "crossover",
+                 "channels", "phases", "counts", "dither_bits")
 
-    from ..drive import drive_from_mapping
-    from ..errors import InputError
 
-    try:
-        with open(path, "rb") as fh:
-            data = tomllib.load(fh)
-    except OSError as exc:
-        raise InputError(f"cannot read ({exc.strerror or exc})", source=path) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML ({exc})", source=path) from None
-    return drive_from_mapping(data, source=path)
+def drive_of(args: argparse.Namespace):
+    """The drive description the options give, or None (ideal PWM at --pwm-frequency)."""
+    if all(getattr(args, k, None) is None for k in DRIVE_OPTIONS):
+        return None
+    from ..errors import SettingsError
+    from ._driveopts import drive_from_args
+
+    if args.pwm_frequency is not None:
+        args.frequency = args.pwm_frequency  # the drive's frequency_hz, over the file's
+    drive = drive_from_args(args)
+    if args.pwm_frequency is None and not args.drive_file:
+        raise SettingsError("a drive description needs --pwm-frequency or a --drive-file "
+                            "with frequency_hz")
+    return drive
 
 
 def settings_record(args: argparse.Namespace) -> dict:
@@ -247,7 +254,7 @@ def settings_record(args: argparse.Namespace) -> dict:
         "calibration captures": ", ".join(args.calibration_capture or []) or None,
         "dark level option": args.dark,
         "visible step [L*]": args.visible_step, "PWM frequency [Hz]": args.pwm_frequency,
-        "drive description": args.drive, "target IEEE 1789 region": args.target_region,
+        "drive file": args.drive_file, "target IEEE 1789 region": args.target_region,
     }
 
 
