@@ -16,7 +16,7 @@ import sys
 from .. import __version__
 
 #: Command modules, in the order ``--help`` lists them.
-COMMANDS = ("measure", "demo", "drive", "plan", "camera")
+COMMANDS = ("measure", "demo", "drive", "plan", "camera", "steps")
 
 _DESCRIPTION = """\
 Temporal light modulation (flicker) of dimmable LED lighting: measure
@@ -25,6 +25,7 @@ record.
 
   flickerkit demo                      invented example product, end to end
   flickerkit measure CAPTURE.csv       percent flicker, flicker index, IEEE 1789 region
+  flickerkit steps -n 64 --bits 12     perceptually even brightness table for a PWM counter
 
 Run 'flickerkit COMMAND --help' for each command's options.
 """

@@ -1,0 +1,174 @@
+"""Filtered percent flicker: percent flicker after removing components above a cut-off.
+
+California's Joint Appendix JA10 (section JA10.6) asks for percent amplitude
+modulation of the unfiltered data and again after the data above 40, 90, 200,
+400 and 1000 Hz have been set to zero in the Fourier domain; JA8 then judges
+"reduced flicker operation" on the result below 200 Hz. This module does that
+step over a whole number of fundamental periods, so the periodic waveform has
+no leakage that would invent components below the cut-off.
+
+A component **exactly at a cut-off is kept**: JA10.6 removes the data *above*
+the cut-off, so "below 1000 Hz" includes a 1000 Hz fundamental. A 1 kHz PWM
+therefore has a 1000 Hz filtered percent flicker; read a borderline case with
+that in mind.
+
+After brick-wall filtering the waveform can dip below zero, so filtered
+percent flicker can exceed 100 % (a 50 % PWM keeps only its fundamental below
+200 Hz when it runs at 120 Hz: 4/pi = 127.3 %).
+
+References
+----------
+California Energy Commission, 2022 Reference Appendices, Joint Appendix JA10,
+"Test method for measuring flicker of lighting systems and reporting
+requirements", sections JA10.5 (data collection) and JA10.6 (calculations).
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass
+
+import numpy as np
+
+from .errors import CaptureWarning
+from .periodicity import Periodicity, fundamental_frequency
+from .spectrum import whole_period_span
+
+#: Cut-off frequencies of JA10.6 [Hz].
+JA10_CUTOFFS_HZ = (40.0, 90.0, 200.0, 400.0, 1000.0)
+
+#: Relative tolerance with which a bin "at" a cut-off is recognised as such.
+_AT_CUTOFF_RTOL = 1e-9
+
+
+@dataclass(frozen=True)
+class FilteredFlicker:
+    """Percent flicker of a capture after low-pass filtering at each cut-off.
+
+    Attributes
+    ----------
+    cutoffs_hz : tuple of float
+        Cut-off frequencies; components at or below each are kept [Hz].
+    percent_flicker : tuple of float
+        ``100 (max - min) / (max + min)`` of the filtered waveform, per cut-off
+        [percent]; NaN where ``max + min <= 0``.
+    whole_periods : int
+        Whole fundamental periods the Fourier transform spanned (0: the whole
+        capture, no period found).
+    n_samples : int
+        Samples transformed.
+    warnings : tuple of str
+        Doubts about the figures (also issued as :class:`CaptureWarning`).
+    """
+
+    cutoffs_hz: tuple[float, ...]
+    percent_flicker: tuple[float, ...]
+    whole_periods: int
+    n_samples: int
+    warnings: tuple[str, ...] = ()
+
+    def as_mapping(self) -> dict[str, float]:
+        """``{"40": pf, "90": pf, ...}``: cut-off [Hz] as text -> percent flicker [percent]."""
+        return {f"{c:g}": v for c, v in zip(self.cutoffs_hz, self.percent_flicker)}
+
+    def to_dict(self) -> dict:
+        """Plain-type dictionary for JSON output (NaN becomes None)."""
+        return {
+            "cutoffs_hz": list(self.cutoffs_hz),
+            "percent_flicker": [None if not np.isfinite(v) else v for v in self.percent_flicker],
+            "whole_periods": self.whole_periods,
+            "n_samples": self.n_samples,
+            "component_at_cutoff": "kept",
+            "warnings": list(self.warnings),
+        }
+
+
+def filtered_percent_flicker(
+    samples: np.ndarray,
+    sample_rate_hz: float,
+    period: Periodicity | None = None,
+    *,
+    cutoffs_hz: tuple[float, ...] | list[float] = JA10_CUTOFFS_HZ,
+) -> FilteredFlicker:
+    """Percent flicker after removing the components above each cut-off (JA10.6).
+
+    Parameters
+    ----------
+    samples : numpy.ndarray
+        1-D light signal, linear, dark level removed [arbitrary linear unit].
+    sample_rate_hz : float
+        Sample rate [Hz].
+    period : Periodicity, optional
+        The fundamental, from
+        :func:`~flickerkit.periodicity.fundamental_frequency`; found here if
+        not given.
+    cutoffs_hz : sequence of float, optional
+        Cut-offs [Hz]; default 40, 90, 200, 400, 1000.
+
+    Returns
+    -------
+    FilteredFlicker
+
+    Warns
+    -----
+    CaptureWarning
+        When no whole period was found (the whole capture is transformed, and
+        leakage may add spurious low-frequency content), or a cut-off lies at
+        or above the Nyquist frequency (nothing is removed there).
+
+    Notes
+    -----
+    Over the span of P whole periods (N samples): ``X = rfft(x)``; for each
+    cut-off f_c the bins with ``f_k > f_c`` are set to zero (a bin within a
+    relative 1e-9 of f_c counts as at the cut-off and is kept), ``y = irfft(X)``
+    and ``PF = 100 (max y - min y) / (max y + min y)``.
+
+    References
+    ----------
+    California Energy Commission, Joint Appendix JA10, section JA10.6.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> t = np.arange(20000) / 20000.0
+    >>> x = 1 + 0.3 * np.cos(2 * np.pi * 120 * t) + 0.1 * np.cos(2 * np.pi * 360 * t)
+    >>> r = filtered_percent_flicker(x, 20000.0)
+    >>> [round(v, 3) for v in r.percent_flicker]
+    [0.0, 0.0, 30.0, 40.0, 40.0]
+    """
+    from scipy import fft
+
+    x = np.asarray(samples, dtype=np.float64)
+    fs = float(sample_rate_hz)
+    cutoffs = tuple(float(c) for c in cutoffs_hz)
+    if period is None:
+        period = fundamental_frequency(x, fs)
+    notes: list[str] = []
+    n_span, p = whole_period_span(x.shape[0], period)
+    if p >= 1:
+        seg = x[:n_span]
+    else:
+        seg = x
+        notes.append("filtered percent flicker over the whole capture because no whole period "
+                     "was found (" + (period.reason or "no period") + "); leakage may add "
+                     "spurious components below the cut-offs")
+    n = seg.shape[0]
+    spec = fft.rfft(seg)
+    freqs = np.arange(spec.shape[0]) * (fs / n)
+    nyquist = fs / 2.0
+    out = []
+    work = np.zeros_like(spec)
+    for fc in cutoffs:
+        if fc >= nyquist:
+            notes.append(f"cut-off {fc:g} Hz is at or above the Nyquist frequency "
+                         f"{nyquist:g} Hz; nothing is removed there")
+        keep = freqs <= fc * (1.0 + _AT_CUTOFF_RTOL)
+        work[:] = 0.0
+        work[keep] = spec[keep]
+        y = fft.irfft(work, n)
+        hi, lo = float(y.max()), float(y.min())
+        out.append(100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan"))
+    for note in notes:
+        warnings.warn(note, CaptureWarning, stacklevel=2)
+    return FilteredFlicker(cutoffs_hz=cutoffs, percent_flicker=tuple(out), whole_periods=int(p),
+                           n_samples=int(n), warnings=tuple(notes))
