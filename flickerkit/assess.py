@@ -180,6 +180,8 @@ class Assessment:
                 for h in self.harmonics
             ],
             "spectrum_window": self.spectrum.window,
+            "input": {k: self.meta[k] for k in ("file", "format", "column", "dark_level",
+                                                 "file_size_bytes") if k in self.meta},
             "warnings": list(self.warnings),
             "notes": list(self.notes),
         }

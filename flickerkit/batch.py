@@ -73,7 +73,7 @@ def default_workers() -> int:
 
 def measure_many(
     paths: Sequence[str],
-    options: ReadOptions,
+    options: ReadOptions | Sequence[ReadOptions],
     settings: AssessSettings,
     *,
     workers: int | None = None,
@@ -86,7 +86,9 @@ def measure_many(
     ----------
     paths : sequence of str
         Capture files.
-    options, settings
+    options : ReadOptions or sequence of ReadOptions
+        Reading options for every path, or one per path.
+    settings : AssessSettings
         Passed to every :func:`measure_one`.
     workers : int, optional
         Local worker processes; default :func:`default_workers`. 1 runs in
@@ -108,7 +110,10 @@ def measure_many(
         Passed on after pending work is cancelled; outcomes received so far
         were handed to ``on_result``.
     """
-    jobs = [(str(p), options, settings) for p in paths]
+    per_path = [options] * len(paths) if isinstance(options, ReadOptions) else list(options)
+    if len(per_path) != len(paths):
+        raise ValueError("give one ReadOptions, or one per path")
+    jobs = [(str(p), o, settings) for p, o in zip(paths, per_path)]
     if scheduler:
         return _on_dask(jobs, scheduler, on_result)
     n = workers if workers is not None else default_workers()

@@ -16,7 +16,7 @@ import sys
 from .. import __version__
 
 #: Command modules, in the order ``--help`` lists them.
-COMMANDS = ("measure", "demo", "drive", "plan", "camera", "steps")
+COMMANDS = ("measure", "report", "demo", "drive", "plan", "camera", "steps")
 
 _DESCRIPTION = """\
 Temporal light modulation (flicker) of dimmable LED lighting: measure

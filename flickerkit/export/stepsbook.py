@@ -49,18 +49,39 @@ def write_steps_workbook(path: str | Path, table: Any, settings: dict[str, Any],
         Replace an existing file.
     """
     from openpyxl import Workbook
+
+    wb = Workbook()
+    set_properties(wb, "flickerkit brightness table", "Brightness steps for a PWM counter")
+    add_steps_sheets(wb, table, settings, summary_sheet=wb.active)
+
+    def save(tmp: Path) -> None:
+        wb.save(tmp)
+
+    return write_with(path, save, force=force)
+
+
+def add_steps_sheets(wb, table: Any, settings: dict[str, Any], *, summary_sheet=None,
+                     summary_title: str = "Summary", steps_title: str = "Steps") -> None:
+    """Add the brightness table's summary (with its L* chart) and steps sheets to ``wb``.
+
+    Parameters
+    ----------
+    wb : openpyxl.Workbook
+    table : StepTable
+    settings : dict
+        Settings to record.
+    summary_sheet : Worksheet, optional
+        Sheet to use for the summary (default: a new sheet ``summary_title``).
+    """
     from openpyxl.chart import Reference, ScatterChart, Series
     from openpyxl.styles import Alignment, Font
 
     rows = table.rows()
     summary = table.summary()
     present = [c for c in STEP_COLUMNS if c[1] in rows[0]]
-
-    wb = Workbook()
-    ws_sum = wb.active
-    ws_sum.title = "Summary"
-    ws = wb.create_sheet("Steps")
-    set_properties(wb, "flickerkit brightness table", "Brightness steps for a PWM counter")
+    ws_sum = summary_sheet if summary_sheet is not None else wb.create_sheet(summary_title)
+    ws_sum.title = summary_title
+    ws = wb.create_sheet(steps_title)
 
     def cell_value(row: dict, key: str) -> Any:
         v = row.get(key)
@@ -119,11 +140,6 @@ def write_steps_workbook(path: str | Path, table: Any, settings: dict[str, Any],
     chart.series.append(s)
     chart.height, chart.width = 10, 18
     ws_sum.add_chart(chart, "D3")
-
-    def save(tmp: Path) -> None:
-        wb.save(tmp)
-
-    return write_with(path, save, force=force)
 
 
 def _summary_lines(table: Any, s: dict) -> list[tuple[str, Any]]:

@@ -1,0 +1,115 @@
+"""``flickerkit report``: judge a product against criteria and write the record."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+HELP = "judge a product's captures (or drive) against criteria and write the workbook record"
+
+DESCRIPTION = """\
+Read a project file (TOML: the product, the measurement set-up, the captures
+with their dimming levels -- or a drive model -- the criteria to apply and an
+optional brightness table), measure every capture in parallel, judge each
+against each criterion, and write the record as a workbook: summary with the
+overall verdict and cautions, verdicts, metrics, harmonics, an IEEE 1789 chart,
+metrics by level, the brightness table, inputs with SHA-256, and method notes.
+
+A folder of captures works too: every capture file in it is measured, with the
+dimming level read from names like ..._level050.csv or ..._50pct.csv.
+
+Criteria (ids for [criteria] apply = [...]):
+  ieee1789-low-risk, ieee1789-noel, eu-2019-2020-svm, eu-2019-2020-pst,
+  ca-title24-ja8, seizure-screen-below-90hz, nema77-guidance-svm,
+  nema77-guidance-pst (see README.md for sources and confidence)
+
+examples:
+  flickerkit report ardent12.toml -o ardent12_record.xlsx
+  flickerkit report captures/ -o record.xlsx --force --json > verdicts.json
+"""
+
+
+def add_parser(sub) -> None:
+    from .measure import add_batch_options
+
+    p = sub.add_parser("report", help=HELP, description=DESCRIPTION,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("project", metavar="PROJECT", help="project file (.toml) or folder of captures")
+    p.add_argument("-o", "--output", metavar="WORKBOOK.xlsx", required=True,
+                   help="workbook to write")
+    p.add_argument("--force", action="store_true", help="replace an existing workbook")
+    p.add_argument("--json", action="store_true",
+                   help="print the verdicts and figures as JSON instead of the table")
+    p.add_argument("-q", "--quiet", action="store_true", help="no progress bar on stderr")
+    add_batch_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from ..errors import SettingsError
+    from ..fileio import check_writable
+
+    if args.workers is not None and args.workers < 1:
+        raise SettingsError("--workers must be at least 1")
+    check_writable(args.output, force=args.force)
+    from ..project import load_project
+    from ..report import build_report
+
+    project = load_project(args.project)
+    bar = None
+    if not args.quiet:
+        from tqdm import tqdm
+
+        total = len(project.captures) or len(project.drive_levels)
+        bar = tqdm(total=total, file=sys.stderr, disable=None, leave=False,
+                   unit="capture" if project.captures else "level")
+
+    def tick(_):
+        if bar is not None:
+            bar.update(1)
+
+    def levels(it):
+        for x in it:
+            yield x
+            tick(x)
+
+    try:
+        report = build_report(project, workers=args.workers, on_result=tick, on_level=levels)
+    except KeyboardInterrupt:
+        raise KeyboardInterrupt("no workbook was written") from None
+    finally:
+        if bar is not None:
+            bar.close()
+    from ..export.report_workbook import write_report_workbook
+
+    write_report_workbook(args.output, report, force=args.force)
+    if args.json:
+        from ..export.jsonout import dumps
+
+        sys.stdout.write(dumps(report.to_dict()))
+    else:
+        sys.stdout.write(verdict_table(report))
+    for label, err in report.failures:
+        print(f"flickerkit: error: {err}", file=sys.stderr)
+    print(f"workbook written: {args.output}", file=sys.stderr)
+    from ..report import CAUTIONS
+
+    print("\n".join(f"caution: {c}" for c in CAUTIONS), file=sys.stderr if args.json else sys.stdout)
+    return 1 if report.failures else 0
+
+
+def verdict_table(report) -> str:
+    from ..export.table import fmt, render
+
+    prod = report.project.product
+    out = [f"{prod.get('name', '')}" + (f" ({prod['model']})" if prod.get("model") else ""),
+           f"judged on {report.project.judged_on.isoformat()}; overall: "
+           f"{report.overall.upper()}", ""]
+    rows = []
+    for v in report.verdicts:
+        rows.append([v.criterion, v.label, fmt(v.level, "g"), v.status, fmt(v.measured, ".4g"),
+                     fmt(v.limit, ".4g"), fmt(v.margin, "+.3g"), v.reason])
+    out.append(render(["criterion", "capture", "level [%]", "verdict", "measured", "limit",
+                       "margin", "reason"], rows,
+                      right=[False, False, True, False, True, True, True, False]))
+    return "\n".join(out)

@@ -1,0 +1,326 @@
+"""The compliance record: a workbook a laboratory can file.
+
+Sheets: Summary (product, overall verdict, verdict per criterion and level,
+cautions), Verdicts (every verdict with figure, limit, margin and reason),
+Metrics (all figures per capture or level), Harmonics, IEEE 1789 chart
+(log-log boundary lines and each capture's point), Metrics by level (with a
+chart), Brightness table (when requested), Inputs (files, sizes, SHA-256,
+rates, durations, dark level, version, settings, time of the run) and Method
+notes. Every value is computed in Python and written as a value; text from
+inputs is always written as text.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+import numpy as np
+
+from .. import __version__
+from ..fileio import write_with
+from .workbook import MEASURE_COLUMNS, lookup, put, set_properties, write_rows
+
+STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "insufficient data": "FFEB9C",
+               "not applicable": "E7E6E6"}
+STATUS_FONT = {"pass": "006100", "fail": "9C0006", "insufficient data": "9C5700",
+               "not applicable": "595959"}
+
+REPORT_COLUMNS: tuple[tuple[str, str], ...] = (
+    ("Capture", "label"),
+    ("Dimming level [%]", "level"),
+    *MEASURE_COLUMNS[1:4],
+    ("Percent flicker, period-averaged [%]", "percent_flicker_averaged"),
+    ("SVM [1]", "svm"),
+    ("Pst LM [1]", "pst_lm"),
+    *[(f"Filtered percent flicker below {c:g} Hz [%]", f"filtered_percent_flicker.{c:g}")
+      for c in (40, 90, 200, 400, 1000)],
+    *MEASURE_COLUMNS[4:],
+)
+
+METHOD_NOTES: tuple[tuple[str, str, str], ...] = (
+    ("Percent flicker", "IEEE Std 1789-2015 (Mod%); CIE ILV 17-39; California JA10.6",
+     "100 (max - min)/(max + min) over whole periods of the fundamental. Sourced definition."),
+    ("Flicker index", "IES Lighting Handbook 5.9.9.4; IEC 60050-845 IEV 845-22-094",
+     "Area above the mean over total area, over an integer number of periods. Sourced "
+     "definition. On sampled data its bias is about 1/(samples per period)."),
+    ("Fundamental frequency", "this project",
+     "Autocorrelation of the mean-removed signal, refined at multiples of the period (or by a "
+     "least-squares harmonic fit for short captures)."),
+    ("IEEE 1789 regions", "IEEE Std 1789-2015, clause 8, Recommended Practices 1 and 2",
+     "Low risk: Mod% < 0.025 f below 90 Hz, < 0.08 f to 1250 Hz. No observable effect: "
+     "< 0.01 f, < 0.0333 f to 3000 Hz. RECALLED, not read in the standard (internally "
+     "consistent). The per-harmonic mode is this project's extension."),
+    ("SVM", "CIE TN 006:2016; IEC TR 63158:2018 (+COR1); Perz et al., JOSA A 35(2) 309 (2018)",
+     "(sum (C_m / T(f_m))^3.7)^(1/3.7) over components up to 2 kHz, over whole periods. "
+     "Default threshold T(f) = 2.865e-5 f^1.543 + 0.225 (sourced power form); which form IEC TR "
+     "63158 makes normative is UNRESOLVED."),
+    ("Pst LM", "IEC TR 61547-1:2020, built on the IEC 61000-4-15 flickermeter",
+     "Shared IEC 61000-4-15 blocks (recalled and numerically cross-checked); the light-domain "
+     "weighting and scaling constants of IEC TR 61547-1 were not available: the calibration "
+     "used is PROVISIONAL and named in the Inputs sheet."),
+    ("Filtered percent flicker", "California 2022 Reference Appendices, JA10.6",
+     "Percent flicker after setting the Fourier components above 40, 90, 200, 400 and 1000 Hz "
+     "to zero; a component exactly at a cut-off is kept."),
+    ("Noise floor", "this project",
+     "Percent flicker that the measured white noise alone would show on steady light "
+     "(sigma sqrt(2 ln n)/mean)."),
+)
+
+
+def _style_status(cell, status: str) -> None:
+    from openpyxl.styles import Font, PatternFill
+
+    if status in STATUS_FILL:
+        cell.fill = PatternFill("solid", start_color=STATUS_FILL[status],
+                                end_color=STATUS_FILL[status])
+        cell.font = Font(bold=True, color=STATUS_FONT[status])
+
+
+def write_report_workbook(path: str | Path, report, *, force: bool = False) -> Path:
+    """Write a :class:`~flickerkit.report.Report` as a workbook, atomically."""
+    from openpyxl import Workbook
+    from openpyxl.styles import Alignment, Font
+
+    from ..report import CAUTIONS
+
+    wb = Workbook()
+    prod = report.project.product
+    set_properties(wb, f"Flicker record: {prod.get('name', '')}",
+                   "Temporal light modulation assessment")
+    wb.properties.category = "flicker assessment"
+
+    # ---------------------------------------------------------------- summary
+    ws = wb.active
+    ws.title = "Summary"
+    bold = Font(bold=True)
+    put(ws, 1, 1, "Temporal light modulation record").font = Font(bold=True, size=14)
+    r = 3
+    for key in ("name", "model", "maker", "description"):
+        if key in prod:
+            put(ws, r, 1, key.capitalize()).font = bold
+            put(ws, r, 2, prod[key])
+            r += 1
+    put(ws, r, 1, "Judged on").font = bold
+    put(ws, r, 2, report.project.judged_on.isoformat())
+    r += 1
+    put(ws, r, 1, "Overall verdict").font = Font(bold=True, size=12)
+    c = put(ws, r, 2, report.overall.upper())
+    _style_status(c, report.overall)
+    r += 2
+    labels = list(dict.fromkeys(v.label for v in report.verdicts))
+    by_key = {(v.criterion, v.label): v for v in report.verdicts}
+    put(ws, r, 1, "Criterion").font = bold
+    rec_level = {rec["label"]: rec.get("level") for rec in report.records}
+    for j, label in enumerate(labels, start=2):
+        lv = rec_level.get(label)
+        head = f"{label}" + (f" ({lv:g} %)" if isinstance(lv, (int, float)) else "")
+        h = put(ws, r, j, head)
+        h.font = bold
+        h.alignment = Alignment(wrap_text=True)
+    header_row = r
+    for crit in report.criteria:
+        r += 1
+        put(ws, r, 1, f"{crit.title} [{crit.id}]")
+        for j, label in enumerate(labels, start=2):
+            v = by_key.get((crit.id, label))
+            if v is None:
+                continue
+            _style_status(put(ws, r, j, v.status), v.status)
+    ws.freeze_panes = ws.cell(row=header_row + 1, column=2)
+    r += 2
+    put(ws, r, 1, "Cautions").font = bold
+    for text in CAUTIONS:
+        r += 1
+        cell = put(ws, r, 1, text)
+        cell.alignment = Alignment(wrap_text=True, vertical="top")
+        ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=max(6, len(labels) + 1))
+        ws.row_dimensions[r].height = 45
+    ws.column_dimensions["A"].width = 58
+    for j in range(2, len(labels) + 2):
+        ws.column_dimensions[ws.cell(row=1, column=j).column_letter].width = 22
+
+    # ---------------------------------------------------------------- verdicts
+    vs = wb.create_sheet("Verdicts")
+    crit_by_id = {c.id: c for c in report.criteria}
+    rows = []
+    for v in report.verdicts:
+        c = crit_by_id.get(v.criterion)
+        rows.append([v.criterion, c.title if c else "", v.label, v.level, v.status, v.measured,
+                     v.limit, v.margin, c.unit if c else "", v.reason,
+                     c.source if c else "", c.confidence if c else ""])
+    last = write_rows(vs, ["Criterion", "Title", "Capture", "Dimming level [%]", "Verdict",
+                           "Measured", "Limit", "Margin (positive = inside)", "Unit", "Reason",
+                           "Source", "Confidence in the limit"], rows,
+                      widths=[24, 40, 26, 10, 16, 12, 10, 14, 6, 60, 50, 12])
+    for i in range(2, last + 1):
+        _style_status(vs.cell(row=i, column=5), vs.cell(row=i, column=5).value)
+
+    # ---------------------------------------------------------------- metrics
+    ms = wb.create_sheet("Metrics")
+    write_rows(ms, [h for h, _ in REPORT_COLUMNS],
+               ([lookup(rec, key) for _, key in REPORT_COLUMNS] for rec in report.records),
+               widths=[max(12, min(30, len(h) + 2)) for h, _ in REPORT_COLUMNS])
+
+    hs = wb.create_sheet("Harmonics")
+    hrows = []
+    for rec in report.records:
+        for h in rec.get("harmonics") or []:
+            hrows.append([rec["label"], rec.get("level"), h["order"], h["frequency_hz"],
+                          h["amplitude"], None if h["amplitude"] is None else 100 * h["amplitude"],
+                          h["phase_deg"]])
+    write_rows(hs, ["Capture", "Dimming level [%]", "Harmonic order", "Frequency [Hz]",
+                    "Amplitude / mean [1]", "Amplitude / mean [%]", "Phase [deg]"], hrows,
+               widths=[26, 12, 10, 14, 18, 18, 12])
+
+    _ieee_chart_sheet(wb, report.records)
+    _level_sheet(wb, report.records)
+    if report.steps is not None:
+        from .stepsbook import add_steps_sheets
+
+        add_steps_sheets(wb, report.steps, dict(report.project.steps or {}),
+                         summary_title="Brightness table", steps_title="Brightness steps")
+
+    # ---------------------------------------------------------------- inputs
+    ins = wb.create_sheet("Inputs")
+    keys = ["label", "level", "file", "status", "size_bytes", "sha256", "sample_rate_hz",
+            "duration_s", "n_samples", "column", "dark_level", "dark_file", "dark_sha256",
+            "description"]
+    heads = ["Capture", "Dimming level [%]", "File", "Status", "Size [bytes]", "SHA-256",
+             "Sample rate [Hz]", "Duration [s]", "Samples", "Column", "Dark level [input unit]",
+             "Dark capture", "Dark capture SHA-256", "Model"]
+    last = write_rows(ins, heads, ([i.get(k) for k in keys] for i in report.inputs),
+                      widths=[24, 10, 50, 22, 12, 66, 14, 12, 12, 14, 14, 40, 66, 60])
+    r = last + 2
+    put(ins, r, 1, "Setting").font = bold
+    put(ins, r, 2, "Value").font = bold
+    settings = {**report.settings, "run at": report.run_at, "tool": f"flickerkit {__version__}"}
+    for rec in report.records[:1]:
+        if rec.get("pst_lm_calibration"):
+            settings["Pst LM calibration"] = str(rec["pst_lm_calibration"])
+    for k, v in settings.items():
+        r += 1
+        put(ins, r, 1, str(k))
+        put(ins, r, 2, v if isinstance(v, (int, float)) or v is None else str(v))
+    for rec in report.records:
+        for n in rec.get("notes") or []:
+            r += 1
+            put(ins, r, 1, f"note: {rec['label']}")
+            put(ins, r, 2, n)
+        for w in rec.get("warnings") or []:
+            r += 1
+            put(ins, r, 1, f"warning: {rec['label']}")
+            put(ins, r, 2, w)
+    for label, err in report.failures:
+        r += 1
+        put(ins, r, 1, f"not measured: {label}")
+        put(ins, r, 2, err)
+
+    # ---------------------------------------------------------------- method notes
+    ns = wb.create_sheet("Method notes")
+    nrows = [list(n) for n in METHOD_NOTES]
+    nrows += [[f"Criterion {c.id}", c.source, f"{c.note} Applies to: {c.applies_to}. "
+               f"Confidence: {c.confidence}." + (f" Exemptions: {c.exemptions}." if c.exemptions
+                                                 else "")] for c in report.criteria]
+    write_rows(ns, ["Item", "Source", "How, and how sure"], nrows, widths=[30, 60, 120])
+
+    def save(tmp: Path) -> None:
+        wb.save(tmp)
+
+    return write_with(path, save, force=force)
+
+
+def _ieee_chart_sheet(wb, records) -> None:
+    """Boundary lines of IEEE 1789 and each capture's point, on log-log axes."""
+    from openpyxl.chart import Reference, ScatterChart, Series
+
+    from ..ieee1789 import low_risk_limit_percent, noel_limit_percent
+
+    ws = wb.create_sheet("IEEE 1789 chart")
+    f = np.geomspace(1.0, 10_000.0, 161)
+    f = np.sort(np.concatenate([f, [89.999, 90.0, 1250.0, 1250.01, 3000.0, 3000.01]]))
+    lr = np.minimum(low_risk_limit_percent(f), 100.0)
+    noel = np.minimum(noel_limit_percent(f), 100.0)
+    write_rows(ws, ["Frequency [Hz]", "Low-risk limit [%] (100 = no restriction)",
+                    "NOEL limit [%] (100 = no restriction)"],
+               ([float(a), float(b), float(c)] for a, b, c in zip(f, lr, noel)),
+               widths=[16, 36, 36])
+    n = f.size
+    pts = [(rec.get("frequency_hz"), rec.get("percent_flicker"), rec["label"])
+           for rec in records if rec.get("frequency_hz") and rec.get("percent_flicker")]
+    put(ws, 1, 5, "Capture")
+    put(ws, 1, 6, "Frequency [Hz]")
+    put(ws, 1, 7, "Percent flicker [%]")
+    for i, (fx, pf, label) in enumerate(pts, start=2):
+        put(ws, i, 5, label)
+        put(ws, i, 6, float(fx))
+        put(ws, i, 7, float(max(pf, 1e-3)))
+
+    ch = ScatterChart()
+    ch.title = "IEEE 1789-2015 boundaries (recalled) and captures"
+    ch.style = 13
+    ch.x_axis.title = "Modulation frequency [Hz]"
+    ch.y_axis.title = "Percent flicker [%]"
+    ch.x_axis.scaling.logBase = 10
+    ch.y_axis.scaling.logBase = 10
+    ch.x_axis.scaling.min, ch.x_axis.scaling.max = 1, 10_000
+    ch.y_axis.scaling.min, ch.y_axis.scaling.max = 0.01, 200
+    ch.x_axis.delete = False
+    ch.y_axis.delete = False
+    ch.legend.position = "b"
+    xs = Reference(ws, min_col=1, min_row=2, max_row=n + 1)
+    for col, title, colour in ((2, "Low-risk boundary", "C00000"), (3, "NOEL boundary", "2F5597")):
+        s = Series(Reference(ws, min_col=col, min_row=2, max_row=n + 1), xs, title=title)
+        s.marker.symbol = "none"
+        s.smooth = False
+        s.graphicalProperties.line.solidFill = colour
+        s.graphicalProperties.line.width = 22000
+        ch.series.append(s)
+    if pts:
+        s = Series(Reference(ws, min_col=7, min_row=2, max_row=len(pts) + 1),
+                   Reference(ws, min_col=6, min_row=2, max_row=len(pts) + 1), title="Captures")
+        s.marker.symbol = "circle"
+        s.marker.size = 8
+        s.graphicalProperties.line.noFill = True
+        ch.series.append(s)
+    ch.height, ch.width = 12, 22
+    ws.add_chart(ch, "I2")
+
+
+def _level_sheet(wb, records) -> None:
+    """Metrics against dimming level, with a chart."""
+    from openpyxl.chart import Reference, ScatterChart, Series
+
+    ws = wb.create_sheet("Metrics by level")
+    rows = sorted((r for r in records if isinstance(r.get("level"), (int, float))),
+                  key=lambda r: -r["level"])
+    heads = ["Dimming level [%]", "Percent flicker [%]", "Flicker index [1]", "SVM [1]",
+             "Pst LM [1]", "Fundamental frequency [Hz]"]
+    keys = ["level", "percent_flicker", "flicker_index", "svm", "pst_lm", "frequency_hz"]
+    last = write_rows(ws, heads, ([lookup(r, k) for k in keys] for r in rows),
+                      widths=[16, 18, 16, 10, 10, 22])
+    if not rows:
+        return
+    ch = ScatterChart()
+    ch.title = "Percent flicker and SVM against dimming level"
+    ch.style = 13
+    ch.x_axis.title = "Dimming level [%]"
+    ch.y_axis.title = "Percent flicker [%] / SVM x 100"
+    ch.x_axis.delete = False
+    ch.y_axis.delete = False
+    ch.legend.position = "b"
+    xs = Reference(ws, min_col=1, min_row=2, max_row=last)
+    s = Series(Reference(ws, min_col=2, min_row=2, max_row=last), xs, title="Percent flicker [%]")
+    s.marker.symbol = "circle"
+    s.smooth = False
+    ch.series.append(s)
+    # SVM scaled for one axis: a helper column
+    put(ws, 1, 8, "SVM x 100 (chart helper)")
+    for i, r in enumerate(rows, start=2):
+        svm = lookup(r, "svm")
+        put(ws, i, 8, None if svm is None else float(svm) * 100.0)
+    s2 = Series(Reference(ws, min_col=8, min_row=2, max_row=last), xs, title="SVM x 100")
+    s2.marker.symbol = "triangle"
+    s2.smooth = False
+    ch.series.append(s2)
+    ch.height, ch.width = 10, 20
+    ws.add_chart(ch, "J2")
+

@@ -1,0 +1,256 @@
+"""The project file: one TOML file describing a product's flicker record.
+
+Layout (every table but ``[product]`` and one of ``[[capture]]``/``[captures]``/
+``[drive]`` is optional; paths are relative to the project file)::
+
+    [product]
+    name = "Ardent 12 downlight"
+    model = "AR12-830-H"
+    maker = "Fenlight Works"
+    description = "12 W LED downlight, hybrid driver"
+
+    [setup]                      # the measurement set-up, recorded as given
+    detector = "Si photodiode, transimpedance amplifier"
+    bandwidth_hz = 100000
+    distance_m = 0.5
+    ambient = "dark room, 23 C"
+    operator = "J. Doe"
+    judged_on = 2026-11-20       # date the criteria are judged at (default: today)
+
+    [read]                       # how to read every capture (per-capture keys win)
+    dark = "dark.csv"            # a level, or a dark capture file
+    column = "photodiode (V)"
+    sample_rate_hz = 50000       # for files without time
+
+    [[capture]]
+    level = 100                  # dimming level [% of full output]
+    file = "level100.csv"
+    column = "CH1"               # optional
+    label = "full output"        # optional
+
+    [captures]                   # or: every matching file, level from the name
+    glob = "caps/*.csv"          # (..._level050.csv, ..._50pct.csv)
+
+    [drive]                      # or: a modelled drive instead of captures
+    method = "hybrid"            # see `flickerkit drive --help` for the keys
+    frequency_hz = 1200
+    levels = [100, 50, 20, 5, 1] # dimming levels [%]
+
+    [criteria]
+    apply = ["ieee1789-low-risk", "eu-2019-2020-svm"]   # default: the standard set
+    file = "house-rules.toml"    # user criteria ([[criterion]] tables)
+
+    [analysis]
+    ieee1789_mode = "fundamental"
+
+    [steps]                      # optional brightness table request
+    steps = 64
+    curve = "cie1976"
+    bits = 12
+    min = 0.1                    # lowest lit level [%]
+    pwm_frequency_hz = 1200
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Mapping
+
+from .errors import SettingsError
+
+_TOP_KEYS = {"product", "setup", "read", "capture", "captures", "drive", "criteria", "analysis",
+             "steps"}
+_PRODUCT_KEYS = {"name", "model", "maker", "description"}
+_READ_KEYS = {"dark", "column", "sample_rate_hz", "time_unit", "resample", "fill_gaps"}
+_CAPTURE_KEYS = _READ_KEYS | {"level", "file", "label"}
+_CRITERIA_KEYS = {"apply", "file"}
+_ANALYSIS_KEYS = {"ieee1789_mode", "harmonics"}
+_STEPS_KEYS = {"steps", "curve", "bits", "top", "min", "max", "off", "gamma", "min_count",
+               "pwm_frequency_hz", "rounding", "visible_step", "target_region"}
+CAPTURE_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".wav", ".npy")
+_LEVEL_IN_NAME = (re.compile(r"(?:level|lvl|dim)[ _-]?(\d+(?:[.p]\d+)?)", re.I),
+                  re.compile(r"(\d+(?:[.p]\d+)?)\s*(?:%|pct|percent)", re.I))
+
+
+@dataclass(frozen=True)
+class CaptureEntry:
+    """One capture listed by a project."""
+
+    file: Path
+    level: float | None
+    label: str
+    read: dict[str, Any]
+
+
+@dataclass(frozen=True)
+class Project:
+    """A parsed, validated project file."""
+
+    path: Path
+    product: dict[str, str]
+    setup: dict[str, Any]
+    captures: tuple[CaptureEntry, ...]
+    drive: dict[str, Any] | None
+    drive_levels: tuple[float, ...]
+    criteria_ids: tuple[str, ...] | None
+    criteria_file: Path | None
+    analysis: dict[str, Any]
+    steps: dict[str, Any] | None
+    judged_on: _dt.date
+    raw: dict[str, Any] = field(repr=False, default_factory=dict)
+
+
+def _unknown(table: Mapping[str, Any], known: set[str], where: str) -> None:
+    extra = sorted(set(table) - known)
+    if extra:
+        raise SettingsError(f"{where}: unknown key(s) {', '.join(extra)}; known: "
+                            f"{', '.join(sorted(known))}")
+
+
+def _table(data: Mapping[str, Any], name: str, where: str) -> dict[str, Any]:
+    t = data.get(name, {})
+    if not isinstance(t, Mapping):
+        raise SettingsError(f"{where}: [{name}] must be a table")
+    return dict(t)
+
+
+def level_from_name(name: str) -> float | None:
+    """Dimming level [%] written in a file name (``_level050``, ``_50pct``), if any."""
+    for pattern in _LEVEL_IN_NAME:
+        m = pattern.search(name)
+        if m:
+            return float(m.group(1).replace("p", "."))
+    return None
+
+
+def _level(value: Any, where: str) -> float:
+    try:
+        lv = float(value)
+    except (TypeError, ValueError):
+        raise SettingsError(f"{where}: level must be a number of percent, got {value!r}") from None
+    if not 0 < lv <= 100:
+        raise SettingsError(f"{where}: level {lv:g} % is outside 0-100 %")
+    return lv
+
+
+def load_project(path: str | Path) -> Project:
+    """Read and validate a project file.
+
+    Raises
+    ------
+    SettingsError
+        Naming the file, the table and the key that is wrong.
+    """
+    import tomllib
+
+    p = Path(path)
+    where = str(p)
+    try:
+        data = tomllib.loads(p.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise SettingsError(f"{where}: no such file") from None
+    except IsADirectoryError:
+        return project_from_folder(p)
+    except UnicodeDecodeError:
+        raise SettingsError(f"{where}: not a text (TOML) file") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise SettingsError(f"{where}: not valid TOML ({exc})") from None
+    _unknown(data, _TOP_KEYS, where)
+    base = p.parent
+    product = _table(data, "product", where)
+    _unknown(product, _PRODUCT_KEYS, f"{where} [product]")
+    if not str(product.get("name", "")).strip():
+        raise SettingsError(f"{where}: [product] needs a name")
+    product = {k: str(v) for k, v in product.items()}
+    setup = _table(data, "setup", where)
+    judged = setup.get("judged_on", _dt.date.today())
+    if isinstance(judged, str):
+        try:
+            judged = _dt.date.fromisoformat(judged)
+        except ValueError:
+            raise SettingsError(f"{where} [setup]: judged_on must be a date (YYYY-MM-DD)") from None
+    if isinstance(judged, _dt.datetime):
+        judged = judged.date()
+    if not isinstance(judged, _dt.date):
+        raise SettingsError(f"{where} [setup]: judged_on must be a date (YYYY-MM-DD)")
+    read = _table(data, "read", where)
+    _unknown(read, _READ_KEYS, f"{where} [read]")
+
+    entries: list[CaptureEntry] = []
+    listed = data.get("capture", [])
+    if not isinstance(listed, list):
+        raise SettingsError(f"{where}: captures are listed as [[capture]] tables")
+    for i, c in enumerate(listed, start=1):
+        w = f"{where} [[capture]] {i}"
+        if not isinstance(c, Mapping):
+            raise SettingsError(f"{w}: must be a table")
+        _unknown(c, _CAPTURE_KEYS, w)
+        if "file" not in c:
+            raise SettingsError(f"{w}: needs 'file'")
+        f = base / str(c["file"])
+        level = _level(c["level"], w) if "level" in c else level_from_name(f.name)
+        opts = {**read, **{k: v for k, v in c.items() if k in _READ_KEYS}}
+        entries.append(CaptureEntry(f, level, str(c.get("label", f.name)), opts))
+    glob = _table(data, "captures", where)
+    if glob:
+        _unknown(glob, {"glob"}, f"{where} [captures]")
+        files = sorted(x for x in base.glob(str(glob.get("glob", "*")))
+                       if x.suffix.lower() in CAPTURE_SUFFIXES and x.is_file())
+        if not files:
+            raise SettingsError(f"{where} [captures]: glob {glob.get('glob')!r} matches no "
+                                f"capture files in {base}")
+        entries += [CaptureEntry(x, level_from_name(x.name), x.name, dict(read)) for x in files]
+
+    drive = data.get("drive")
+    levels: tuple[float, ...] = ()
+    if drive is not None:
+        if not isinstance(drive, Mapping):
+            raise SettingsError(f"{where}: [drive] must be a table")
+        drive = dict(drive)
+        raw_levels = drive.pop("levels", [100, 50, 20, 10, 5, 1])
+        if not isinstance(raw_levels, list) or not raw_levels:
+            raise SettingsError(f"{where} [drive]: levels must be a list of percentages")
+        levels = tuple(_level(x, f"{where} [drive]") for x in raw_levels)
+    if not entries and drive is None:
+        raise SettingsError(f"{where}: lists no captures ([[capture]] or [captures]) and no "
+                            f"[drive]")
+    if entries and drive is not None:
+        raise SettingsError(f"{where}: give captures or a [drive], not both")
+
+    crit = _table(data, "criteria", where)
+    _unknown(crit, _CRITERIA_KEYS, f"{where} [criteria]")
+    ids = crit.get("apply")
+    if ids is not None and (not isinstance(ids, list) or not all(isinstance(x, str) for x in ids)):
+        raise SettingsError(f"{where} [criteria]: apply must be a list of criterion ids")
+    analysis = _table(data, "analysis", where)
+    _unknown(analysis, _ANALYSIS_KEYS, f"{where} [analysis]")
+    steps = data.get("steps")
+    if steps is not None:
+        if not isinstance(steps, Mapping):
+            raise SettingsError(f"{where}: [steps] must be a table")
+        _unknown(steps, _STEPS_KEYS, f"{where} [steps]")
+        steps = dict(steps)
+    return Project(
+        path=p, product=product, setup=setup, captures=tuple(entries), drive=drive,
+        drive_levels=levels, criteria_ids=tuple(ids) if ids else None,
+        criteria_file=(base / str(crit["file"])) if "file" in crit else None,
+        analysis=analysis, steps=steps, judged_on=judged, raw=data,
+    )
+
+
+def project_from_folder(folder: Path) -> Project:
+    """A project made of every capture file in a folder (levels from the file names)."""
+    files = sorted(x for x in folder.iterdir()
+                   if x.suffix.lower() in CAPTURE_SUFFIXES and x.is_file()
+                   and "dark" not in x.name.lower())
+    if not files:
+        raise SettingsError(f"{folder}: holds no capture files ({', '.join(CAPTURE_SUFFIXES)})")
+    return Project(
+        path=folder, product={"name": folder.resolve().name}, setup={},
+        captures=tuple(CaptureEntry(x, level_from_name(x.name), x.name, {}) for x in files),
+        drive=None, drive_levels=(), criteria_ids=None, criteria_file=None, analysis={},
+        steps=None, judged_on=_dt.date.today(),
+    )

@@ -1,0 +1,190 @@
+"""A product's flicker record: captures (or a drive) -> figures -> verdicts.
+
+``build_report`` adds judging and provenance to what ``measure`` and ``drive``
+already compute; it computes no metric of its own.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import hashlib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Callable
+
+from . import __version__, criteria
+from .project import Project
+
+#: Cautions every report carries (summary sheet and terminal).
+CAUTIONS = (
+    "Modulated light at low frequencies (roughly 3 to 70 Hz) can trigger seizures in people "
+    "with photosensitive epilepsy; modulation at higher frequencies can cause headaches, "
+    "eye strain and other effects in some people.",
+    "This report is an engineering assessment of the captures (or drive model) given, not a "
+    "certification. The applicable standards, local codes and an accredited laboratory decide "
+    "compliance.",
+    "Several limits and constants are recalled rather than read in their documents, and the "
+    "Pst LM calibration is provisional; see the method notes.",
+)
+
+
+@dataclass(frozen=True)
+class Report:
+    """Everything a report shows, computed once."""
+
+    project: Project
+    records: tuple[dict[str, Any], ...]
+    failures: tuple[tuple[str, str], ...]
+    criteria: tuple[criteria.Criterion, ...]
+    verdicts: tuple[criteria.Verdict, ...]
+    overall: str
+    inputs: tuple[dict[str, Any], ...]
+    settings: dict[str, Any]
+    steps: Any = None
+    run_at: str = field(default_factory=lambda: _dt.datetime.now(_dt.timezone.utc)
+                        .strftime("%Y-%m-%d %H:%M:%S UTC"))
+
+    def verdicts_for(self, criterion_id: str) -> list[criteria.Verdict]:
+        return [v for v in self.verdicts if v.criterion == criterion_id]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "product": self.project.product,
+            "judged_on": self.project.judged_on.isoformat(),
+            "overall": self.overall,
+            "verdicts": [v.to_dict() for v in self.verdicts],
+            "records": list(self.records),
+            "failures": [{"label": a, "error": b} for a, b in self.failures],
+            "cautions": list(CAUTIONS),
+        }
+
+
+def sha256(path: Path) -> str:
+    """SHA-256 of a file, read in 1 MiB blocks."""
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(1 << 20), b""):
+            h.update(block)
+    return h.hexdigest()
+
+
+def _read_options(entry_read: dict[str, Any], base: Path):
+    from .readers import ReadOptions
+
+    dark = entry_read.get("dark")
+    if isinstance(dark, str):
+        try:
+            dark = float(dark)
+        except ValueError:
+            dark = str(base / dark)
+    return ReadOptions(column=entry_read.get("column"),
+                       sample_rate_hz=entry_read.get("sample_rate_hz"),
+                       time_unit=entry_read.get("time_unit"), dark=dark,
+                       resample=bool(entry_read.get("resample", False)),
+                       fill_gaps=bool(entry_read.get("fill_gaps", False)))
+
+
+def build_report(project: Project, *, workers: int | None = None,
+                 on_result: Callable[[Any], None] | None = None,
+                 on_level: Callable | None = None) -> Report:
+    """Measure (or model), judge and collect provenance for a project.
+
+    Parameters
+    ----------
+    project : Project
+    workers : int, optional
+        Worker processes for captures (default: one per CPU).
+    on_result : callable, optional
+        Called with each capture's outcome as it arrives (progress).
+    on_level : callable, optional
+        Wraps the drive levels iterable (progress).
+    """
+    from .assess import AssessSettings
+    from .batch import measure_many
+
+    settings = AssessSettings(ieee1789_mode=project.analysis.get("ieee1789_mode", "fundamental"),
+                              harmonics=int(project.analysis.get("harmonics", 20)))
+    base = project.path.parent if project.path.is_file() else project.path
+    extra = criteria.load_user_criteria(project.criteria_file) if project.criteria_file else {}
+    chosen = criteria.get(project.criteria_ids, extra)
+
+    records: list[dict[str, Any]] = []
+    failures: list[tuple[str, str]] = []
+    inputs: list[dict[str, Any]] = []
+    levels: list[float | None] = []
+    if project.captures:
+        opts = [_read_options(e.read, base) for e in project.captures]
+        outcomes = measure_many([str(e.file) for e in project.captures], opts, settings,
+                                workers=workers, on_result=on_result)
+        for entry, opt, out in zip(project.captures, opts, outcomes):
+            info = {"label": entry.label, "file": str(entry.file), "level": entry.level}
+            if entry.file.is_file():
+                info["size_bytes"] = entry.file.stat().st_size
+                info["sha256"] = sha256(entry.file)
+            if isinstance(opt.dark, str) and Path(opt.dark).is_file():
+                info["dark_file"] = opt.dark
+                info["dark_sha256"] = sha256(Path(opt.dark))
+            if out.record is None:
+                failures.append((entry.label, out.error or "not measured"))
+                info["status"] = f"not measured: {out.error}"
+                inputs.append(info)
+                continue
+            rec = {**out.record, "label": entry.label, "level": entry.level}
+            info.update(status="measured", sample_rate_hz=rec["sample_rate_hz"],
+                        duration_s=rec["duration_s"], n_samples=rec["n_samples"],
+                        dark_level=(rec.get("input") or {}).get("dark_level"),
+                        column=entry.read.get("column"))
+            records.append(rec)
+            levels.append(entry.level)
+            inputs.append(info)
+    else:
+        from .drive import drive_from_mapping
+        from .sweep import sweep
+
+        drive = drive_from_mapping(project.drive, source=f"{project.path} [drive]")
+        result = sweep(drive, [lv / 100.0 for lv in project.drive_levels], progress=on_level)
+        for lv, rec in zip(project.drive_levels, result.records):
+            rec = {**rec, "label": rec.get("label") or f"level {lv:g} %", "level": lv}
+            records.append(rec)
+            levels.append(lv)
+        inputs.append({"label": "drive model", "file": str(project.path), "level": None,
+                       "status": "modelled", "description": result.drive})
+    verdicts = criteria.judge_all(records, chosen, levels=levels, date=project.judged_on)
+    for label, err in failures:
+        for c in chosen:
+            verdicts.append(criteria.Verdict(c.id, label, None, "insufficient data", None, None,
+                                             None, f"capture could not be measured: {err}"))
+    steps = _steps_table(project) if project.steps else None
+    settings_out = {
+        "flickerkit version": __version__,
+        "project file": str(project.path),
+        "judged on": project.judged_on.isoformat(),
+        "IEEE 1789 headline mode": settings.ieee1789_mode,
+        "criteria": ", ".join(c.id for c in chosen),
+        **{f"setup: {k}": v for k, v in project.setup.items()},
+    }
+    return Report(project=project, records=tuple(records), failures=tuple(failures),
+                  criteria=tuple(chosen), verdicts=tuple(verdicts),
+                  overall=criteria.overall(verdicts), inputs=tuple(inputs),
+                  settings=settings_out, steps=steps)
+
+
+def _steps_table(project: Project):
+    from .steps import build_table
+
+    s = dict(project.steps)
+    try:
+        return build_table(
+            int(s.get("steps", 64)), str(s.get("curve", "cie1976")),
+            min_level=float(s["min"]) / 100 if "min" in s else None,
+            max_level=float(s.get("max", 100)) / 100, off_step=bool(s.get("off", True)),
+            bits=s.get("bits"), top=s.get("top"), min_count=int(s.get("min_count", 0)),
+            rounding=str(s.get("rounding", "distinct")),
+            curve_params={"gamma": float(s["gamma"])} if "gamma" in s else None,
+            pwm_frequency_hz=s.get("pwm_frequency_hz"),
+            target_region=str(s.get("target_region", "low-risk")),
+        )
+    except TypeError as exc:
+        from .errors import SettingsError
+
+        raise SettingsError(f"{project.path} [steps]: {exc}") from None
