@@ -17,7 +17,7 @@ import numpy as np
 
 from .. import __version__
 from ..fileio import write_with
-from .workbook import MEASURE_COLUMNS, lookup, put, set_properties, write_rows
+from .workbook import MEASURE_COLUMNS, lookup, print_setup, put, set_properties, write_rows
 
 STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "insufficient data": "FFEB9C",
                "not applicable": "E7E6E6"}
@@ -221,6 +221,10 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
                f"Confidence: {c.confidence}." + (f" Exemptions: {c.exemptions}." if c.exemptions
                                                  else "")] for c in report.criteria]
     write_rows(ns, ["Item", "Source", "How, and how sure"], nrows, widths=[30, 60, 120])
+    for row in ns.iter_rows(min_row=2):
+        for cell in row:
+            cell.alignment = Alignment(wrap_text=True, vertical="top")
+    print_setup(wb)
 
     def save(tmp: Path) -> None:
         wb.save(tmp)
@@ -279,6 +283,8 @@ def _ieee_chart_sheet(wb, records) -> None:
                    Reference(ws, min_col=6, min_row=2, max_row=len(pts) + 1), title="Captures")
         s.marker.symbol = "circle"
         s.marker.size = 8
+        s.marker.graphicalProperties.solidFill = "000000"
+        s.marker.graphicalProperties.line.solidFill = "000000"
         s.graphicalProperties.line.noFill = True
         ch.series.append(s)
     ch.height, ch.width = 12, 22

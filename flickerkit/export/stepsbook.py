@@ -11,7 +11,7 @@ from pathlib import Path
 from typing import Any
 
 from ..fileio import write_with
-from .workbook import CAUTION, put, set_properties, write_rows
+from .workbook import CAUTION, print_setup, put, set_properties, write_rows
 
 #: (header, row key, number format) of the steps sheet.
 STEP_COLUMNS: tuple[tuple[str, str, str | None], ...] = (
@@ -53,6 +53,7 @@ def write_steps_workbook(path: str | Path, table: Any, settings: dict[str, Any],
     wb = Workbook()
     set_properties(wb, "flickerkit brightness table", "Brightness steps for a PWM counter")
     add_steps_sheets(wb, table, settings, summary_sheet=wb.active)
+    print_setup(wb)
 
     def save(tmp: Path) -> None:
         wb.save(tmp)

@@ -55,6 +55,15 @@ def write_rows(ws, headers: Sequence[str], rows: Iterable[Sequence[Any]], *, sta
     return r
 
 
+def print_setup(wb) -> None:
+    """Landscape pages, every sheet fitted to one page wide (charts stay whole in print/PDF)."""
+    for ws in wb.worksheets:
+        ws.page_setup.orientation = "landscape"
+        ws.page_setup.fitToWidth = 1
+        ws.page_setup.fitToHeight = 0
+        ws.sheet_properties.pageSetUpPr.fitToPage = True
+
+
 def set_properties(wb, title: str, subject: str) -> None:
     """Set the document properties every flickerkit workbook carries."""
     props = wb.properties
@@ -162,6 +171,7 @@ def write_measure_workbook(path: str | Path, records: Sequence[dict[str, Any]],
     write_rows(ss, ["Setting", "Value"], srows, widths=[36, 90])
 
     set_properties(wb, "flickerkit measurement", "Temporal light modulation of captures")
+    print_setup(wb)
 
     def save(tmp: Path) -> None:
         wb.save(tmp)
