@@ -50,8 +50,8 @@ CAPTURES = (
                 "analogue, 100 Hz ripple 7 % peak-to-peak"),
     DemoCapture(50.0, "ardent12_level050.csv", "semicolon-decimal-comma-us",
                 "analogue, 100 Hz ripple 9 % peak-to-peak"),
-    DemoCapture(25.0, "ardent12_level025.txt", "tab-no-header",
-                "analogue at the crossover, 100 Hz ripple 12 % peak-to-peak"),
+    DemoCapture(20.0, "ardent12_level020.txt", "tab-no-header",
+                "1.2 kHz PWM, duty 80 % of the 25 % current"),
     DemoCapture(10.0, "ardent12_level010.wav", "wav-float32",
                 "1.2 kHz PWM, duty 40 % of the 25 % current"),
     DemoCapture(2.0, "ardent12_level002.npy", "npy-time-signal",
@@ -68,7 +68,7 @@ RISE_TAU_S = 4e-6
 def _light(level: float, t: np.ndarray, rng: np.random.Generator) -> np.ndarray:
     """Invented light waveform at a dimming level (fraction), before the detector."""
     if level >= CROSSOVER:
-        ripple_pp = {1.0: 0.07, 0.5: 0.09}.get(round(level, 2), 0.12)
+        ripple_pp = 0.07 if level > 0.75 else 0.09
         wave = 1 + 0.5 * ripple_pp * np.sin(2 * np.pi * 100.0 * t + 0.3)
         return level * wave
     duty = level / CROSSOVER
@@ -118,3 +118,64 @@ def write_captures(folder: Path, seed: int = 2026) -> list[Path]:
                          + "\n".join(f"{v:.5f}" for v in dark) + "\n", encoding="utf-8")
     paths.append(dark_path)
     return paths
+
+
+#: The demo's project file (also in examples/ardent12_project.toml, kept equal by a test).
+PROJECT_TOML = """\
+# INVENTED demo project: the product, its maker and the captures are made up.
+[product]
+name = "Ardent 12 downlight (invented)"
+maker = "Fenlight Works (invented)"
+model = "AR12-830-H (invented)"
+description = "INVENTED demo product: 12 W LED downlight, hybrid driver, analogue dimming with 100 Hz ripple down to 25 %, 1.2 kHz PWM below"
+
+[setup]
+detector = "silicon photodiode with transimpedance amplifier (invented bench)"
+sample_rate_hz = 50000
+bandwidth_hz = 100000
+distance_m = 0.5
+ambient = "dark room, 23 C"
+operator = "demo"
+judged_on = 2026-11-20
+
+[read]
+dark = "ardent12_dark.csv"
+
+[[capture]]
+level = 100
+file = "ardent12_level100.csv"
+
+[[capture]]
+level = 50
+file = "ardent12_level050.csv"
+
+[[capture]]
+level = 20
+file = "ardent12_level020.txt"
+
+[[capture]]
+level = 10
+file = "ardent12_level010.wav"
+
+[[capture]]
+level = 2
+file = "ardent12_level002.npy"
+
+[criteria]
+apply = ["ieee1789-low-risk", "ieee1789-noel", "eu-2019-2020-svm", "eu-2019-2020-pst",
+         "ca-title24-ja8", "seizure-screen-below-90hz"]
+
+[steps]
+steps = 64
+curve = "cie1976"
+bits = 12
+pwm_frequency_hz = 1200
+"""
+
+
+def write_project(folder: Path) -> Path:
+    """Write the invented captures and the project file; return the project's path."""
+    write_captures(folder)
+    path = folder / "ardent12_project.toml"
+    path.write_text(PROJECT_TOML, encoding="utf-8")
+    return path

@@ -10,9 +10,11 @@ HELP = "write invented captures of an invented product and measure them"
 
 DESCRIPTION = """\
 Write captures of an INVENTED product (a made-up hybrid-driver downlight at
-five dimming levels, in five different file layouts, plus a dark capture) to
-a folder, measure them exactly as 'flickerkit measure' would, print the
-summary and leave a workbook beside them. Nothing here describes a real
+five dimming levels, in five different file layouts, plus a dark capture) and
+its project file to a folder, then run 'flickerkit report' on it: every
+capture measured, judged against IEEE 1789, the EU ecodesign SVM and Pst LM
+limits, California JA8 and a seizure screen, with a brightness table, and the
+record written as a workbook beside them. Nothing here describes a real
 product or a real measurement.
 
 example:
@@ -34,12 +36,12 @@ def add_parser(sub) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..errors import OutputError
     from .. import demo
-    from . import measure
+    from ..errors import OutputError
+    from . import build_parser, report
 
     folder = Path(args.out)
-    workbook = folder / "ardent12_measurement.xlsx"
+    workbook = folder / "ardent12_record.xlsx"
     if folder.exists() and not folder.is_dir():
         raise OutputError(f"{folder}: exists and is not a folder")
     if (folder / demo.CAPTURES[0].filename).exists() and not args.force:
@@ -48,19 +50,13 @@ def run(args: argparse.Namespace) -> int:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise OutputError(f"{folder}: cannot be created ({exc.strerror})") from None
-    paths = demo.write_captures(folder)
-    captures = [str(p) for p in paths[:-1]]
+    project = demo.write_project(folder)
     if not args.quiet:
-        print(f"INVENTED demo: {demo.PRODUCT['name']} by {demo.PRODUCT['maker']}; "
-              f"captures written to {folder}/", file=sys.stderr)
-    margs = ["measure", *captures, "--dark", str(paths[-1]), "--xlsx", str(workbook), "-j", "1"]
-    if args.force:
-        margs.append("--force")
+        print(f"INVENTED demo: {demo.PRODUCT['name']} by {demo.PRODUCT['maker']}; captures "
+              f"and project written to {folder}/", file=sys.stderr)
+    rargs = ["report", str(project), "-o", str(workbook), "--force"]
     if args.json:
-        margs.append("--json")
+        rargs.append("--json")
     if args.quiet:
-        margs.append("--quiet")
-    from . import build_parser
-
-    ns = build_parser().parse_args(margs)
-    return measure.run(ns)
+        rargs.append("--quiet")
+    return report.run(build_parser().parse_args(rargs))
