@@ -319,7 +319,7 @@ def test_calibration_toml_round_trip(tmp_path):
 
 @pytest.mark.parametrize("edit, message", [
     (lambda s: s + "colour = 3\n", "unknown calibration key"),
-    (lambda s: "\n".join(l for l in s.splitlines() if not l.startswith("f4_hz")),
+    (lambda s: "\n".join(ln for ln in s.splitlines() if not ln.startswith("f4_hz")),
      "lacks key.*f4_hz"),
     (lambda s: s.replace("k = 1.74802", "k = -1.0"), "k must be a positive number"),
     (lambda s: s.replace('signal = "light"', 'signal = "sound"'), "signal must be one of"),
