@@ -25,6 +25,8 @@ from .periodicity import Periodicity, fundamental_frequency
 from .spectrum import Spectrum, modulation_spectrum
 from .svm import SvmResult
 
+#: Fewest samples an assessment accepts (less holds no usable modulation; project choice).
+MIN_SAMPLES = 16
 #: Fewest whole periods for stable figures (common practice, no source).
 MIN_PERIODS = 2
 #: Fewest samples per period for time-domain percent flicker and flicker
@@ -241,7 +243,7 @@ class Assessment:
             "pst_lm": num(self.pst_lm.pst) if self.pst_lm else None,
             "pst_lm_calibration": self.pst_lm_calibration,
             "pst_lm_detail": _pst_detail(self.pst_lm),
-            "percent_flicker_filtered": (
+            "filtered_percent_flicker": (
                 {k: num(v) for k, v in self.filtered.as_mapping().items()}
                 if self.filtered else None),
             "warnings": list(self.warnings),
@@ -289,6 +291,9 @@ def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessme
     settings = settings or AssessSettings()
     x = capture.samples
     where = capture.source or capture.label or None
+    if capture.n_samples < MIN_SAMPLES:
+        raise InputError(f"capture holds {capture.n_samples} samples; at least {MIN_SAMPLES} "
+                         f"are needed", source=where)
     hi = float(np.max(x))
     lo = float(np.min(x))
     if hi == 0.0 and lo == 0.0:

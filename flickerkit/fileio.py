@@ -39,6 +39,8 @@ def check_writable(path: str | os.PathLike[str], *, force: bool = False) -> Path
     folder = p.parent if str(p.parent) else Path(".")
     if p.is_dir():
         raise OutputError(f"{p}: is a folder; give a file name")
+    if p.exists() and not p.is_file():
+        raise OutputError(f"{p}: is not a regular file; give a file name to write")
     if p.exists() and not force:
         raise OutputError(f"{p}: exists; use --force to replace it")
     if not folder.is_dir():

@@ -460,9 +460,26 @@ def _locate_bad_cell(p: Path, sep: str, dec: str, skip: int, cols: list[int], na
     return InputError(f"cannot read the table ({str(exc).splitlines()[0]})", source=name)
 
 
+#: Sample rates outside this range come from a wrong time unit or a broken file [Hz].
+SAMPLE_RATE_RANGE_HZ = (1e-6, 1e12)
+
+
+def _check_rate(fs: float, name: str) -> float:
+    lo, hi = SAMPLE_RATE_RANGE_HZ
+    if not np.isfinite(fs) or not lo <= fs <= hi:
+        raise InputError(f"the time column gives a sample rate of {fs:.3g} Hz, outside "
+                         f"{lo:g} to {hi:g} Hz: check the time unit (--time-unit)", source=name)
+    return float(fs)
+
+
 def _uniform(t: np.ndarray, x: np.ndarray, resample: bool, name: str,
              skip: int) -> tuple[np.ndarray, float, list[str]]:
     """Check that time is increasing and uniform; resample on request."""
+    with np.errstate(all="ignore"):
+        return _uniform_checked(t, x, resample, name, skip)
+
+
+def _uniform_checked(t, x, resample, name, skip):
     notes: list[str] = []
     dt = np.diff(t)
     if dt.size == 0:
@@ -470,7 +487,7 @@ def _uniform(t: np.ndarray, x: np.ndarray, resample: bool, name: str,
     bad = np.flatnonzero(dt <= 0)
     span = t[-1] - t[0]
     if bad.size == 0 and span > 0:
-        fs = (t.size - 1) / span
+        fs = _check_rate((t.size - 1) / span, name)
         grid = t[0] + np.arange(t.size) / fs
         dev = np.abs(t - grid) * fs
         worst = int(np.argmax(dev))
@@ -494,7 +511,7 @@ def _uniform(t: np.ndarray, x: np.ndarray, resample: bool, name: str,
     if uniq.size < 2:
         raise InputError("all time stamps are equal", source=name)
     xm = np.bincount(inv, weights=xs) / np.bincount(inv)
-    fs = (uniq.size - 1) / (uniq[-1] - uniq[0])
+    fs = _check_rate((uniq.size - 1) / (uniq[-1] - uniq[0]), name)
     grid = uniq[0] + np.arange(uniq.size) / fs
     out = np.interp(grid, uniq, xm)
     notes.append(f"time was not uniform or not increasing: {t.size} rows sorted, "
@@ -528,17 +545,19 @@ def _read_wav(p: Path, options: ReadOptions):
     from scipy.io import wavfile
 
     name = str(p)
-    try:
-        with open(p, "rb") as fh:
-            rate, data = wavfile.read(fh, mmap=False) if p.stat().st_size < 64 << 20 else (None, None)
-        if rate is None:
-            rate, data = wavfile.read(name, mmap=True)
-    except (ValueError, EOFError, OSError, IndexError, TypeError, struct.error) as exc:
-        raise InputError(f"not a readable WAV file ({exc})", source=name) from None
+    import warnings as _warnings
+
+    with _warnings.catch_warnings(record=True) as caught:
+        _warnings.simplefilter("always")
+        try:
+            rate, data = wavfile.read(name, mmap=p.stat().st_size >= 64 << 20)
+        except (ValueError, EOFError, OSError, IndexError, TypeError, struct.error) as exc:
+            raise InputError(f"not a readable WAV file ({exc})", source=name) from None
+    header_doubts = [f"WAV file: {w.message}" for w in caught]
     if data.size == 0:
         raise InputError("WAV file holds no samples", source=name)
     sig, ch = _channel(data, options, name, "WAV file")
-    warns: list[str] = []
+    warns: list[str] = header_doubts
     if np.issubdtype(sig.dtype, np.integer):
         info = np.iinfo(sig.dtype)
         at_rail = int(np.count_nonzero((sig == info.max) | (sig == info.min)))

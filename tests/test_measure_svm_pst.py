@@ -80,7 +80,7 @@ def test_json_has_svm_and_pst_lm(files, capsys):
     # JA10.6: 100 Hz ripple has nothing at or below 90 Hz; at 200 Hz the 100 Hz and the 200 Hz
     # components remain (a component at the cut-off is kept): analytic, 1 - C1 cos - C2 cos 2
     # has its extremes at 0 and pi, so PF = C1 / (1 - C2)
-    filt = steady["percent_flicker_filtered"]
+    filt = steady["filtered_percent_flicker"]
     assert list(filt) == ["40", "90", "200", "400", "1000"]
     assert filt["40"] == pytest.approx(0.0, abs=1e-6) and filt["90"] == pytest.approx(0, abs=1e-6)
     mean = FLOOR + (1 - FLOOR) * 2 / np.pi
@@ -145,7 +145,7 @@ def test_workbook_has_svm_pst_and_calibration(files, tmp_path, capsys):
     assert row["Pst LM [1]"] == pytest.approx(r["pst_lm"])
     assert row["Pst LM calibration"] == "light-provisional-230v"
     assert row["Percent flicker <= 200 Hz (JA10.6) [%]"] == pytest.approx(
-        r["percent_flicker_filtered"]["200"])
+        r["filtered_percent_flicker"]["200"])
     settings = {a.value: b.value for a, b in wb["Inputs and settings"].iter_rows(min_row=2)}
     assert settings["Pst calibration"] == "light-provisional-230v"
     assert "PROVISIONAL" in settings["Pst calibration origin"]

@@ -16,7 +16,7 @@ import sys
 from .. import __version__
 
 #: Command modules, in the order ``--help`` lists them.
-COMMANDS = ("measure", "demo")
+COMMANDS = ("measure", "demo", "drive", "plan", "camera", "steps")
 
 _DESCRIPTION = """\
 Temporal light modulation (flicker) of dimmable LED lighting: measure
@@ -25,6 +25,7 @@ record.
 
   flickerkit demo                      invented example product, end to end
   flickerkit measure CAPTURE.csv       percent flicker, flicker index, IEEE 1789 region
+  flickerkit steps -n 64 --bits 12     perceptually even brightness table for a PWM counter
 
 Run 'flickerkit COMMAND --help' for each command's options.
 """
@@ -69,7 +70,9 @@ def main(argv: list[str] | None = None) -> int:
     from ..errors import FlickerkitError
 
     try:
-        return int(args.run(args) or 0)
+        status = int(args.run(args) or 0)
+        sys.stdout.flush()
+        return status
     except FlickerkitError as exc:
         print(f"flickerkit: error: {exc}", file=sys.stderr)
         return 1
@@ -78,4 +81,22 @@ def main(argv: list[str] | None = None) -> int:
         print(f"flickerkit: interrupted: {detail}", file=sys.stderr)
         return 130
     except BrokenPipeError:
+        _silence_stdout()
         return 1
+    except OSError as exc:
+        if exc.errno is None:
+            raise
+        _silence_stdout()
+        print(f"flickerkit: error: cannot write the output ({exc.strerror})", file=sys.stderr)
+        return 1
+
+
+def _silence_stdout() -> None:
+    """Point stdout at /dev/null so the interpreter's last flush cannot fail again."""
+    import os
+
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):
+        pass

@@ -1,0 +1,166 @@
+"""Options that describe a drive, shared by ``drive``, ``plan`` and ``camera`` (not a command)."""
+
+from __future__ import annotations
+
+import argparse
+
+
+def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> None:
+    """Drive description options; a TOML file (--drive-file) gives defaults for them."""
+    g = p.add_argument_group("drive description (options override --drive-file)")
+    g.add_argument("--drive-file", metavar="DRIVE.toml",
+                   help="TOML drive description: keys method, frequency_hz, off_level, "
+                        "turn_on_delay_s, min_on_time_s, min_on_mode, crossover, channels, "
+                        "phase_offsets_deg, counts_per_period, dither_bits; tables [edges] "
+                        "(kind, rise_s, fall_s) and [ripple] (percent, line_frequency_hz, shape)")
+    g.add_argument("--method", choices=("pwm", "analogue", "hybrid"),
+                   help="dimming method (default pwm)")
+    if frequency:
+        g.add_argument("-f", "--frequency", type=float, metavar="HZ",
+                       help="PWM frequency in Hz (default 1000)")
+    g.add_argument("--edges", choices=("ideal", "first-order", "linear"),
+                   help="edge model: ideal, first-order (time constants) or linear (slew "
+                        "time of a full swing)")
+    g.add_argument("--rise-us", type=float, metavar="US", help="rise time constant or slew time [us]")
+    g.add_argument("--fall-us", type=float, metavar="US", help="fall time constant or slew time [us]")
+    g.add_argument("--delay-us", type=float, metavar="US", help="turn-on delay [us]")
+    g.add_argument("--min-on-us", type=float, metavar="US",
+                   help="shortest light pulse the driver makes [us]")
+    g.add_argument("--min-on-mode", choices=("clamp", "skip"),
+                   help="a shorter pulse is stretched (clamp, default) or not made (skip)")
+    g.add_argument("--off-level", type=float, metavar="FRACTION",
+                   help="light while off, as a fraction of full output (leakage, floor)")
+    g.add_argument("--ripple", type=float, metavar="PERCENT",
+                   help="line ripple on the light, as its own percent flicker")
+    g.add_argument("--ripple-shape", choices=("sine", "rectified"), help="ripple shape")
+    g.add_argument("--line-hz", type=float, metavar="HZ",
+                   help="mains frequency; ripple at twice it (default 50)")
+    g.add_argument("--crossover", type=float, metavar="FRACTION",
+                   help="hybrid: analogue above this level, PWM below (default 0.1)")
+    g.add_argument("--channels", type=int, metavar="N", help="channels driven together")
+    g.add_argument("--phases", metavar="DEG,DEG,...",
+                   help="channel phase offsets in degrees (default evenly spread)")
+    g.add_argument("--counts", type=int, metavar="N",
+                   help="timer counts per PWM period; duty rounds to whole counts")
+    g.add_argument("--dither-bits", type=int, metavar="M",
+                   help="first-order sigma-delta dither bits across PWM periods (needs --counts)")
+
+
+def _us(v):
+    return None if v is None else v * 1e-6
+
+
+def drive_from_args(args: argparse.Namespace):
+    """Build the Drive from --drive-file and the options."""
+    from ..drive import drive_from_mapping
+    from ..errors import SettingsError
+
+    data: dict = {}
+    if getattr(args, "drive_file", None):
+        import tomllib
+
+        try:
+            with open(args.drive_file, "rb") as fh:
+                data = tomllib.load(fh)
+        except FileNotFoundError:
+            raise SettingsError(f"{args.drive_file}: no such drive file") from None
+        except tomllib.TOMLDecodeError as exc:
+            raise SettingsError(f"{args.drive_file}: not valid TOML ({exc})") from None
+        except OSError as exc:
+            raise SettingsError(f"{args.drive_file}: cannot be read ({exc.strerror})") from None
+        if isinstance(data.get("drive"), dict):
+            data = dict(data["drive"])
+        data.pop("levels", None)
+    edges = dict(data.pop("edges", {}) or {})
+    ripple = data.pop("ripple", None)
+    ripple = dict(ripple) if ripple else None
+
+    def put(key, value):
+        if value is not None:
+            data[key] = value
+
+    put("method", args.method)
+    if hasattr(args, "frequency"):
+        put("frequency_hz", args.frequency)
+    put("turn_on_delay_s", _us(args.delay_us))
+    put("min_on_time_s", _us(args.min_on_us))
+    put("min_on_mode", args.min_on_mode)
+    put("off_level", args.off_level)
+    put("crossover", args.crossover)
+    put("channels", args.channels)
+    put("counts_per_period", args.counts)
+    put("dither_bits", args.dither_bits)
+    if args.phases:
+        try:
+            data["phase_offsets_deg"] = [float(x) for x in args.phases.split(",") if x.strip()]
+        except ValueError:
+            raise SettingsError(f"--phases: {args.phases!r} is not a list of degrees") from None
+    if args.edges is not None:
+        edges["kind"] = args.edges
+    if args.rise_us is not None:
+        edges["rise_s"] = args.rise_us * 1e-6
+    if args.fall_us is not None:
+        edges["fall_s"] = args.fall_us * 1e-6
+    if edges and "kind" not in edges and (edges.get("rise_s") or edges.get("fall_s")):
+        edges["kind"] = "first-order"
+    if edges:
+        data["edges"] = edges
+    if args.ripple is not None or args.ripple_shape or args.line_hz:
+        ripple = ripple or {}
+        if args.ripple is not None:
+            ripple["percent"] = args.ripple
+        if args.ripple_shape:
+            ripple["shape"] = args.ripple_shape
+        if args.line_hz:
+            ripple["line_frequency_hz"] = args.line_hz
+        if "percent" not in ripple:
+            raise SettingsError("--ripple-shape/--line-hz need --ripple PERCENT")
+    if ripple:
+        data["ripple"] = ripple
+    return drive_from_mapping(data, source=args.drive_file or "drive options")
+
+
+def file_levels(args: argparse.Namespace):
+    """Levels listed in the drive file (key ``levels``), or None."""
+    if not getattr(args, "drive_file", None):
+        return None
+    import tomllib
+
+    with open(args.drive_file, "rb") as fh:
+        data = tomllib.load(fh)
+    return data.get("levels")
+
+
+def parse_levels(text: str):
+    """Levels from ``"100,50,10,1"`` (percent) or a range ``"100:0.1:200"`` (log-spaced).
+
+    Returns fractions 0-1.
+    """
+    import numpy as np
+
+    from ..errors import SettingsError
+
+    t = str(text).strip()
+    try:
+        if ":" in t:
+            parts = t.split(":")
+            if len(parts) not in (2, 3):
+                raise ValueError
+            a, b = float(parts[0]), float(parts[1])
+            n = int(parts[2]) if len(parts) == 3 else 25
+            if n < 2:
+                raise SettingsError("--levels range needs at least 2 points")
+            if a <= 0 or b <= 0:
+                raise SettingsError("--levels range ends must be above 0 %")
+            vals = np.geomspace(a, b, n)
+        else:
+            vals = np.array([float(x) for x in t.split(",") if x.strip()])
+    except ValueError:
+        raise SettingsError(f"--levels: {text!r} is not a list of percents (100,50,1) or a "
+                            f"range (100:0.1:200)") from None
+    if vals.size == 0:
+        raise SettingsError("--levels: no level given")
+    bad = vals[(vals <= 0) | (vals > 100)]
+    if bad.size:
+        raise SettingsError(f"--levels: level {bad[0]:g} % is outside (0, 100] %")
+    return vals / 100.0

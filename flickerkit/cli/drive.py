@@ -1,0 +1,185 @@
+"""``flickerkit drive``: a dimming sweep of a modelled drive."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from ._driveopts import add_drive_options
+
+HELP = "flicker of a modelled drive at each dimming level (sweep)"
+
+DESCRIPTION = """\
+Model the light of an LED drive from its description alone and assess it at
+each dimming level exactly as 'measure' assesses a capture: percent flicker,
+flicker index, IEEE 1789 region and margins, SVM, per level; and the level at
+which each criterion first fails, scanning down from the brightest.
+
+The level is the dimming command: the duty for PWM, the current for analogue
+dimming; 'relative_light' is the mean light it gives (rise, fall, delay and
+off-level make them differ).
+
+examples:
+  flickerkit drive -f 1000 --levels 100,50,10,1,0.1
+  flickerkit drive -f 2000 --edges linear --rise-us 2 --fall-us 1 --levels 100:0.1:200
+  flickerkit drive --method hybrid --crossover 0.2 -f 1250 --ripple 4 --json
+  flickerkit drive --drive-file mydriver.toml --xlsx sweep.xlsx
+"""
+
+
+def add_parser(sub) -> None:
+    p = sub.add_parser("drive", help=HELP, description=DESCRIPTION,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    add_drive_options(p)
+    p.add_argument("--levels", metavar="LIST|RANGE",
+                   help="levels in percent: a list 100,50,10,1 or a log-spaced range "
+                        "FROM:TO[:COUNT] such as 100:0.1:200 (default 100:0.1:25, or "
+                        "'levels' in the drive file)")
+    o = p.add_argument_group("output")
+    o.add_argument("--json", action="store_true",
+                   help="print JSON: an object with 'levels' (one object per level, the keys "
+                        "of 'measure' plus 'level') and 'first_failing_level'")
+    o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
+    o.add_argument("--force", action="store_true", help="replace an existing workbook")
+    o.add_argument("-q", "--quiet", action="store_true", help="no progress or cautions on stderr")
+    p.set_defaults(run=run)
+
+
+def _levels(args):
+    import numpy as np
+
+    from ..errors import SettingsError
+    from ._driveopts import file_levels, parse_levels
+
+    if args.levels:
+        return parse_levels(args.levels)
+    fl = file_levels(args)
+    if fl is not None:
+        if isinstance(fl, str):
+            return parse_levels(fl)
+        try:
+            vals = np.array([float(x) for x in fl]) / 100.0
+        except (TypeError, ValueError):
+            raise SettingsError(f"{args.drive_file}: 'levels' must be a list of percents") from None
+        if vals.size == 0 or (vals <= 0).any() or (vals > 1).any():
+            raise SettingsError(f"{args.drive_file}: 'levels' must lie in (0, 100] %")
+        return vals
+    return parse_levels("100:0.1:25")
+
+
+def run(args: argparse.Namespace) -> int:
+    from ..fileio import check_writable
+    from ._driveopts import drive_from_args
+
+    if args.xlsx:
+        check_writable(args.xlsx, force=args.force)
+    drive = drive_from_args(args)
+    levels = _levels(args)
+    for lv in levels:
+        drive.at(float(lv))  # validate every level before any work
+    from ..sweep import sweep
+
+    progress = None
+    if not args.quiet and len(levels) > 20:
+        from tqdm import tqdm
+
+        def progress(it):
+            return tqdm(it, file=sys.stderr, disable=None, unit="level", leave=False)
+    result = sweep(drive, levels, progress=progress)
+    out = result.to_dict()
+    if args.json:
+        from ..export.jsonout import dumps
+
+        sys.stdout.write(dumps(out))
+    else:
+        sys.stdout.write(table(out))
+    if args.xlsx:
+        write_workbook(args.xlsx, out, force=args.force)
+        if not args.quiet:
+            print(f"workbook written: {args.xlsx}", file=sys.stderr)
+    if not args.quiet:
+        from . import _CAUTION
+
+        print("modelled light: figures hold for the model as described, not for a built "
+              "product; measure the product.", file=sys.stderr)
+        print(_CAUTION, file=sys.stderr, end="")
+    return 0
+
+
+def table(out: dict) -> str:
+    from ..export.table import fmt, render
+
+    rows = []
+    for r in out["levels"]:
+        ieee = r.get("ieee1789") or {}
+        rows.append([fmt(100 * r["level"], ".4g"), fmt(100 * r["relative_light"], ".4g"),
+                     fmt(r.get("frequency_hz"), ".5g"), fmt(r.get("percent_flicker"), ".4g"),
+                     fmt(r.get("flicker_index"), ".4f"), fmt(r.get("svm"), ".3f"),
+                     ieee.get("region") or "–", fmt(ieee.get("low_risk_margin_percent"), ".3g"),
+                     "; ".join(r.get("warnings") or [])[:60]])
+    text = f"drive: {out['drive']}\n\n" + render(
+        ["Level [%]", "Light [%]", "Frequency [Hz]", "Percent flicker [%]", "Flicker index",
+         "SVM", "IEEE 1789 region", "Low-risk margin [pp]", "Warnings"], rows,
+        right=[True] * 8 + [False])
+    text += "\nfirst failing level (scanning down from the brightest):\n"
+    for name, lv in out["first_failing_level"].items():
+        text += f"  {name:<18} {'none' if lv is None else fmt(100 * lv, '.4g') + ' %'}\n"
+    return text
+
+
+SWEEP_COLUMNS = (
+    ("Level [%]", "level", 100.0),
+    ("Relative light [%]", "relative_light", 100.0),
+    ("Fundamental frequency [Hz]", "frequency_hz", None),
+    ("Percent flicker [%]", "percent_flicker", None),
+    ("Flicker index [1]", "flicker_index", None),
+    ("SVM [1]", "svm", None),
+    ("IEEE 1789 region", "ieee1789.region", None),
+    ("Low-risk margin [% points]", "ieee1789.low_risk_margin_percent", None),
+    ("NOEL margin [% points]", "ieee1789.noel_margin_percent", None),
+    ("Per-harmonic region", "ieee1789.per_harmonic.region", None),
+    ("Model percent flicker [%]", "model_percent_flicker", None),
+    ("Sample rate [Hz]", "sample_rate_hz", None),
+    ("Model", "model", None),
+    ("Warnings", "warnings", None),
+)
+
+
+def write_workbook(path, out: dict, *, force: bool = False):
+    from openpyxl import Workbook
+
+    from .. import __version__
+    from ..export.workbook import CAUTION, lookup, put, set_properties, write_rows
+    from ..fileio import write_with
+
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Levels"
+
+    def cell(r, key, scale):
+        v = lookup(r, key)
+        return v * scale if scale and isinstance(v, (int, float)) else v
+
+    last = write_rows(ws, [h for h, _, _ in SWEEP_COLUMNS],
+                      ([cell(r, k, s) for _, k, s in SWEEP_COLUMNS] for r in out["levels"]))
+    put(ws, last + 2, 1, CAUTION)
+    put(ws, last + 3, 1, "Modelled light: figures hold for the model as described; measure the "
+                         "built product.")
+    fs = wb.create_sheet("First failing level")
+    write_rows(fs, ["Criterion", "First failing level [%]"],
+               [[k, None if v is None else 100 * v] for k, v in out["first_failing_level"].items()],
+               widths=[30, 24])
+    hs = wb.create_sheet("Harmonics")
+    rows = []
+    for r in out["levels"]:
+        for h in r.get("harmonics") or []:
+            rows.append([100 * r["level"], h["order"], h["frequency_hz"], h["amplitude"],
+                         h["phase_deg"]])
+    write_rows(hs, ["Level [%]", "Harmonic order", "Frequency [Hz]", "Amplitude / mean [1]",
+                    "Phase [deg]"], rows)
+    ss = wb.create_sheet("Inputs and settings")
+    write_rows(ss, ["Setting", "Value"], [["flickerkit version", __version__],
+                                          ["command", "drive"], ["drive", out["drive"]]],
+               widths=[30, 90])
+    set_properties(wb, "flickerkit dimming sweep", "Modelled temporal light modulation per level")
+    return write_with(path, lambda tmp: wb.save(tmp), force=force)

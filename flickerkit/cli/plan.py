@@ -1,0 +1,207 @@
+"""``flickerkit plan``: lowest PWM frequency and timer settings for perception targets."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from ._driveopts import add_drive_options
+
+HELP = "lowest PWM frequency meeting flicker targets, and the timer settings that give it"
+
+DESCRIPTION = """\
+Find the lowest PWM frequency at which every dimming level from the smallest
+level to 100 % meets the targets, judged on the modelled light with the same
+IEEE 1789 and SVM code as measured captures. With a timer clock, list the
+feasible settings (mode, prescaler, TOP, actual frequency, bits, smallest duty
+step, minimum duty from delay/rise/minimum on-time, targets met). When none
+meets both the targets and the resolution, show the ways out and their cost:
+a faster clock or high-resolution timer, hybrid dimming, or dithering (with
+the dither's own low-frequency flicker computed).
+
+Targets: ieee1789-low-risk, ieee1789-noel, svm<=VALUE; several with commas.
+SVM ignores components below its band, so it says nothing about direct
+flicker at very low frequencies: combine it with an IEEE 1789 target.
+
+examples:
+  flickerkit plan --target ieee1789-low-risk
+  flickerkit plan --target ieee1789-noel,svm<=0.4 --clock-mhz 48 --prescalers 1,2,4,8 \\
+      --min-level 0.1 --max-step 1
+  flickerkit plan --target svm<=0.9 --clock-mhz 16 --bits 12 --edges linear --rise-us 1
+"""
+
+
+def add_parser(sub) -> None:
+    p = sub.add_parser("plan", help=HELP, description=DESCRIPTION,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("-t", "--target", required=True, metavar="TARGETS",
+                   help="ieee1789-low-risk, ieee1789-noel, svm<=VALUE; comma-separated")
+    p.add_argument("--range", default="10:50000", metavar="LOW:HIGH",
+                   help="frequency range searched in Hz (default 10:50000)")
+    p.add_argument("--min-level", type=float, default=0.1, metavar="PERCENT",
+                   help="smallest dimming level that must pass and be made (default 0.1)")
+    p.add_argument("--levels", type=int, default=25, metavar="N",
+                   help="log-spaced levels checked from the smallest to 100 %% (default 25)")
+    t = p.add_argument_group("timer")
+    t.add_argument("--clock-mhz", type=float, metavar="MHZ", help="timer clock in MHz")
+    t.add_argument("--prescalers", default="1", metavar="N,N,...",
+                   help="divide ratios the timer offers (default 1)")
+    t.add_argument("--prescaler", type=int, metavar="N",
+                   help="use only this prescaler (must be one the timer offers)")
+    t.add_argument("--max-top", type=int, default=65535, metavar="N",
+                   help="largest TOP the counter holds (default 65535)")
+    t.add_argument("--mode", choices=("edge", "centre", "both"), default="both",
+                   help="counter mode(s) (default both)")
+    t.add_argument("--bits", type=float, metavar="B", help="resolution needed, in bits")
+    t.add_argument("--max-step", type=float, metavar="PERCENT",
+                   help="largest relative step allowed at the smallest level, in percent "
+                        "(e.g. 1 for a 1 %% Weber step)")
+    add_drive_options(p, frequency=False)
+    o = p.add_argument_group("output")
+    o.add_argument("--json", action="store_true", help="print the plan as JSON")
+    o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
+    o.add_argument("--force", action="store_true", help="replace an existing workbook")
+    o.add_argument("-q", "--quiet", action="store_true", help="no cautions on stderr")
+    p.set_defaults(run=run)
+
+
+def _range(text: str):
+    from ..errors import SettingsError
+
+    try:
+        lo, hi = (float(x) for x in text.split(":"))
+    except ValueError:
+        raise SettingsError(f"--range: {text!r} is not LOW:HIGH in Hz") from None
+    if not (0 < lo < hi):
+        raise SettingsError(f"--range: need 0 < LOW < HIGH, got {lo:g}:{hi:g} Hz (negative or "
+                            f"zero frequencies are impossible)")
+    return lo, hi
+
+
+def run(args: argparse.Namespace) -> int:
+    from ..errors import SettingsError
+    from ..fileio import check_writable
+    from ._driveopts import drive_from_args
+
+    if args.xlsx:
+        check_writable(args.xlsx, force=args.force)
+    from ..planner import Resolution, default_levels, parse_targets, plan
+    from ..timers import Timer
+
+    targets = parse_targets(args.target)
+    rng = _range(args.range)
+    if not (0 < args.min_level <= 100):
+        raise SettingsError(f"--min-level must lie in (0, 100] %, got {args.min_level:g}")
+    args.frequency = None
+    drive = drive_from_args(args)
+    res = Resolution(bits=args.bits, min_level=args.min_level / 100.0,
+                     max_step=None if args.max_step is None else args.max_step / 100.0)
+    timer = None
+    pres = None
+    if args.clock_mhz is not None:
+        try:
+            prescalers = tuple(int(x) for x in args.prescalers.split(",") if x.strip())
+        except ValueError:
+            raise SettingsError(f"--prescalers: {args.prescalers!r} is not a list of whole "
+                                f"numbers") from None
+        modes = ("edge", "centre") if args.mode == "both" else (args.mode,)
+        timer = Timer(args.clock_mhz * 1e6, prescalers, args.max_top, modes)
+        if args.prescaler is not None:
+            pres = (timer.check_prescaler(args.prescaler),)
+    elif args.prescaler is not None or args.bits is not None or args.max_step is not None:
+        raise SettingsError("timer options need --clock-mhz")
+    levels = default_levels(res.min_level, args.levels)
+    out = plan(drive, targets, levels=levels, range_hz=rng, timer=timer, prescalers=pres,
+               resolution=res)
+    if args.json:
+        from ..export.jsonout import dumps
+
+        sys.stdout.write(dumps(out))
+    else:
+        sys.stdout.write(text(out))
+    if args.xlsx:
+        write_workbook(args.xlsx, out, force=args.force)
+        if not args.quiet:
+            print(f"workbook written: {args.xlsx}", file=sys.stderr)
+    if not args.quiet:
+        from . import _CAUTION
+
+        print("modelled light: verify the chosen setting by measuring the product.",
+              file=sys.stderr)
+        print(_CAUTION, file=sys.stderr, end="")
+    return 0
+
+
+def text(out: dict) -> str:
+    from ..export.table import fmt, render
+
+    s = [f"drive: {out['drive']}",
+         f"targets: {', '.join(out['targets'])} at levels {100 * min(out['levels']):.3g} % to "
+         f"100 %",
+         f"lowest PWM frequency meeting all targets: {out['lowest_frequency_hz']:.6g} Hz"]
+    f = out["frequency"]
+    if f.get("limiting_level") is not None:
+        s.append(f"  (just below it, level {100 * f['limiting_level']:.3g} % fails "
+                 f"{f['limiting_target']})")
+    if f.get("isolated_passing_below_hz"):
+        s.append(f"  note: some lower frequencies (from {min(f['isolated_passing_below_hz']):.3g} "
+                 f"Hz) pass these targets but higher ones fail; not recommended")
+    if len(out["per_target"]) > 1:
+        for r in out["per_target"]:
+            s.append(f"  {r['targets'][0]}: from {fmt(r['frequency_hz'], '.6g')} Hz")
+    s.append(f"resolution needed: {out['resolution']['need']} "
+             f"({out['resolution']['counts_needed']} counts)")
+    if out["settings"]:
+        rows = [[r["mode"], str(r["prescaler"]), str(r["top"]), fmt(r["frequency_hz"], ".6g"),
+                 fmt(r["bits"], ".2f"), fmt(r["duty_step"] * 100, ".3g"),
+                 fmt(r["minimum_duty"] * 100, ".3g"), ", ".join(r["meets"]) or "none"]
+                for r in out["settings"]]
+        s.append("")
+        s.append(render(["Mode", "Prescaler", "TOP", "Frequency [Hz]", "Bits",
+                         "Duty step [%]", "Min duty [%]", "Meets"], rows,
+                        right=[False] + [True] * 6 + [False]).rstrip())
+    if out.get("verdict"):
+        s.append("")
+        s.append(out["verdict"])
+    for o in out["options"]:
+        s.append(f"  option, {o['option']}: {o['cost']}")
+    return "\n".join(s) + "\n"
+
+
+def write_workbook(path, out: dict, *, force: bool = False):
+    from openpyxl import Workbook
+
+    from .. import __version__
+    from ..export.workbook import CAUTION, put, set_properties, write_rows
+    from ..fileio import write_with
+
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Plan"
+    rows = [["Drive", out["drive"]], ["Targets", ", ".join(out["targets"])],
+            ["Lowest frequency [Hz]", out["lowest_frequency_hz"]],
+            ["Smallest level [%]", 100 * min(out["levels"])],
+            ["Resolution needed", out["resolution"]["need"]],
+            ["Counts needed", out["resolution"]["counts_needed"]],
+            ["Verdict", out.get("verdict")]]
+    rows += [[f"Lowest frequency for {r['targets'][0]} [Hz]", r["frequency_hz"]]
+             for r in out["per_target"]]
+    last = write_rows(ws, ["Item", "Value"], rows, widths=[40, 80])
+    put(ws, last + 2, 1, CAUTION)
+    cols = ["mode", "prescaler", "top", "frequency_hz", "counts_per_period", "bits", "duty_step",
+            "tick_s", "minimum_duty", "minimum_count", "meets"]
+    heads = ["Mode", "Prescaler", "TOP", "Frequency [Hz]", "Counts per period", "Bits",
+             "Duty step [1]", "Tick [s]", "Minimum duty [1]", "Minimum count", "Meets"]
+    ts = wb.create_sheet("Timer settings")
+    write_rows(ts, heads, [[", ".join(r[c]) if c == "meets" else r[c] for c in cols]
+                           for r in out["settings"]])
+    os_ = wb.create_sheet("Options")
+    write_rows(os_, ["Option", "Cost"], [[o["option"], o["cost"]] for o in out["options"]],
+               widths=[36, 120])
+    ss = wb.create_sheet("Inputs and settings")
+    write_rows(ss, ["Setting", "Value"], [["flickerkit version", __version__],
+                                          ["command", "plan"],
+                                          ["range [Hz]", f"{out['range_hz'][0]:g}..{out['range_hz'][1]:g}"],
+                                          ["timer", str(out["timer"])]], widths=[30, 90])
+    set_properties(wb, "flickerkit frequency plan", "PWM frequency and timer plan")
+    return write_with(path, lambda tmp: wb.save(tmp), force=force)

@@ -1,0 +1,492 @@
+"""Published flicker criteria as data, and verdicts against them.
+
+Each :class:`Criterion` names its source document and clause, where it
+applies, when it takes effect and how sure we are of its figures. Verdicts
+read the public JSON object of an assessment (``Assessment.to_dict()``, the
+same for measured and modelled light) plus the dimming level.
+
+A verdict is ``pass``, ``fail``, ``not applicable`` (with why) or
+``insufficient data`` -- never ``pass`` when the capture does not meet the
+method's requirements (too short, sample rate too low, no value).
+
+Confidence levels:
+
+* ``sourced``: the limit was read in the legal or normative text (or a quote
+  of it) -- see the methods brief;
+* ``secondary``: reported consistently by secondary sources, primary row not
+  read;
+* ``recalled``: from memory, not verified in the document -- treat as a
+  screening value until checked.
+
+These verdicts are an engineering assessment, not a certification; the
+applicable standards, local codes and an accredited laboratory decide.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import math
+import operator
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable, Mapping, Sequence
+
+from .errors import SettingsError
+
+STATUSES = ("pass", "fail", "not applicable", "insufficient data")
+CONFIDENCES = ("sourced", "secondary", "recalled")
+
+#: Tolerance when matching a capture's dimming level to a criterion's levels [percentage points].
+LEVEL_TOLERANCE = 0.5
+
+_COMPARE: dict[str, Callable[[float, float], bool]] = {
+    "<": operator.lt, "<=": operator.le, ">": operator.gt, ">=": operator.ge,
+}
+
+
+@dataclass(frozen=True)
+class Criterion:
+    """One limit from a document.
+
+    Attributes
+    ----------
+    id : str
+        Stable identifier (``eu-2019-2020-svm``).
+    title : str
+        Short human title.
+    source : str
+        Document, edition and clause or table.
+    applies_to : str
+        Scope (products, applications) as the document states it.
+    metric : str
+        Key path in the assessment object (``svm``, ``pst_lm``,
+        ``percent_flicker``, ``filtered_percent_flicker.200``, or
+        ``ieee1789.low_risk`` / ``ieee1789.noel`` for the IEEE lines).
+    comparison : str
+        ``<``, ``<=``, ``>``, ``>=``: how the measured value must relate to the limit.
+    schedule : tuple of (datetime.date or None, float)
+        Limits by the date they take effect, earliest first; ``None`` for
+        "no date". The limit in force on the assessment date is used.
+    levels : tuple of float or None
+        Dimming levels it applies at [percent of full output]; ``None`` for
+        every level.
+    confidence : str
+        One of :data:`CONFIDENCES`.
+    exemptions : str
+        Exemptions as stated.
+    requires : tuple of str
+        Data requirements (``periodic``, ``ja10-sampling``) whose failure gives
+        ``insufficient data``.
+    unit : str
+        Unit of the measured value and limit, for reports.
+    note : str
+        Anything a reader of the verdict must know.
+    """
+
+    id: str
+    title: str
+    source: str
+    applies_to: str
+    metric: str
+    comparison: str
+    schedule: tuple[tuple[_dt.date | None, float], ...]
+    levels: tuple[float, ...] | None = None
+    confidence: str = "sourced"
+    exemptions: str = ""
+    requires: tuple[str, ...] = ()
+    unit: str = ""
+    note: str = ""
+
+    def __post_init__(self) -> None:
+        if self.comparison not in _COMPARE:
+            raise SettingsError(f"criterion {self.id}: comparison must be one of "
+                                f"{', '.join(_COMPARE)}, got {self.comparison!r}")
+        if self.confidence not in CONFIDENCES:
+            raise SettingsError(f"criterion {self.id}: confidence must be one of "
+                                f"{', '.join(CONFIDENCES)}")
+        if not self.schedule:
+            raise SettingsError(f"criterion {self.id}: no limit given")
+
+    @property
+    def effective_from(self) -> _dt.date | None:
+        """Date the first limit takes effect."""
+        return self.schedule[0][0]
+
+    def limit_on(self, date: _dt.date) -> float | None:
+        """Limit in force on ``date``; ``None`` before the first date."""
+        current = None
+        for start, limit in self.schedule:
+            if start is None or start <= date:
+                current = limit
+        return current
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """A capture (at a level) judged against one criterion.
+
+    Attributes
+    ----------
+    criterion : str
+        Criterion id.
+    label : str
+        Capture label.
+    level : float or None
+        Dimming level [percent].
+    status : str
+        One of :data:`STATUSES`.
+    measured : float or None
+        The figure judged [criterion unit].
+    limit : float or None
+        The limit in force [criterion unit].
+    margin : float or None
+        How far inside the limit (positive) or outside (negative) [criterion unit].
+    reason : str
+        Why, for ``not applicable`` and ``insufficient data``; otherwise how.
+    """
+
+    criterion: str
+    label: str
+    level: float | None
+    status: str
+    measured: float | None
+    limit: float | None
+    margin: float | None
+    reason: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"criterion": self.criterion, "label": self.label, "level": self.level,
+                "status": self.status, "measured": self.measured, "limit": self.limit,
+                "margin": self.margin, "reason": self.reason}
+
+
+def _d(y: int, m: int, d: int) -> _dt.date:
+    return _dt.date(y, m, d)
+
+
+_EU_SCOPE = ("LED and OLED mains light sources (Regulation (EU) 2019/2020, Annex II, Table 4), "
+             "at full load")
+_EU_EXEMPT = ("light sources intended for outdoor, industrial or other applications where "
+              "lighting standards allow a CRI < 80 (as amended by 2021/341)")
+
+#: The built-in criteria, by id.
+REGISTRY: dict[str, Criterion] = {c.id: c for c in (
+    Criterion(
+        id="ieee1789-low-risk",
+        title="IEEE 1789-2015 low-risk region (Recommended Practice 1)",
+        source="IEEE Std 1789-2015, clause 8, Recommended Practice 1",
+        applies_to="LED lighting, every dimming level (recommended practice, not a regulation)",
+        # the limit depends on the modulation frequency: taken from the assessment
+        metric="ieee1789.low_risk", comparison="<", schedule=((_d(2015, 6, 5), math.nan),),
+        confidence="recalled", requires=("periodic",), unit="%",
+        note="Mod% below 0.025 f (f < 90 Hz) or 0.08 f (90-1250 Hz), no restriction above "
+             "1250 Hz; lines recalled, not read in the standard (methods brief §2.2). The limit "
+             "depends on the modulation frequency; the verdict uses the headline IEEE 1789 mode.",
+    ),
+    Criterion(
+        id="ieee1789-noel",
+        title="IEEE 1789-2015 no observable effect level (Recommended Practice 2)",
+        source="IEEE Std 1789-2015, clause 8, Recommended Practice 2",
+        applies_to="LED lighting, every dimming level (recommended practice, not a regulation)",
+        metric="ieee1789.noel", comparison="<", schedule=((_d(2015, 6, 5), math.nan),),
+        confidence="recalled", requires=("periodic",), unit="%",
+        note="Mod% below 0.01 f (f < 90 Hz) or 0.0333 f (90-3000 Hz), no restriction above "
+             "3000 Hz; recalled, not read in the standard (methods brief §2.2).",
+    ),
+    Criterion(
+        id="eu-2019-2020-svm",
+        title="EU ecodesign: stroboscopic visibility measure at full load",
+        source="Regulation (EU) 2019/2020, Annex II, Table 4, as amended by Regulation (EU) "
+               "2021/341, Annex IV point 2(a)",
+        applies_to=_EU_SCOPE, metric="svm", comparison="<=",
+        schedule=((_d(2021, 9, 1), 0.9), (_d(2024, 9, 1), 0.4)), levels=(100.0,),
+        confidence="sourced", exemptions=_EU_EXEMPT, unit="",
+        note="SVM <= 0.9 from 1 September 2021, <= 0.4 from 1 September 2024 (methods brief "
+             "§3.6). The SVM threshold function used by flickerkit is the sourced power form; "
+             "which form IEC TR 63158 makes normative is unresolved (brief §3.2).",
+    ),
+    Criterion(
+        id="eu-2019-2020-pst",
+        title="EU ecodesign: short-term flicker severity Pst LM at full load",
+        source="Regulation (EU) 2019/2020, Annex II, Table 4",
+        applies_to=_EU_SCOPE, metric="pst_lm", comparison="<=",
+        schedule=((_d(2021, 9, 1), 1.0),), levels=(100.0,), confidence="secondary",
+        exemptions=_EU_EXEMPT, unit="",
+        note="Pst LM <= 1.0 reported consistently by secondary sources; the primary row was not "
+             "read (brief §4.1). flickerkit's Pst LM calibration is provisional until the IEC TR "
+             "61547-1 constants are supplied.",
+    ),
+    Criterion(
+        id="ca-title24-ja8",
+        title="California Title 24 JA8 reduced flicker operation",
+        source="California Energy Commission, 2022 Reference Appendices, JA8 (reduced flicker "
+               "operation) with the JA10 test method (JA10.5, JA10.6)",
+        applies_to="light sources with their specified control, California Title 24 JA8",
+        metric="filtered_percent_flicker.200", comparison="<", schedule=((None, 30.0),),
+        levels=(100.0, 20.0), confidence="sourced", requires=("ja10-sampling",), unit="%",
+        note="Percent amplitude modulation below 30 % for frequencies below 200 Hz (JA10.6 "
+             "filtered at 200 Hz). JA8-2022 names full light output; JA10 measures 100 % and "
+             "20 % (and the minimum claimed level); whether older editions required 20 % was "
+             "not verified.",
+    ),
+    Criterion(
+        id="seizure-screen-below-90hz",
+        title="Seizure-risk screen: modulation below 90 Hz at most 5 %",
+        source="Lehman and Wilkins, IEEE Power Electronics Magazine (2014), reprinted in the "
+               "IEEE 1789 compendium (2018), p. 57",
+        applies_to="any light source; flicker at frequencies below 90 Hz",
+        metric="below_90hz_modulation", comparison="<=", schedule=((None, 5.0),),
+        confidence="sourced", requires=("periodic",), unit="%",
+        note="Guidance: all flicker below 90 Hz should satisfy Mod% <= 5 %. Applied to the "
+             "overall percent flicker when the fundamental is below 90 Hz; otherwise not "
+             "applicable.",
+    ),
+    Criterion(
+        id="nema77-guidance-svm",
+        title="NEMA 77 guidance value for SVM (recalled)",
+        source="NEMA 77 (2017; 2023 edition), guidance for limited-motion indoor applications",
+        applies_to="indoor applications with limited motion (offices)",
+        metric="svm", comparison="<=", schedule=((None, 1.6),), confidence="recalled",
+        note="The figure 1.6 is recalled, not read (methods brief §5): a screening value only.",
+    ),
+    Criterion(
+        id="nema77-guidance-pst",
+        title="NEMA 77 guidance value for Pst LM (recalled)",
+        source="NEMA 77 (2017; 2023 edition)",
+        applies_to="indoor applications with limited motion (offices)",
+        metric="pst_lm", comparison="<=", schedule=((None, 1.0),), confidence="recalled",
+        note="The figure 1.0 is recalled, not read (methods brief §5): a screening value only.",
+    ),
+)}
+
+#: Criteria applied when none are named.
+DEFAULT_CRITERIA = ("ieee1789-low-risk", "ieee1789-noel", "eu-2019-2020-svm",
+                    "eu-2019-2020-pst", "ca-title24-ja8", "seizure-screen-below-90hz")
+
+
+def get(ids: Sequence[str] | None = None,
+        extra: Mapping[str, Criterion] | None = None) -> list[Criterion]:
+    """Criteria by id (built-in, then ``extra``); default :data:`DEFAULT_CRITERIA`.
+
+    Raises
+    ------
+    SettingsError
+        For an unknown id, listing the known ones.
+    """
+    known = {**REGISTRY, **(extra or {})}
+    out = []
+    for i in ids or DEFAULT_CRITERIA:
+        if i not in known:
+            raise SettingsError(f"unknown criterion {i!r}; known: {', '.join(sorted(known))}")
+        out.append(known[i])
+    return out
+
+
+def _lookup(record: Mapping[str, Any], dotted: str) -> Any:
+    cur: Any = record
+    for part in dotted.split("."):
+        if isinstance(cur, Mapping) and part in cur:
+            cur = cur[part]
+        elif isinstance(cur, Mapping) and part.replace(".", "", 1).isdigit():
+            # filtered_percent_flicker.200 -> a {cut-off: value} mapping keyed by number
+            match = [v for k, v in cur.items() if _same_number(k, part)]
+            if not match:
+                return None
+            cur = match[0]
+        else:
+            return None
+    return cur
+
+
+def _same_number(a: Any, b: str) -> bool:
+    try:
+        return math.isclose(float(a), float(b))
+    except (TypeError, ValueError):
+        return False
+
+
+def _insufficient(record: Mapping[str, Any], requires: Sequence[str]) -> str | None:
+    """Why the record cannot be judged, or None."""
+    from .assess import MIN_PERIODS, MIN_SAMPLES_PER_PERIOD
+
+    if "periodic" in requires and record.get("frequency_hz") is not None:
+        if (record.get("periods") or 0) < MIN_PERIODS:
+            return f"fewer than {MIN_PERIODS} whole periods of the modulation"
+        spp = record.get("samples_per_period")
+        if spp is not None and spp < MIN_SAMPLES_PER_PERIOD:
+            return f"fewer than {MIN_SAMPLES_PER_PERIOD} samples per period"
+    if "ja10-sampling" in requires:
+        fs = record.get("sample_rate_hz") or 0.0
+        dur = record.get("duration_s") or 0.0
+        if fs < 20_000.0 * (1 - 1e-9):
+            return f"sample rate {fs:g} Hz is below JA10.5's 20 kHz (sample interval <= 50 us)"
+        if dur < 1.0 - 1e-9:
+            return f"capture of {dur:.3g} s is shorter than JA10.5's 1 s"
+    return None
+
+
+def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | None = None,
+          date: _dt.date | None = None) -> Verdict:
+    """Judge one assessment object against one criterion.
+
+    Parameters
+    ----------
+    record : Mapping
+        ``Assessment.to_dict()`` (or a drive-sweep row with the same keys).
+    criterion : Criterion
+    level : float, optional
+        Dimming level of the capture [percent]; needed for level-bound criteria.
+    date : datetime.date, optional
+        Date the product is judged at (placing on the market); default today.
+
+    Returns
+    -------
+    Verdict
+    """
+    date = date or _dt.date.today()
+    label = str(record.get("label", ""))
+    v = dict(criterion=criterion.id, label=label, level=level)
+    if criterion.levels is not None:
+        if level is None:
+            return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
+                           reason=f"applies at {_levels(criterion.levels)}; the capture's "
+                                  f"dimming level is not given")
+        if not any(abs(level - lv) <= LEVEL_TOLERANCE for lv in criterion.levels):
+            return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
+                           reason=f"applies at {_levels(criterion.levels)} only")
+    limit = criterion.limit_on(date)
+    if limit is None:
+        return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
+                       reason=f"not in force on {date.isoformat()} (from "
+                              f"{criterion.effective_from.isoformat()})")
+    why = _insufficient(record, criterion.requires)
+    if why:
+        return Verdict(**v, status="insufficient data", measured=None, limit=None, margin=None,
+                       reason=why)
+
+    if criterion.metric in ("ieee1789.low_risk", "ieee1789.noel"):
+        ieee = record.get("ieee1789")
+        if record.get("frequency_hz") is None or not ieee:
+            return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
+                           reason="no periodic modulation found (steady light within the noise)")
+        which = "low_risk" if criterion.metric.endswith("low_risk") else "noel"
+        measured = ieee["modulation_percent"]
+        limit = ieee[f"{which}_limit_percent"]
+        ok = ieee["region"] in (("low-risk", "no-observable-effect") if which == "low_risk"
+                                else ("no-observable-effect",))
+        margin = None if limit is None else limit - measured
+        how = (f"{ieee['mode']} mode at {ieee['frequency_hz']:.5g} Hz"
+               + ("" if limit is not None else "; exempt above the upper frequency"))
+        return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
+                       margin=margin, reason=how)
+
+    if criterion.metric == "below_90hz_modulation":
+        f = record.get("frequency_hz")
+        if f is None or f >= 90.0:
+            return Verdict(**v, status="not applicable", measured=None, limit=limit, margin=None,
+                           reason="no modulation below 90 Hz" if f is not None
+                           else "no periodic modulation found")
+        measured = record.get("percent_flicker")
+    else:
+        measured = _lookup(record, criterion.metric)
+    if isinstance(measured, Mapping):
+        measured = measured.get("value")
+    if measured is None or (isinstance(measured, float) and not math.isfinite(measured)):
+        return Verdict(**v, status="insufficient data", measured=None, limit=limit, margin=None,
+                       reason=f"no {criterion.metric} value (capture too short or the "
+                              f"method's requirements not met; see the capture's warnings)")
+    measured = float(measured)
+    ok = _COMPARE[criterion.comparison](measured, limit)
+    margin = limit - measured if criterion.comparison in ("<", "<=") else measured - limit
+    return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
+                   margin=margin, reason=f"{criterion.metric} {criterion.comparison} {limit:g}"
+                                         f"{criterion.unit and ' ' + criterion.unit}")
+
+
+def judge_all(records: Sequence[Mapping[str, Any]], criteria: Sequence[Criterion], *,
+              levels: Sequence[float | None] | None = None,
+              date: _dt.date | None = None) -> list[Verdict]:
+    """Every record against every criterion (record-major order)."""
+    levels = list(levels) if levels is not None else [None] * len(records)
+    return [judge(r, c, level=lv, date=date) for r, lv in zip(records, levels) for c in criteria]
+
+
+def overall(verdicts: Sequence[Verdict]) -> str:
+    """``fail`` if any fails, else ``insufficient data`` if any is, else ``pass``
+    (``not applicable`` when nothing applied)."""
+    statuses = {v.status for v in verdicts}
+    for s in ("fail", "insufficient data", "pass"):
+        if s in statuses:
+            return s
+    return "not applicable"
+
+
+def _levels(levels: Sequence[float]) -> str:
+    return " and ".join(f"{lv:g} %" for lv in levels)
+
+
+def from_mapping(data: Mapping[str, Any], *, where: str = "") -> Criterion:
+    """A user criterion from a TOML table.
+
+    Keys: ``id``, ``metric``, ``limit``, ``comparison`` (default ``<=``), and
+    optionally ``title``, ``source``, ``applies_to``, ``levels`` (list of
+    percent), ``effective_from`` (date), ``confidence`` (default
+    ``recalled`` unless ``sourced``/``secondary`` is given), ``note``.
+    """
+    here = f"{where}: " if where else ""
+    for key in ("id", "metric", "limit"):
+        if key not in data:
+            raise SettingsError(f"{here}criterion needs '{key}'")
+    try:
+        limit = float(data["limit"])
+    except (TypeError, ValueError):
+        raise SettingsError(f"{here}criterion {data['id']!r}: limit must be a number") from None
+    start = data.get("effective_from")
+    if isinstance(start, str):
+        try:
+            start = _dt.date.fromisoformat(start)
+        except ValueError:
+            raise SettingsError(f"{here}criterion {data['id']!r}: effective_from must be a "
+                                f"date (YYYY-MM-DD)") from None
+    levels = data.get("levels")
+    if levels is not None:
+        try:
+            levels = tuple(float(x) for x in levels)
+        except (TypeError, ValueError):
+            raise SettingsError(f"{here}criterion {data['id']!r}: levels must be a list of "
+                                f"percentages") from None
+    crit = Criterion(
+        id=str(data["id"]), title=str(data.get("title", data["id"])),
+        source=str(data.get("source", "user-supplied")),
+        applies_to=str(data.get("applies_to", "as the user states")),
+        metric=str(data["metric"]), comparison=str(data.get("comparison", "<=")),
+        schedule=((start, limit),), levels=levels,
+        confidence=str(data.get("confidence", "recalled")),
+        requires=tuple(data.get("requires", ())), unit=str(data.get("unit", "")),
+        note=str(data.get("note", "")),
+    )
+    return crit
+
+
+def load_user_criteria(path: str | Path) -> dict[str, Criterion]:
+    """User criteria from a TOML file with ``[[criterion]]`` tables."""
+    import tomllib
+
+    p = Path(path)
+    try:
+        data = tomllib.loads(p.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise SettingsError(f"{p}: no such file") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise SettingsError(f"{p}: not valid TOML ({exc})") from None
+    out = {}
+    for i, table in enumerate(data.get("criterion", []), start=1):
+        c = from_mapping(table, where=f"{p} criterion {i}")
+        out[c.id] = c
+    if not out:
+        raise SettingsError(f"{p}: holds no [[criterion]] tables")
+    return out
+
+
+__all__ = ["Criterion", "Verdict", "REGISTRY", "DEFAULT_CRITERIA", "STATUSES", "get", "judge",
+           "judge_all", "overall", "from_mapping", "load_user_criteria"]

@@ -1,0 +1,550 @@
+"""Frequency and timer planning for a dimming drive.
+
+Given a drive description and perception targets, find the lowest PWM
+frequency at which every dimming level in a range meets them, then the timer
+settings that give it with the resolution needed, and -- when no setting meets
+both -- the ways out with their cost (faster clock or high-resolution timer,
+hybrid dimming, dithering with its own low-frequency flicker computed).
+
+One path: each level's light comes from :mod:`flickerkit.drive`; its figures
+come from the shared criteria code -- :func:`flickerkit.ieee1789.classify` on
+the model's percent flicker at its fundamental, and
+:func:`flickerkit.svm.svm_from_components` on the model's exact Fourier series.
+Tests show these agree with :func:`flickerkit.assess.assess` of the sampled
+light.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass, replace
+from typing import Sequence
+
+import numpy as np
+
+from . import ieee1789
+from .drive import Drive, DitheredPwm, LightModel
+from .errors import SettingsError
+from .timers import Timer, TimerSetting, clock_needed, minimum_duty
+
+#: Frequency range searched by default [Hz].
+DEFAULT_RANGE_HZ = (10.0, 50_000.0)
+#: Points of the coarse log-spaced frequency grid.
+GRID_POINTS = 160
+#: Relative precision of the lowest frequency after bisection.
+FREQUENCY_RTOL = 1e-4
+#: Highest Fourier component the SVM sum uses [Hz] (methods brief §3.3).
+SVM_F_MAX_HZ = 2000.0
+
+TARGET_HELP = ("ieee1789-low-risk, ieee1789-noel, svm<=VALUE (e.g. svm<=0.4); "
+               "several separated by commas")
+
+
+@dataclass(frozen=True)
+class Target:
+    """A perception target.
+
+    Attributes
+    ----------
+    kind : str
+        ``"ieee1789-low-risk"``, ``"ieee1789-noel"`` or ``"svm"``.
+    limit : float or None
+        Largest SVM allowed (``"svm"`` only) [unitless].
+    """
+
+    kind: str
+    limit: float | None = None
+
+    @property
+    def name(self) -> str:
+        return f"svm<={self.limit:g}" if self.kind == "svm" else self.kind
+
+
+def parse_targets(text: str) -> tuple[Target, ...]:
+    """Parse ``"ieee1789-low-risk,svm<=0.4"`` into targets.
+
+    Raises
+    ------
+    SettingsError
+        On an unknown target or an SVM limit that is not positive.
+    """
+    out = []
+    for part in (p.strip().lower() for p in str(text).split(",")):
+        if not part:
+            continue
+        if part in ("ieee1789-low-risk", "low-risk"):
+            out.append(Target("ieee1789-low-risk"))
+        elif part in ("ieee1789-noel", "noel", "ieee1789-no-observable-effect"):
+            out.append(Target("ieee1789-noel"))
+        else:
+            m = re.fullmatch(r"svm\s*<=?\s*([0-9.eE+-]+)", part)
+            if not m:
+                raise SettingsError(f"unknown target {part!r}; use {TARGET_HELP}")
+            try:
+                v = float(m.group(1))
+            except ValueError:
+                raise SettingsError(f"SVM limit {m.group(1)!r} is not a number") from None
+            if not (v > 0 and math.isfinite(v)):
+                raise SettingsError(f"SVM limit must be positive, got {v:g}")
+            out.append(Target("svm", v))
+    if not out:
+        raise SettingsError(f"no target given; use {TARGET_HELP}")
+    return tuple(out)
+
+
+@dataclass(frozen=True)
+class LevelFigures:
+    """Perception figures of one level's modelled light.
+
+    Attributes
+    ----------
+    level : float
+        Dimming level [unitless, 0-1].
+    relative_light : float
+        Mean light relative to full output [unitless].
+    frequency_hz : float or None
+        Fundamental of the light [Hz].
+    percent_flicker : float
+        Modulation depth of the modelled light [percent].
+    ieee1789 : Ieee1789Result or None
+        Placement at the fundamental (None for steady light).
+    svm : float
+        Stroboscopic visibility measure from the Fourier series [unitless].
+    """
+
+    level: float
+    relative_light: float
+    frequency_hz: float | None
+    percent_flicker: float
+    ieee1789: ieee1789.Ieee1789Result | None
+    svm: float
+
+    def meets(self, target: Target) -> bool:
+        """Whether the level meets a target."""
+        if target.kind == "svm":
+            return self.svm <= target.limit * (1 + 1e-12)
+        r = self.ieee1789.region if self.ieee1789 else "no-observable-effect"
+        if target.kind == "ieee1789-noel":
+            return r == "no-observable-effect"
+        return r in ("no-observable-effect", "low-risk")
+
+
+def svm_of_series(fs) -> float:
+    """SVM of a model's Fourier series (shared SVM sum, default threshold)."""
+    from . import svm
+
+    if fs.frequencies_hz.size == 0:
+        return 0.0
+    return float(svm.svm_from_components(fs.frequencies_hz, fs.amplitudes,
+                                         f_max_hz=SVM_F_MAX_HZ))
+
+
+def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = True
+            ) -> LevelFigures:
+    """Perception figures of a model (closed-form path).
+
+    Parameters
+    ----------
+    model : LightModel
+        The light at one level.
+    level : float
+        Dimming level it stands for [unitless].
+    need_svm : bool
+        Compute the SVM (skip it when no target needs it).
+    """
+    light = model.light()
+    f0 = light.fundamental_hz
+    fs = light.fourier_series(SVM_F_MAX_HZ if need_svm else 0.0)
+    pf = light.modulation_percent()
+    res = ieee1789.classify(f0, pf) if f0 else None
+    sv = svm_of_series(fs) if need_svm else float("nan")
+    return LevelFigures(level, fs.mean, f0, pf, res, sv)
+
+
+def default_levels(min_level: float, count: int = 25) -> np.ndarray:
+    """Levels from ``min_level`` to 1, log-spaced, with 0.5 added [unitless]."""
+    if not (0 < min_level <= 1):
+        raise SettingsError(f"smallest level must be in (0, 1], got {min_level:g}")
+    lv = np.geomspace(min_level, 1.0, max(count, 2))
+    return np.unique(np.concatenate([lv, [0.5]]))
+
+
+def _check_at(drive: Drive, f: float, levels: Sequence[float], targets: Sequence[Target]
+              ) -> tuple[bool, float | None, str | None]:
+    """Whether all levels meet all targets at f; else the first failing level and target."""
+    need_svm = any(t.kind == "svm" for t in targets)
+    d = drive.with_frequency(f)
+    for lv in levels:  # lowest level first: usually the worst
+        fig = figures(d.at(lv), lv, need_svm=need_svm)
+        for t in targets:
+            if not fig.meets(t):
+                return False, float(lv), t.name
+    return True, None, None
+
+
+def _valid_frequency(drive: Drive, f: float) -> bool:
+    try:
+        drive.with_frequency(f)
+        return True
+    except SettingsError:
+        return False
+
+
+@dataclass(frozen=True)
+class FrequencyResult:
+    """Lowest frequency meeting targets.
+
+    Attributes
+    ----------
+    targets : tuple of Target
+    frequency_hz : float or None
+        Lowest frequency found, None when none in the range meets them [Hz].
+    holds_above : bool
+        Every grid frequency above it meets the targets too (true by
+        construction: the search returns the frequency above the last failing
+        grid point).
+    passing_below_hz : tuple of float
+        Grid frequencies below a failing one that pass anyway [Hz]; SVM ignores
+        components below its lower band limit, so very low frequencies can
+        "pass" an SVM target while flickering visibly (direct flicker, judged
+        by Pst LM, not by this planner).
+    limiting_level : float or None
+        Level that failed just below the found frequency [unitless].
+    limiting_target : str or None
+        Target that failed there.
+    """
+
+    targets: tuple[Target, ...]
+    frequency_hz: float | None
+    holds_above: bool
+    passing_below_hz: tuple[float, ...]
+    limiting_level: float | None
+    limiting_target: str | None
+
+    def to_dict(self) -> dict:
+        return {"targets": [t.name for t in self.targets], "frequency_hz": self.frequency_hz,
+                "holds_at_all_higher_frequencies_checked": self.holds_above,
+                "isolated_passing_below_hz": list(self.passing_below_hz),
+                "limiting_level": self.limiting_level, "limiting_target": self.limiting_target}
+
+
+def lowest_frequency(
+    drive: Drive,
+    targets: Sequence[Target],
+    levels: Sequence[float],
+    *,
+    range_hz: tuple[float, float] = DEFAULT_RANGE_HZ,
+    grid_points: int = GRID_POINTS,
+) -> FrequencyResult:
+    """Lowest PWM frequency at which every level meets every target.
+
+    Parameters
+    ----------
+    drive : Drive
+        The dimming scheme (its own frequency is ignored).
+    targets : sequence of Target
+    levels : sequence of float
+        Dimming levels that must all pass [unitless].
+    range_hz : (float, float)
+        Frequencies searched [Hz].
+    grid_points : int
+        Points of the log-spaced grid. The answer is the lowest frequency
+        above the last failing grid point (refined by bisection), so every
+        grid frequency above it passes.
+
+    Returns
+    -------
+    FrequencyResult
+    """
+    lo, hi = range_hz
+    if not (0 < lo < hi):
+        raise SettingsError(f"frequency range must satisfy 0 < low < high, got {lo:g}..{hi:g} Hz")
+    levels = sorted(float(x) for x in levels)
+    grid = np.geomspace(lo, hi, grid_points)
+    grid = [f for f in grid if _valid_frequency(drive, float(f))]
+    if not grid:
+        raise SettingsError("no frequency in the range suits the drive's rise, fall and "
+                            "delay times (each must be shorter than the period)")
+    ok, info = [], []
+    for f in grid:
+        passed, lv, tn = _check_at(drive, float(f), levels, targets)
+        ok.append(passed)
+        info.append((lv, tn))
+    failing_idx = [i for i, p in enumerate(ok) if not p]
+    if not failing_idx:
+        return FrequencyResult(tuple(targets), float(grid[0]), True, (), None, None)
+    last = failing_idx[-1]
+    if last == len(grid) - 1:
+        return FrequencyResult(tuple(targets), None, False, (), *info[last])
+    # the answer is where the targets hold for good: above the last failing grid point
+    f_lo, f_hi, fail_info = float(grid[last]), float(grid[last + 1]), info[last]
+    while f_hi - f_lo > FREQUENCY_RTOL * f_hi:
+        mid = math.sqrt(f_lo * f_hi)
+        passed, lv, tn = _check_at(drive, mid, levels, targets)
+        if passed:
+            f_hi = mid
+        else:
+            f_lo, fail_info = mid, (lv, tn)
+    below = tuple(float(grid[i]) for i in range(last) if ok[i])
+    return FrequencyResult(tuple(targets), f_hi, True, below, *fail_info)
+
+
+@dataclass(frozen=True)
+class Resolution:
+    """What resolution the dimming needs.
+
+    Either ``bits`` (counts >= 2^bits) or ``min_level`` with ``max_step``
+    (one count at the smallest level is at most that relative step).
+
+    Attributes
+    ----------
+    bits : float or None
+        [bits].
+    min_level : float
+        Smallest level that must be made [unitless].
+    max_step : float or None
+        Largest relative step allowed at ``min_level`` [unitless].
+    """
+
+    bits: float | None = None
+    min_level: float = 0.001
+    max_step: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.bits is not None and not (1 <= self.bits <= 32):
+            raise SettingsError(f"resolution must be 1 to 32 bits, got {self.bits:g}")
+        if not (0 < self.min_level <= 1):
+            raise SettingsError(f"smallest level must be in (0, 1], got {self.min_level:g}")
+        if self.max_step is not None and not (self.max_step > 0):
+            raise SettingsError(f"largest relative step must be positive, got {self.max_step:g}")
+
+    @property
+    def light_step(self) -> float:
+        """Largest light step allowed at the bottom, relative to full output [unitless]."""
+        steps = []
+        if self.bits is not None:
+            steps.append(2.0 ** -self.bits)
+        if self.max_step is not None:
+            steps.append(self.max_step * self.min_level)
+        return min(steps) if steps else math.inf
+
+    @property
+    def counts(self) -> int:
+        """Counts per period needed with plain PWM [counts]."""
+        s = self.light_step
+        return 1 if math.isinf(s) else int(math.ceil(1.0 / s - 1e-9))
+
+    def describe(self) -> str:
+        parts = []
+        if self.bits is not None:
+            parts.append(f"{self.bits:g} bits")
+        if self.max_step is not None:
+            parts.append(f"steps of at most {self.max_step * 100:g} % at level "
+                         f"{self.min_level * 100:g} %")
+        return " and ".join(parts) or "none"
+
+
+def _setting_record(s: TimerSetting, drive: Drive, res: Resolution,
+                    targets: Sequence[Target], levels: Sequence[float]) -> dict:
+    rise = drive.edges.rise_s if drive.edges.kind != "ideal" else 0.0
+    dmin = minimum_duty(s.frequency_hz, turn_on_delay_s=drive.turn_on_delay_s, rise_s=rise,
+                        min_on_time_s=drive.min_on_time_s)
+    met = []
+    need_svm = any(t.kind == "svm" for t in targets)
+    d = drive.with_frequency(s.frequency_hz)
+    figs = [figures(d.at(lv), lv, need_svm=need_svm) for lv in levels]
+    for t in targets:
+        if all(f.meets(t) for f in figs):
+            met.append(t.name)
+    resolution_ok = s.counts >= res.counts
+    pwm_bottom = res.min_level / (drive.crossover if drive.method == "hybrid" else 1.0)
+    reaches_bottom = dmin <= pwm_bottom
+    if resolution_ok and reaches_bottom:
+        met.append("resolution")
+    rec = s.to_dict()
+    rec.update({"minimum_duty": dmin, "minimum_count": int(math.ceil(dmin * s.counts - 1e-9)),
+                "reaches_smallest_level": reaches_bottom, "meets": met,
+                "meets_all": len(met) == len(targets) + 1})
+    return rec
+
+
+def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequence[Target]
+                 ) -> dict:
+    """Dithering option: bits needed and the dither's own flicker at the setting."""
+    m = max(1, math.ceil(math.log2(res.counts / s.counts) - 1e-12))
+    if m > 12:
+        return {"option": "dithering", "extra_bits": m, "possible": False,
+                "cost": f"{m} dither bits would be needed (more than 12 are not modelled); the "
+                        f"pattern would repeat at {s.frequency_hz / 2 ** m:.3g} Hz"}
+    f = s.frequency_hz
+    P = 2 ** m
+    N = max(1, int(math.floor(res.min_level * s.counts)))
+    # the worst pattern near the bottom: N + 1/P counts (one extra count every P periods)
+    common = dict(edges=drive.edges, turn_on_delay_s=drive.turn_on_delay_s,
+                  min_on_time_s=drive.min_on_time_s, min_on_mode=drive.min_on_mode,
+                  ripple=drive.ripple)
+    model = DitheredPwm(f, (N + 1.0 / P) / s.counts, s.counts, m, **common)
+    light = model.light()
+    fs = light.fourier_series(min(f, SVM_F_MAX_HZ * 4))
+    lowest = float(fs.frequencies_hz[0]) if fs.frequencies_hz.size else None
+    sub = fs.frequencies_hz < f * (1 - 1e-9)
+    amp = float(fs.amplitudes[sub].max()) if sub.any() else 0.0
+    per_h = (ieee1789.classify_components(fs.frequencies_hz[sub], fs.amplitudes[sub])
+             if sub.any() else None)
+    frame_means = light.interval_means(np.arange(P + 1) / f)
+    frame_mod = 100.0 * (frame_means.max() - frame_means.min()) / (
+        frame_means.max() + frame_means.min())
+    need_svm = any(t.kind == "svm" for t in targets)
+    fig = figures(model, N / s.counts, need_svm=need_svm)
+    met = [t.name for t in targets if fig.meets(t)]
+    return {
+        "option": "dithering", "possible": True, "extra_bits": m,
+        "pattern_frequency_hz": f / P, "counts_at_bottom": N + 1.0 / P,
+        "lowest_component_hz": lowest, "largest_subharmonic_percent": 100.0 * amp,
+        "analytic_subharmonic_percent": 100.0 * (2.0 / P) / (N + 1.0 / P),
+        "frame_average_modulation_percent": frame_mod,
+        "svm": fig.svm if need_svm else None,
+        "ieee1789_region_fundamental": fig.ieee1789.region if fig.ieee1789 else None,
+        "ieee1789_region_per_harmonic": per_h.region if per_h else None,
+        "meets": met,
+        "cost": (f"{m} dither bits on {s.counts} counts at {f:.6g} Hz: the light repeats at "
+                 f"{f / P:.4g} Hz with sub-harmonics up to {100 * amp:.3g} % of the mean at "
+                 f"{N + 1 / P:.4g} counts (the dimmest levels); SVM {fig.svm:.3g}"
+                 if need_svm else
+                 f"{m} dither bits: the light repeats at {f / P:.4g} Hz with sub-harmonics up "
+                 f"to {100 * amp:.3g} % of the mean at the dimmest levels"),
+    }
+
+
+def plan(
+    drive: Drive,
+    targets: Sequence[Target],
+    *,
+    levels: Sequence[float] | None = None,
+    range_hz: tuple[float, float] = DEFAULT_RANGE_HZ,
+    timer: Timer | None = None,
+    prescalers: tuple[int, ...] | None = None,
+    resolution: Resolution | None = None,
+) -> dict:
+    """Plan a PWM frequency and timer setting for a drive.
+
+    Parameters
+    ----------
+    drive : Drive
+        Dimming scheme (PWM or hybrid).
+    targets : sequence of Target
+        Perception targets, all to be met.
+    levels : sequence of float, optional
+        Levels that must pass; default :func:`default_levels` from the
+        resolution's smallest level (0.1 %).
+    range_hz : (float, float)
+        Frequencies searched [Hz].
+    timer : Timer, optional
+        The timer; without one, only the frequency is planned.
+    prescalers : tuple of int, optional
+        Restrict the timer's prescalers (each must be one it has).
+    resolution : Resolution, optional
+        What the dimming needs; default none.
+
+    Returns
+    -------
+    dict
+        JSON-ready plan (see the ``plan`` command's help for the keys).
+
+    Raises
+    ------
+    SettingsError
+        If the drive is analogue, or no frequency in the range meets the
+        targets.
+    """
+    if drive.method == "analogue":
+        raise SettingsError("an analogue drive has no PWM frequency to plan; use pwm or hybrid")
+    res = resolution or Resolution()
+    lv = np.asarray(levels if levels is not None else default_levels(res.min_level), float)
+    combined = lowest_frequency(drive, targets, lv, range_hz=range_hz)
+    per_target = [lowest_frequency(drive, [t], lv, range_hz=range_hz) for t in targets] \
+        if len(targets) > 1 else [combined]
+    if combined.frequency_hz is None:
+        worst = combined.limiting_level
+        raise SettingsError(
+            f"no PWM frequency from {range_hz[0]:g} Hz to {range_hz[1]:g} Hz meets "
+            f"{', '.join(t.name for t in targets)} across the levels"
+            + (f" (level {worst * 100:.3g} % fails {combined.limiting_target} even at "
+               f"{range_hz[1]:g} Hz)" if worst is not None else ""))
+    out: dict = {
+        "drive": drive.describe(),
+        "targets": [t.name for t in targets],
+        "levels": [float(x) for x in lv],
+        "range_hz": list(range_hz),
+        "lowest_frequency_hz": combined.frequency_hz,
+        "frequency": combined.to_dict(),
+        "per_target": [r.to_dict() for r in per_target],
+        "resolution": {"need": res.describe(), "counts_needed": res.counts,
+                       "light_step": res.light_step},
+        "timer": None, "settings": [], "feasible": None, "options": [],
+    }
+    if timer is None:
+        return out
+    f_req = combined.frequency_hz
+    settings = timer.settings_at_least(f_req, prescalers=prescalers)
+    out["timer"] = {"clock_hz": timer.clock_hz, "prescalers": list(timer.prescalers),
+                    "max_top": timer.max_top, "modes": list(timer.modes)}
+    if not settings:
+        out["feasible"] = False
+        out["options"].append(_clock_option(res, f_req))
+        out["verdict"] = (f"the timer cannot reach {f_req:.6g} Hz with TOP >= 2; a faster clock "
+                          f"is needed")
+        return out
+    recs = [_setting_record(s, drive, res, targets, lv) for s in settings]
+    out["settings"] = recs
+    out["feasible"] = any(r["meets_all"] for r in recs)
+    best = settings[0]
+    if out["feasible"]:
+        out["verdict"] = "at least one timer setting meets the targets and the resolution"
+        return out
+    out["verdict"] = (f"no timer setting meets both the targets at {f_req:.6g} Hz and "
+                      f"the resolution ({res.describe()}): the finest gives {best.counts} "
+                      f"counts ({best.bits:.2f} bits), {res.counts} are needed")
+    out["options"].append(_clock_option(res, f_req))
+    out["options"].append(_hybrid_option(drive, best, res, targets, lv))
+    out["options"].append(_dither_cost(drive, best, res, targets))
+    return out
+
+
+def _clock_option(res: Resolution, f_req: float) -> dict:
+    clk = clock_needed(res.counts, f_req, "edge")
+    step = 1.0 / (res.counts * f_req)
+    return {"option": "faster clock or high-resolution timer", "clock_hz": clk,
+            "high_resolution_step_s": step,
+            "cost": f"a timer clock of at least {clk / 1e6:.4g} MHz (edge-aligned, prescaler 1), "
+                    f"or a high-resolution timer placing edges in steps of {step * 1e9:.3g} ns "
+                    f"or finer (check its minimum pulse and period)"}
+
+
+def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequence[Target],
+                   levels: Sequence[float]) -> dict:
+    rise = drive.edges.rise_s if drive.edges.kind != "ideal" else 0.0
+    dmin = minimum_duty(s.frequency_hz, turn_on_delay_s=drive.turn_on_delay_s, rise_s=rise,
+                        min_on_time_s=drive.min_on_time_s)
+    c = min(1.0, s.counts * res.light_step)
+    if dmin > 0:
+        c = min(c, res.min_level / dmin)
+    if c <= res.min_level:
+        return {"option": "hybrid dimming", "possible": False,
+                "cost": "the crossover would have to lie below the smallest level; hybrid "
+                        "dimming alone does not help"}
+    hyb = replace(drive, method="hybrid", crossover=c, frequency_hz=s.frequency_hz,
+                  counts_per_period=None, dither_bits=0)
+    need_svm = any(t.kind == "svm" for t in targets)
+    figs = [figures(hyb.at(lv), lv, need_svm=need_svm) for lv in levels]
+    met = [t.name for t in targets if all(f.meets(t) for f in figs)]
+    return {"option": "hybrid dimming", "possible": True, "crossover": c,
+            "frequency_hz": s.frequency_hz, "counts_per_period": s.counts, "meets": met,
+            "cost": f"analogue (constant-current) dimming from 100 % down to {c * 100:.3g} %, "
+                    f"PWM at {c * 100:.3g} % current below: needs a settable current "
+                    f"reference over {1 / c:.3g}:1, and LED colour may shift with current"}
+
+
+__all__ = ["FrequencyResult", "LevelFigures", "Resolution", "Target", "default_levels",
+           "figures", "lowest_frequency", "parse_targets", "plan", "svm_of_series"]

@@ -1,0 +1,83 @@
+"""The drive, plan and camera commands through the entry point."""
+
+import json
+
+import pytest
+
+from flickerkit.cli import main
+
+
+def run_json(capsys, argv):
+    assert main(argv + ["--json", "-q"]) == 0
+    return json.loads(capsys.readouterr().out)
+
+
+def test_drive_json_has_measure_keys_and_level(capsys):
+    out = run_json(capsys, ["drive", "-f", "1000", "--levels", "100,50,10,1"])
+    recs = out["levels"]
+    assert [r["level"] for r in recs] == pytest.approx([1.0, 0.5, 0.1, 0.01])
+    for r in recs:
+        for key in ("frequency_hz", "percent_flicker", "flicker_index", "ieee1789", "warnings",
+                    "mean", "sample_rate_hz", "duration_s", "periods", "harmonics", "level",
+                    "svm"):
+            assert key in r
+    # analytic: 0/1 PWM at 1 kHz, FI = 1 - D; full depth at 1 kHz is above low risk
+    assert recs[2]["flicker_index"] == pytest.approx(0.9, rel=0.01)
+    assert recs[1]["ieee1789"]["region"] == "above-low-risk"
+    assert out["first_failing_level"]["ieee1789-low-risk"] == pytest.approx(0.5)
+
+
+def test_drive_file_and_workbook(tmp_path, capsys):
+    f = tmp_path / "d.toml"
+    f.write_text('method = "pwm"\nfrequency_hz = 4000\nlevels = [100, 10, 1]\n'
+                 '[edges]\nkind = "linear"\nrise_s = 1e-6\nfall_s = 1e-6\n')
+    x = tmp_path / "s.xlsx"
+    out = run_json(capsys, ["drive", "--drive-file", str(f), "--xlsx", str(x)])
+    assert [r["level"] for r in out["levels"]] == pytest.approx([1.0, 0.1, 0.01])
+    # IEEE 1789: above 3 kHz every level is no-observable-effect
+    assert out["first_failing_level"]["ieee1789-noel"] is None
+    from openpyxl import load_workbook
+
+    ws = load_workbook(x)["Levels"]
+    header = [c.value for c in ws[1]]
+    pf_col = header.index("Percent flicker [%]")
+    got = [ws.cell(row=i + 2, column=pf_col + 1).value for i in range(3)]
+    assert got == pytest.approx([r["percent_flicker"] for r in out["levels"]])
+
+
+def test_plan_json(capsys):
+    out = run_json(capsys, ["plan", "-t", "low-risk", "--clock-mhz", "16", "--prescalers",
+                            "1,8", "--bits", "10"])
+    assert out["lowest_frequency_hz"] == pytest.approx(1250.0, rel=1e-3)
+    assert out["feasible"] is True and out["settings"]
+
+
+def test_camera_json(capsys):
+    out = run_json(capsys, ["camera", "-f", "1000", "--level", "10", "--fps", "30",
+                            "--exposure", "1/120", "--suggest", "1250:20000"])
+    cam = out["cameras"][0]
+    assert cam["beat_hz"] == pytest.approx(10.0)  # brief §5: 1 kHz at 30 fps
+    assert cam["band_contrast_percent"] == pytest.approx(5.9, abs=0.05)  # brief §5 table
+    assert out["suggestions"][0]["worst_band_contrast_percent"] == pytest.approx(0, abs=1e-7)
+
+
+@pytest.mark.parametrize("argv,match", [
+    (["drive", "-f", "-5"], "PWM frequency"),
+    (["drive", "--levels", "150"], "outside"),
+    (["drive", "-f", "1000", "--rise-us", "2000"], "not shorter than the PWM period"),
+    (["drive", "--drive-file", "/nonexistent.toml"], "no such drive file"),
+    (["plan", "-t", "svm<=0.4", "--clock-mhz", "16", "--prescalers", "1,8", "--prescaler", "3"],
+     "no prescaler 3"),
+    (["plan", "-t", "low-risk", "--range", "10:1000"], "no PWM frequency"),
+    (["camera", "--fps", "30", "--exposure", "0.5"], "no exposure fits"),
+])
+def test_bad_input_one_line(capsys, argv, match):
+    assert main(argv + ["-q"]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and match in err[0] and "Traceback" not in err[0]
+
+
+def test_failed_run_leaves_no_workbook(tmp_path, capsys):
+    x = tmp_path / "out.xlsx"
+    assert main(["drive", "-f", "-1", "--xlsx", str(x), "-q"]) == 1
+    assert not x.exists()

@@ -1,0 +1,115 @@
+"""Verdicts just inside and just outside each limit, by date, by level, and with thin data."""
+
+import datetime as dt
+
+import pytest
+
+from flickerkit import criteria
+from flickerkit.assess import assess
+from flickerkit.capture import make_capture
+from flickerkit.errors import SettingsError
+
+from .synth import sine
+
+FS = 20_000.0
+
+
+def record(m, f=100.0, duration=1.0, fs=FS):
+    return assess(make_capture(sine(f, m, fs, duration), fs, label=f"sine {m}")).to_dict()
+
+
+def test_ieee1789_at_100hz_inside_and_outside():
+    # IEEE 1789 RP1 at 100 Hz: 0.08 x 100 = 8 % (brief §2.3, recalled line)
+    lr = criteria.REGISTRY["ieee1789-low-risk"]
+    assert criteria.judge(record(0.079), lr).status == "pass"
+    v = criteria.judge(record(0.081), lr)
+    assert v.status == "fail"
+    assert v.limit == pytest.approx(8.0, rel=1e-4)
+    assert v.margin == pytest.approx(8.0 - 8.1, abs=0.01)
+    # RP2 at 100 Hz: 3.33 %
+    noel = criteria.REGISTRY["ieee1789-noel"]
+    assert criteria.judge(record(0.033), noel).status == "pass"
+    assert criteria.judge(record(0.034), noel).status == "fail"
+
+
+def test_eu_svm_limit_by_date():
+    # Regulation (EU) 2021/341: SVM <= 0.9 from 2021-09-01, <= 0.4 from 2024-09-01 (brief §3.6)
+    c = criteria.REGISTRY["eu-2019-2020-svm"]
+    assert c.limit_on(dt.date(2022, 1, 1)) == 0.9
+    assert c.limit_on(dt.date(2024, 8, 31)) == 0.9
+    assert c.limit_on(dt.date(2024, 9, 1)) == 0.4
+    assert c.limit_on(dt.date(2021, 8, 31)) is None
+    rec = {"label": "x", "svm": 0.6, "frequency_hz": 1000.0, "periods": 100,
+           "samples_per_period": 50.0}
+    assert criteria.judge(rec, c, level=100, date=dt.date(2023, 5, 1)).status == "pass"
+    assert criteria.judge(rec, c, level=100, date=dt.date(2025, 5, 1)).status == "fail"
+    assert criteria.judge(rec, c, level=100, date=dt.date(2020, 5, 1)).status == "not applicable"
+    # at full load only
+    v = criteria.judge(rec, c, level=50, date=dt.date(2025, 5, 1))
+    assert v.status == "not applicable" and "100 %" in v.reason
+
+
+def test_missing_value_is_insufficient_never_pass():
+    c = criteria.REGISTRY["eu-2019-2020-pst"]
+    v = criteria.judge({"label": "short", "pst_lm": None}, c, level=100,
+                       date=dt.date(2025, 1, 1))
+    assert v.status == "insufficient data"
+
+
+def test_short_capture_is_insufficient_for_ieee():
+    # 1.5 periods of 100 Hz
+    rec = record(0.02, duration=0.015)
+    v = criteria.judge(rec, criteria.REGISTRY["ieee1789-low-risk"])
+    assert v.status in ("insufficient data", "not applicable")
+    assert v.status != "pass"
+
+
+def test_ja10_sampling_requirements():
+    # JA10.5: sample interval <= 50 us (>= 20 kHz) and >= 1 s of data
+    c = criteria.REGISTRY["ca-title24-ja8"]
+    slow = {"label": "s", "sample_rate_hz": 10_000.0, "duration_s": 2.0,
+            "filtered_percent_flicker": {"200": 5.0}}
+    assert criteria.judge(slow, c, level=100).status == "insufficient data"
+    short = dict(slow, sample_rate_hz=50_000.0, duration_s=0.5)
+    assert criteria.judge(short, c, level=100).status == "insufficient data"
+    ok = dict(slow, sample_rate_hz=50_000.0)
+    assert criteria.judge(ok, c, level=100).status == "pass"
+    assert criteria.judge(dict(ok, filtered_percent_flicker={"200": 31.0}), c,
+                          level=20).status == "fail"
+    assert criteria.judge(ok, c, level=50).status == "not applicable"
+
+
+def test_seizure_screen():
+    # Lehman & Wilkins: Mod% <= 5 % below 90 Hz
+    c = criteria.REGISTRY["seizure-screen-below-90hz"]
+    assert criteria.judge(record(0.04, f=30.0), c).status == "pass"
+    assert criteria.judge(record(0.06, f=30.0), c).status == "fail"
+    assert criteria.judge(record(0.5, f=120.0), c).status == "not applicable"
+
+
+def test_unknown_criterion_lists_known():
+    with pytest.raises(SettingsError, match="known: .*ieee1789-low-risk"):
+        criteria.get(["nope"])
+
+
+def test_user_criteria_from_toml(tmp_path):
+    p = tmp_path / "mine.toml"
+    p.write_text('[[criterion]]\nid = "house-pf"\nmetric = "percent_flicker"\nlimit = 10\n'
+                 'comparison = "<"\nlevels = [100, 50]\nsource = "our house rule"\n')
+    extra = criteria.load_user_criteria(p)
+    (c,) = criteria.get(["house-pf"], extra)
+    assert criteria.judge(record(0.09), c, level=50).status == "pass"
+    assert criteria.judge(record(0.11), c, level=100).status == "fail"
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[[criterion]]\nid = "x"\nmetric = "svm"\n')
+    with pytest.raises(SettingsError, match="needs 'limit'"):
+        criteria.load_user_criteria(bad)
+
+
+def test_overall():
+    V = criteria.Verdict
+    mk = lambda s: V("c", "l", None, s, None, None, None)  # noqa: E731
+    assert criteria.overall([mk("pass"), mk("fail")]) == "fail"
+    assert criteria.overall([mk("pass"), mk("insufficient data")]) == "insufficient data"
+    assert criteria.overall([mk("pass"), mk("not applicable")]) == "pass"
+    assert criteria.overall([mk("not applicable")]) == "not applicable"

@@ -1,0 +1,185 @@
+"""Hostile inputs: every reader either answers or raises a project error with a message.
+
+Property-based (hypothesis) with bounded example counts so the suite stays fast.
+"""
+
+import io
+import struct
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from flickerkit.assess import assess
+from flickerkit.errors import FlickerkitError
+from flickerkit.readers import ReadOptions, read_capture
+
+FUZZ = settings(max_examples=60, deadline=None,
+                suppress_health_check=[HealthCheck.function_scoped_fixture,
+                                       HealthCheck.too_slow])
+
+
+def outcome(path, options=None):
+    """Read and assess; return 'ok' or the project error. Anything else fails the test."""
+    try:
+        cap = read_capture(path, options)
+    except FlickerkitError as exc:
+        assert str(exc).strip(), "an error must say what is wrong"
+        assert "\n" not in str(exc).strip()
+        return "error"
+    try:
+        a = assess(cap)
+    except FlickerkitError as exc:
+        assert str(exc).strip()
+        return "error"
+    d = a.to_dict()
+    assert set(d) >= {"frequency_hz", "percent_flicker", "flicker_index", "warnings"}
+    return "ok"
+
+
+@FUZZ
+@given(data=st.binary(max_size=2000), suffix=st.sampled_from([".csv", ".txt", ".wav", ".npy"]))
+def test_random_bytes(tmp_path_factory, data, suffix):
+    p = tmp_path_factory.mktemp("b") / f"x{suffix}"
+    p.write_bytes(data)
+    outcome(p, ReadOptions(sample_rate_hz=1000.0) if suffix == ".npy" else None)
+
+
+numbers = st.one_of(
+    st.floats(allow_nan=True, allow_infinity=True, width=64),
+    st.floats(min_value=-1e300, max_value=1e300),
+    st.floats(min_value=-1e-300, max_value=1e-300),
+    st.integers(min_value=-10**20, max_value=10**20),
+)
+cells = st.one_of(numbers.map(repr), numbers.map(lambda v: f"{v}"), st.just(""),
+                  st.text(alphabet="aé€µ ,;\t\"'-+.eE0123456789", max_size=6))
+
+
+@FUZZ
+@given(
+    header=st.one_of(st.none(), st.lists(st.text(min_size=0, max_size=8), min_size=1, max_size=4)),
+    rows=st.lists(st.lists(cells, min_size=1, max_size=4), min_size=0, max_size=40),
+    sep=st.sampled_from([",", ";", "\t", " ", ", "]),
+    newline=st.sampled_from(["\n", "\r\n", "\r"]),
+    bom=st.booleans(),
+    comments=st.lists(st.text(max_size=20), max_size=3),
+)
+def test_random_tables(tmp_path_factory, header, rows, sep, newline, bom, comments):
+    lines = [f"# {c}" for c in comments]
+    if header is not None:
+        lines.append(sep.join(header))
+    lines += [sep.join(r) for r in rows]
+    text = newline.join(lines) + newline
+    p = tmp_path_factory.mktemp("t") / "table.csv"
+    p.write_bytes((b"\xef\xbb\xbf" if bom else b"") + text.encode("utf-8", "surrogatepass"))
+    outcome(p)
+    outcome(p, ReadOptions(sample_rate_hz=1000.0, fill_gaps=True, resample=True))
+
+
+@FUZZ
+@given(
+    t=st.lists(st.floats(min_value=-1e6, max_value=1e6), min_size=2, max_size=60),
+    x=st.lists(st.floats(min_value=-1e6, max_value=1e6), min_size=60, max_size=60),
+)
+def test_duplicated_and_decreasing_timestamps(tmp_path_factory, t, x):
+    p = tmp_path_factory.mktemp("d") / "times.csv"
+    p.write_text("time,light\n" + "\n".join(f"{a!r},{b!r}" for a, b in zip(t, x)) + "\n")
+    outcome(p)
+    outcome(p, ReadOptions(resample=True))
+
+
+def _wav_bytes(n):
+    from scipy.io import wavfile
+
+    buf = io.BytesIO()
+    wavfile.write(buf, 8000, (np.sin(np.arange(n) / 3) * 1000).astype(np.int16))
+    return buf.getvalue()
+
+
+@FUZZ
+@given(cut=st.integers(min_value=0, max_value=200), n=st.integers(min_value=1, max_value=60))
+def test_truncated_wav(tmp_path_factory, cut, n):
+    p = tmp_path_factory.mktemp("w") / "cut.wav"
+    p.write_bytes(_wav_bytes(n)[:cut])
+    outcome(p)
+
+
+@FUZZ
+@given(cut=st.integers(min_value=0, max_value=200))
+def test_truncated_npy(tmp_path_factory, cut):
+    buf = io.BytesIO()
+    np.save(buf, np.linspace(0, 1, 20))
+    p = tmp_path_factory.mktemp("n") / "cut.npy"
+    p.write_bytes(buf.getvalue()[:cut])
+    outcome(p, ReadOptions(sample_rate_hz=1000.0))
+
+
+def test_npy_declaring_a_billion_rows_with_ten(tmp_path):
+    """A header that promises 1e9 float64 values (8 GB) over 80 bytes is refused, not allocated."""
+    header = "{'descr': '<f8', 'fortran_order': False, 'shape': (1000000000,), }"
+    header = header.ljust(118) + "\n"
+    p = tmp_path / "liar.npy"
+    p.write_bytes(b"\x93NUMPY\x01\x00" + struct.pack("<H", len(header)) + header.encode()
+                  + np.arange(10, dtype="<f8").tobytes())
+    with pytest.raises(FlickerkitError, match="npy"):
+        read_capture(p, ReadOptions(sample_rate_hz=1000.0))
+
+
+def test_wav_declaring_huge_data_with_ten_samples(tmp_path):
+    raw = bytearray(_wav_bytes(10))
+    i = raw.find(b"data")
+    raw[i + 4 : i + 8] = struct.pack("<I", 2_000_000_000)
+    p = tmp_path / "liar.wav"
+    p.write_bytes(bytes(raw))
+    assert outcome(p) in ("ok", "error")
+
+
+# ---------------------------------------------------------------- output side
+
+import subprocess  # noqa: E402
+import sys  # noqa: E402
+
+
+@pytest.fixture
+def small_capture(tmp_path):
+    p = tmp_path / "c.csv"
+    p.write_text("light\n" + "\n".join(f"{1 + 0.2 * np.sin(i / 5):.5f}" for i in range(2000)))
+    return p
+
+
+def test_stdout_to_a_full_disk(small_capture):
+    with open("/dev/full", "w") as full:
+        r = subprocess.run([sys.executable, "-m", "flickerkit", "measure", str(small_capture),
+                            "-r", "1000", "--json", "-q"], stdout=full, stderr=subprocess.PIPE,
+                           text=True)
+    assert r.returncode == 1
+    assert "No space left on device" in r.stderr
+    assert "Traceback" not in r.stderr and "Exception ignored" not in r.stderr
+
+
+def test_workbook_never_replaces_a_device(small_capture, capsys):
+    from flickerkit.cli import main
+
+    assert main(["measure", str(small_capture), "-r", "1000", "-q", "--xlsx", "/dev/full",
+                 "--force"]) == 1
+    assert "not a regular file" in capsys.readouterr().err
+
+
+def test_disk_full_while_saving_leaves_nothing(small_capture, tmp_path, monkeypatch, capsys):
+    import errno
+
+    import openpyxl
+
+    from flickerkit.cli import main
+
+    def full(self, filename):
+        with open(filename, "wb") as fh:
+            fh.write(b"PK\x03\x04 partial")
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(openpyxl.Workbook, "save", full)
+    out = tmp_path / "out.xlsx"
+    assert main(["measure", str(small_capture), "-r", "1000", "-q", "--xlsx", str(out)]) == 1
+    assert "No space left on device" in capsys.readouterr().err
+    assert not out.exists() and not list(tmp_path.glob(".*part"))
