@@ -16,11 +16,14 @@ from typing import Any
 
 import numpy as np
 
-from . import ieee1789, metrics
+from . import flickermeter, ieee1789, metrics, svm
 from .capture import Capture
-from .errors import CaptureWarning, FlickerkitWarning, InputError
+from .errors import CaptureWarning, FlickerkitWarning, InputError, SettingsError
+from .filtered import FilteredFlicker, filtered_percent_flicker
+from .flickermeter import Calibration, PstResult
 from .periodicity import Periodicity, fundamental_frequency
 from .spectrum import Spectrum, modulation_spectrum
+from .svm import SvmResult
 
 #: Fewest samples an assessment accepts (less holds no usable modulation; project choice).
 MIN_SAMPLES = 16
@@ -31,6 +34,15 @@ MIN_PERIODS = 2
 MIN_SAMPLES_PER_PERIOD = 10
 #: A percent flicker below this many times the noise floor is called noise-limited.
 NOISE_MARGIN = 3.0
+#: Filtered percent flicker (JA10.6) uses at most this many samples, or 1 s if that is
+#: more (JA10.5 asks for at least 1 s of data); five inverse FFTs of a whole long
+#: capture would cost more than the rest of the assessment.
+FILTERED_MAX_SAMPLES = 2**20
+#: A windowed SVM (no whole period found) needs this many lowest-band periods [unitless]:
+#: at 80 Hz, 10 periods = 0.125 s, giving bins 8 Hz apart. Chosen here, no source.
+SVM_MIN_WINDOWED_PERIODS = 10
+#: Mains frequencies that choose the lamp constants when ``lamp="auto"`` [Hz].
+_MAINS_BANDS = {"230V": (45.0, 55.0), "120V": (55.0, 65.0)}
 
 
 @dataclass(frozen=True)
@@ -44,10 +56,29 @@ class AssessSettings:
         (overall percent flicker at the fundamental) or ``"per-harmonic"``.
     harmonics : int
         How many harmonics to report.
+    svm_threshold : str
+        SVM threshold model, a key of :data:`flickerkit.svm.THRESHOLDS`.
+    svm_f_min_hz : float
+        Lowest component frequency in the SVM sum [Hz].
+    pst_calibration : str, Calibration or None
+        Flickermeter calibration: a built-in name or a loaded
+        :class:`~flickerkit.flickermeter.Calibration`. None: the default for
+        the signal (light: the provisional Pst LM calibration; voltage: the
+        IEC 61000-4-15 lamp chosen by ``lamp``).
+    pst_observation_s : float or None
+        Observation time of one Pst [s]; None: the calibration's.
+    lamp : str
+        Voltage captures only: ``"230V"``, ``"120V"`` or ``"auto"`` (by the
+        mains frequency: 45-55 Hz -> 230V, 55-65 Hz -> 120V).
     """
 
     ieee1789_mode: str = "fundamental"
     harmonics: int = 20
+    svm_threshold: str = "power"
+    svm_f_min_hz: float = svm.DEFAULT_F_MIN_HZ
+    pst_calibration: str | Calibration | None = None
+    pst_observation_s: float | None = None
+    lamp: str = "auto"
 
     def __post_init__(self) -> None:
         if self.ieee1789_mode not in ("fundamental", "per-harmonic"):
@@ -55,6 +86,29 @@ class AssessSettings:
                              f"got {self.ieee1789_mode!r}")
         if self.harmonics < 1:
             raise ValueError("harmonics must be at least 1")
+        svm.get_threshold(self.svm_threshold)
+        if not (np.isfinite(self.svm_f_min_hz) and 0 <= self.svm_f_min_hz < svm.DEFAULT_F_MAX_HZ):
+            raise SettingsError(f"SVM lower frequency must be 0 to {svm.DEFAULT_F_MAX_HZ:g} Hz, "
+                                f"got {self.svm_f_min_hz:g}")
+        if self.pst_calibration is not None:
+            flickermeter.get_calibration(self.pst_calibration)
+        obs = self.pst_observation_s
+        if obs is not None and not (np.isfinite(obs) and obs >= flickermeter.MIN_OBSERVATION_S):
+            raise SettingsError(f"Pst observation time must be at least "
+                                f"{flickermeter.MIN_OBSERVATION_S:g} s, got {obs:g} s")
+        if self.lamp not in ("auto", *flickermeter.LAMPS):
+            raise SettingsError(f"lamp must be auto, {', '.join(flickermeter.LAMPS)}; "
+                                f"got {self.lamp!r}")
+
+    def light_calibration(self) -> Calibration:
+        """The calibration Pst LM uses."""
+        cal = flickermeter.get_calibration(
+            self.pst_calibration if self.pst_calibration is not None
+            else flickermeter.DEFAULT_LIGHT_CALIBRATION)
+        if cal.signal != "light":
+            raise SettingsError(f"Pst calibration {cal.name!r} is for {cal.signal} captures, "
+                                f"not light")
+        return cal
 
 
 @dataclass(frozen=True)
@@ -113,6 +167,10 @@ class Assessment:
     notes: tuple[str, ...]
     settings: AssessSettings
     meta: dict[str, Any] = field(default_factory=dict)
+    svm: SvmResult | None = None
+    pst_lm: PstResult | None = None
+    pst_lm_calibration: str = ""
+    filtered: FilteredFlicker | None = None
 
     @property
     def ieee1789(self) -> ieee1789.Ieee1789Result | None:
@@ -182,9 +240,35 @@ class Assessment:
             "spectrum_window": self.spectrum.window,
             "input": {k: self.meta[k] for k in ("file", "format", "column", "dark_level",
                                                  "file_size_bytes") if k in self.meta},
+            "svm": num(self.svm.value) if self.svm else None,
+            "svm_detail": _svm_detail(self.svm),
+            "pst_lm": num(self.pst_lm.pst) if self.pst_lm else None,
+            "pst_lm_calibration": self.pst_lm_calibration,
+            "pst_lm_detail": _pst_detail(self.pst_lm),
+            "filtered_percent_flicker": (
+                {k: num(v) for k, v in self.filtered.as_mapping().items()}
+                if self.filtered else None),
             "warnings": list(self.warnings),
             "notes": list(self.notes),
         }
+
+
+def _svm_detail(r: SvmResult | None) -> dict[str, Any] | None:
+    if r is None:
+        return None
+    d = r.to_dict()
+    d.pop("warnings")  # they are in the assessment's warnings
+    d.pop("value")  # it is "svm"
+    return d
+
+
+def _pst_detail(r: PstResult | None) -> dict[str, Any] | None:
+    if r is None:
+        return None
+    d = r.to_dict()
+    d.pop("warnings")
+    d.pop("pst")
+    return d
 
 
 def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessment:
@@ -308,6 +392,12 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
         if bins.size:
             per_h = ieee1789.classify_components(spec.frequencies_hz[bins], spec.amplitudes[bins])
 
+    svm_result = _svm(spec, capture, settings)
+    calibration = settings.light_calibration()
+    pst_result = _pst_lm(capture, settings, calibration)
+    filt = filtered_percent_flicker(
+        x, fs, period, max_samples=max(FILTERED_MAX_SAMPLES, int(np.ceil(fs))))
+
     return Assessment(
         label=capture.label,
         source=capture.source,
@@ -336,4 +426,168 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
         notes=capture.notes,
         settings=settings,
         meta=dict(capture.meta),
+        svm=svm_result,
+        pst_lm=pst_result,
+        pst_lm_calibration=calibration.name,
+        filtered=filt,
     )
+
+
+def _svm(spec: Spectrum, capture: Capture, settings: AssessSettings) -> SvmResult | None:
+    """SVM of the spectrum, or None (with a warning) when the capture cannot give one."""
+    if spec.window != "rectangular":
+        f_low = max(settings.svm_f_min_hz, 1.0)
+        need = SVM_MIN_WINDOWED_PERIODS / f_low
+        if capture.duration_s < need:
+            warnings.warn(CaptureWarning(
+                f"capture of {capture.duration_s:.3g} s without a whole period is too short "
+                f"for SVM (a windowed spectrum needs at least {need:.3g} s); svm is null"))
+            return None
+    return svm.svm_of_spectrum(spec, threshold=settings.svm_threshold,
+                               f_min_hz=settings.svm_f_min_hz)
+
+
+def _pst_lm(capture: Capture, settings: AssessSettings,
+            calibration: Calibration) -> PstResult | None:
+    """Pst LM, or None (with a warning) when the capture is too short or too slow."""
+    need = flickermeter.SETTLING_S + flickermeter.MIN_OBSERVATION_S
+    if capture.duration_s < need:
+        warnings.warn(CaptureWarning(
+            f"capture of {capture.duration_s:.3g} s is too short for Pst LM: it needs at least "
+            f"{need:g} s ({flickermeter.SETTLING_S:g} s settling + "
+            f"{flickermeter.MIN_OBSERVATION_S:g} s), and {calibration.observation_s:g} s of "
+            f"observation for a full value; pst_lm is null"))
+        return None
+    if capture.sample_rate_hz < flickermeter.MIN_SAMPLE_RATE_HZ:
+        warnings.warn(CaptureWarning(
+            f"sample rate {capture.sample_rate_hz:g} Hz is below the "
+            f"{flickermeter.MIN_SAMPLE_RATE_HZ:g} Hz the flickermeter needs; pst_lm is null"))
+        return None
+    try:
+        return flickermeter.pst(capture.samples, capture.sample_rate_hz,
+                                calibration=calibration, observation_s=settings.pst_observation_s)
+    except InputError as exc:
+        warnings.warn(CaptureWarning(f"no Pst LM: {exc}; pst_lm is null"))
+        return None
+
+
+@dataclass(frozen=True)
+class VoltageAssessment:
+    """Short-term flicker severity of a mains voltage capture (IEC 61000-4-15).
+
+    The input side of a light source's flicker-immunity test. Light metrics
+    (percent flicker, IEEE 1789, SVM, Pst LM) do not apply to a voltage and are
+    not computed.
+    """
+
+    label: str
+    source: str
+    quantity: str
+    sample_rate_hz: float
+    n_samples: int
+    duration_s: float
+    rms: float
+    mains_frequency_hz: float | None
+    lamp: str
+    pst: PstResult | None
+    pst_calibration: str
+    warnings: tuple[str, ...]
+    notes: tuple[str, ...]
+    settings: AssessSettings
+    meta: dict[str, Any] = field(default_factory=dict)
+
+    def to_dict(self) -> dict[str, Any]:
+        """The public JSON object of a voltage capture."""
+        def num(v: float | None) -> float | None:
+            return None if v is None or not np.isfinite(v) else float(v)
+
+        return {
+            "label": self.label,
+            "source": self.source,
+            "quantity": self.quantity,
+            "sample_rate_hz": num(self.sample_rate_hz),
+            "n_samples": self.n_samples,
+            "duration_s": num(self.duration_s),
+            "rms": num(self.rms),
+            "frequency_hz": num(self.mains_frequency_hz),
+            "lamp": self.lamp,
+            "pst": num(self.pst.pst) if self.pst else None,
+            "pst_calibration": self.pst_calibration,
+            "pst_detail": _pst_detail(self.pst),
+            "warnings": list(self.warnings),
+            "notes": list(self.notes),
+        }
+
+
+def _voltage_calibration(settings: AssessSettings, mains_hz: float | None,
+                         where: str | None) -> tuple[Calibration, str]:
+    if settings.pst_calibration is not None:
+        cal = flickermeter.get_calibration(settings.pst_calibration)
+        if cal.signal != "voltage":
+            raise SettingsError(f"Pst calibration {cal.name!r} is for {cal.signal} captures, "
+                                f"not voltage")
+        return cal, "calibration"
+    lamp = settings.lamp
+    if lamp == "auto":
+        for name, (lo, hi) in _MAINS_BANDS.items():
+            if mains_hz is not None and lo <= mains_hz < hi:
+                lamp = name
+                break
+        else:
+            found = "no mains frequency" if mains_hz is None else f"mains at {mains_hz:.4g} Hz"
+            raise InputError(f"{found}: cannot choose the lamp constants; give the lamp "
+                             f"(230V for 50 Hz systems, 120V for 60 Hz)", source=where)
+    return flickermeter.get_calibration(flickermeter.LAMPS[lamp]), lamp
+
+
+def assess_voltage(capture: Capture, settings: AssessSettings | None = None) -> VoltageAssessment:
+    """Pst of a mains voltage capture with the IEC 61000-4-15 flickermeter.
+
+    Parameters
+    ----------
+    capture : Capture
+        Instantaneous mains voltage (``quantity == "voltage"``), sampled at
+        1 kHz or more [V].
+    settings : AssessSettings, optional
+        ``lamp``, ``pst_calibration`` (a voltage calibration) and
+        ``pst_observation_s`` apply.
+
+    Returns
+    -------
+    VoltageAssessment
+        ``pst`` is None, with a warning, when the capture is too short.
+
+    References
+    ----------
+    IEC 61000-4-15:2010 (flickermeter; constants as recalled in the methods
+    brief section 4.2).
+    """
+    settings = settings or AssessSettings()
+    x = capture.samples
+    where = capture.source or capture.label or None
+    rms = float(np.sqrt(np.mean(x * x)))
+    if rms == 0.0:
+        raise InputError("voltage capture is all zero", source=where)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", FlickerkitWarning)
+        period = fundamental_frequency(x, capture.sample_rate_hz)
+        cal, lamp = _voltage_calibration(settings, period.frequency_hz, where)
+        result = None
+        need = flickermeter.SETTLING_S + flickermeter.MIN_OBSERVATION_S
+        if capture.duration_s < need:
+            warnings.warn(CaptureWarning(
+                f"capture of {capture.duration_s:.3g} s is too short for Pst: it needs at least "
+                f"{need:g} s, and {cal.observation_s:g} s of observation for a full value; "
+                f"pst is null"))
+        else:
+            result = flickermeter.pst(x, capture.sample_rate_hz, calibration=cal,
+                                      observation_s=settings.pst_observation_s)
+    found = list(capture.warnings)
+    found += [str(w.message) for w in caught if issubclass(w.category, FlickerkitWarning)]
+    return VoltageAssessment(
+        label=capture.label, source=capture.source, quantity=capture.quantity,
+        sample_rate_hz=capture.sample_rate_hz, n_samples=capture.n_samples,
+        duration_s=capture.duration_s, rms=rms, mains_frequency_hz=period.frequency_hz,
+        lamp=lamp, pst=result, pst_calibration=cal.name,
+        warnings=tuple(dict.fromkeys(found)), notes=capture.notes, settings=settings,
+        meta=dict(capture.meta))

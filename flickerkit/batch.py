@@ -43,12 +43,14 @@ def measure_one(path: str, options: ReadOptions, settings: AssessSettings) -> Ou
     Pure apart from reading the file: the same inputs give the same outcome
     in any process.
     """
-    from .assess import assess
+    from .assess import assess, assess_voltage
     from .errors import FlickerkitError
     from .readers import read_capture
 
     try:
-        return Outcome(path, assess(read_capture(path, options), settings).to_dict())
+        capture = read_capture(path, options)
+        judge = assess_voltage if capture.quantity == "voltage" else assess
+        return Outcome(path, judge(capture, settings).to_dict())
     except FlickerkitError as exc:
         return Outcome(path, None, str(exc))
     except MemoryError:

@@ -450,10 +450,11 @@ def svm_of_spectrum(
     -----
     Whole-period spectrum: every bin in the band is a component (harmonics
     fall exactly on bins; the others hold noise and unlocked modulation).
-    Windowed spectrum: see :func:`hann_components`; accuracy a few percent for
-    well separated components (-0.2 % to +1 % on a 100 Hz sine and PWM in the
-    tests), against -10 % to -23 % for a plain rectangular window a fraction
-    of a period off.
+    Windowed spectrum: see :func:`hann_components`. On 100 Hz sines, PWM (10 %
+    and 50 %) and rectified sines 0.2 s to 1 s long it came within 0.05 % of
+    the series value, within 0.4 % over only 5 periods, against -10 % to
+    -23 % for a plain rectangular window a fraction of a period off; components
+    closer than about 4 bins merge and then bias it.
 
     References
     ----------
@@ -480,10 +481,10 @@ def svm_of_spectrum(
         method = "hann-windowed"
         method_note = ("no clean period: Hann window, each spectral peak's main-lobe power "
                        "summed over +-2 bins and corrected by the window's noise bandwidth "
-                       "(a few percent uncertain)")
+                       "(about 0.5 % uncertain for well separated components)")
         notes.append("SVM from a Hann-windowed spectrum because no whole period was found; "
-                     "expect a few percent error (more if components are closer than 4 "
-                     "frequency bins)")
+                     "expect up to about 0.5 % error, more if components lie closer than 4 "
+                     "frequency bins")
         freqs, amps = hann_components(spectrum)
         harmonic = np.ones(freqs.size, dtype=bool)
 

@@ -131,13 +131,27 @@ def test_demo_runs_end_to_end(tmp_path, capsys):
     folder = tmp_path / "demo"
     assert main(["demo", "--out", str(folder), "--json", "-q"]) == 0
     data = json.loads(capsys.readouterr().out)
-    assert len(data) == 5
-    assert (folder / "ardent12_measurement.xlsx").exists()
+    records = data["records"]
+    assert len(records) == 5
+    assert (folder / "ardent12_record.xlsx").exists()
     # the invented product's analogue levels carry 100 Hz ripple, its PWM levels 1.2 kHz
-    assert data[0]["frequency_hz"] == pytest.approx(100.0, rel=1e-3)
-    assert data[-1]["frequency_hz"] == pytest.approx(1200.0, rel=1e-3)
+    assert records[0]["frequency_hz"] == pytest.approx(100.0, rel=1e-3)
+    assert records[-1]["frequency_hz"] == pytest.approx(1200.0, rel=1e-3)
+    # 7 % peak-to-peak ripple is 3.5 % percent flicker (period-averaged, noise removed)
+    assert records[0]["percent_flicker_averaged"] == pytest.approx(3.5, rel=0.02)
+    assert data["overall"] in ("pass", "fail", "insufficient data")
+    assert {v["criterion"] for v in data["verdicts"]} >= {"ieee1789-low-risk", "eu-2019-2020-svm"}
     assert main(["demo", "--out", str(folder), "-q"]) == 1  # refuses to replace without --force
     assert "--force" in capsys.readouterr().err
+
+
+def test_example_project_is_the_demo_project():
+    from pathlib import Path
+
+    from flickerkit.demo import PROJECT_TOML
+
+    example = Path(__file__).resolve().parent.parent / "examples" / "ardent12_project.toml"
+    assert example.read_text(encoding="utf-8") == PROJECT_TOML
 
 
 def test_parser_builds():

@@ -105,3 +105,15 @@ def test_cutoff_above_nyquist_is_flagged():
         result = filtered_percent_flicker(x, fs)
     # analytic 20 %; 12.5 samples per period miss the crest by up to 1 - cos(pi / 12.5)
     assert result.percent_flicker[-1] == pytest.approx(20.0, abs=20 * (1 - np.cos(np.pi / 12.5)))
+
+
+def test_max_samples_limits_the_span_to_whole_periods():
+    # analytic: 1 + 0.2 cos at 120 Hz gives 20 % whatever the span; the span is whole periods
+    fs = 24_000.0
+    t = np.arange(240_000) / fs
+    x = 1 + 0.2 * np.cos(2 * np.pi * 120 * t)
+    period = Periodicity(120.0, 200.0, 1200, 1.0)
+    result = filtered_percent_flicker(x, fs, period, max_samples=30_050)
+    assert result.n_samples <= 30_050 and result.n_samples % 200 == 0
+    assert result.duration_s == pytest.approx(result.n_samples / fs)
+    assert result.percent_flicker[2] == pytest.approx(20.0, abs=1e-9)

@@ -5,12 +5,22 @@ from __future__ import annotations
 import argparse
 import sys
 
-HELP = "percent flicker, flicker index, frequency and IEEE 1789 region of captures"
+HELP = "percent flicker, flicker index, IEEE 1789 region, SVM and Pst LM of captures"
 
 DESCRIPTION = """\
 Measure photodiode captures: fundamental modulation frequency, percent flicker
 (modulation depth) and flicker index over whole periods, per-period median and
-worst, the modulation spectrum, the noise floor, and the IEEE 1789-2015 region.
+worst, the modulation spectrum, the noise floor, the IEEE 1789-2015 region,
+the stroboscopic visibility measure SVM (CIE TN 006 / IEC TR 63158), the
+short-term flicker severity of light Pst LM (IEC 61000-4-15 chain) and the
+filtered percent flicker of California JA10.6.
+
+Pst LM needs at least 15 s of capture (60 s for a full observation); shorter
+captures report it as null with a warning. Its default calibration is
+PROVISIONAL (IEC TR 61547-1's light constants were not available): give a
+laboratory's constants with --pst-calibration FILE.toml for compliance work.
+With --signal voltage the captures are mains voltage and the result is the
+supply's Pst (IEC 61000-4-15 voltage flickermeter), not a light metric.
 
 Files: text tables (.csv, .txt, .tsv, .dat; comma, semicolon, tab or space
 separated; decimal comma; comment/metadata lines; a time column with its unit
@@ -21,6 +31,8 @@ examples:
   flickerkit measure scope.csv --column CH2 --dark 0.0031
   flickerkit measure logger.txt --sample-rate 50000 --json > result.json
   flickerkit measure caps/*.csv --xlsx record.xlsx
+  flickerkit measure long_60s.csv --pst-calibration lab.toml --pst-observation 60
+  flickerkit measure mains.wav --signal voltage --lamp 230V --json
 """
 
 
@@ -73,6 +85,26 @@ def add_parser(sub) -> None:
                         "always in the JSON")
     g.add_argument("--harmonics", type=int, default=20, metavar="N",
                    help="harmonics to report (default 20)")
+    g.add_argument("--signal", choices=("light", "voltage"), default="light",
+                   help="what the captures hold: light (default) or the mains voltage, "
+                        "which gives the supply's Pst (key 'pst') instead of light metrics")
+    g.add_argument("--svm-threshold", choices=("power", "sigmoid"), default="power",
+                   help="SVM threshold curve: power (default; Perz et al. 2018, sourced) or "
+                        "sigmoid (recalled, unverified; to see how much a verdict depends "
+                        "on it)")
+    g.add_argument("--svm-lower", type=float, default=80.0, metavar="HZ",
+                   help="lowest component frequency in the SVM sum (default 80 Hz; the "
+                        "upper end is 2000 Hz)")
+    g.add_argument("--pst-calibration", metavar="NAME|FILE.toml",
+                   help="flickermeter constants: a built-in name (light-provisional-230v "
+                        "[default for light], light-provisional-120v, iec61000-4-15-230v, "
+                        "iec61000-4-15-120v) or a TOML file with a laboratory's constants")
+    g.add_argument("--pst-observation", type=float, metavar="S",
+                   help="observation time of one Pst in seconds (default: the "
+                        "calibration's, 60 s for light, 600 s for voltage; at least 10)")
+    g.add_argument("--lamp", choices=("auto", "230V", "120V"), default="auto",
+                   help="--signal voltage: reference lamp constants (default auto: 230V for "
+                        "50 Hz mains, 120V for 60 Hz)")
     o = p.add_argument_group("output")
     o.add_argument("--json", action="store_true",
                    help="print a JSON array (one object per capture) instead of the table")
@@ -103,10 +135,8 @@ def run(args: argparse.Namespace) -> int:
         raise SettingsError("--workers must be at least 1")
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
-    from ..assess import AssessSettings
-
-    settings = AssessSettings(ieee1789_mode=args.ieee1789_mode, harmonics=args.harmonics)
-    outcomes = run_batch(args, args.captures, read_options(args), settings)
+    settings = assess_settings(args)
+    outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings)
     records = [o.record for o in outcomes if o.record is not None]
     failed = [o for o in outcomes if o.record is None]
     for o in failed:
@@ -120,12 +150,16 @@ def run(args: argparse.Namespace) -> int:
         from ..export.jsonout import dumps
 
         sys.stdout.write(dumps(records))
+    elif args.signal == "voltage":
+        sys.stdout.write(voltage_table(records))
     else:
         sys.stdout.write(summary_table(records))
     if args.xlsx:
-        from ..export.workbook import write_measure_workbook
+        from ..export.workbook import VOLTAGE_COLUMNS, MEASURE_COLUMNS, write_measure_workbook
 
-        write_measure_workbook(args.xlsx, records, settings_record(args), force=args.force)
+        columns = VOLTAGE_COLUMNS if args.signal == "voltage" else MEASURE_COLUMNS
+        write_measure_workbook(args.xlsx, records, settings_record(args, settings),
+                               force=args.force, columns=columns)
         if not args.quiet:
             print(f"workbook written: {args.xlsx}", file=sys.stderr)
     if not args.quiet:
@@ -133,6 +167,42 @@ def run(args: argparse.Namespace) -> int:
 
         print(_CAUTION, file=sys.stderr, end="")
     return 1 if failed else 0
+
+
+def calibration_option(value: str | None):
+    """Resolve ``--pst-calibration``: a built-in name, or a TOML file (by suffix or path)."""
+    if value is None:
+        return None
+    from pathlib import Path
+
+    from ..flickermeter import CALIBRATIONS, load_calibration
+
+    if value in CALIBRATIONS:
+        return value
+    if value.lower().endswith(".toml") or Path(value).exists():
+        return load_calibration(value)
+    from ..errors import SettingsError
+
+    raise SettingsError(f"--pst-calibration {value!r} is neither a built-in calibration "
+                        f"({', '.join(CALIBRATIONS)}) nor a .toml file")
+
+
+def assess_settings(args: argparse.Namespace):
+    """The AssessSettings the options describe (shared by the commands that assess)."""
+    from ..assess import AssessSettings
+
+    from ..errors import SettingsError
+    from ..flickermeter import get_calibration
+
+    cal = calibration_option(args.pst_calibration)
+    if cal is not None and get_calibration(cal).signal != args.signal:
+        name = get_calibration(cal).name
+        raise SettingsError(f"--pst-calibration {name!r} is for {get_calibration(cal).signal} "
+                            f"captures, but --signal is {args.signal}")
+    return AssessSettings(
+        ieee1789_mode=args.ieee1789_mode, harmonics=args.harmonics,
+        svm_threshold=args.svm_threshold, svm_f_min_hz=args.svm_lower,
+        pst_calibration=cal, pst_observation_s=args.pst_observation, lamp=args.lamp)
 
 
 def run_batch(args: argparse.Namespace, paths: list[str], options, settings):
@@ -169,19 +239,48 @@ class _Interrupted(KeyboardInterrupt):
         super().__init__(f"interrupted after {done} of {total} captures; no output was written")
 
 
-def settings_record(args: argparse.Namespace) -> dict:
+def settings_record(args: argparse.Namespace, settings=None) -> dict:
     """The settings a workbook records."""
-    return {
+    from ..flickermeter import get_calibration
+    from ..svm import DEFAULT_F_MAX_HZ, THRESHOLDS
+
+    settings = settings or assess_settings(args)
+    record = {
         "command": "measure",
         "captures": ", ".join(args.captures),
+        "signal": args.signal,
         "column": args.column, "sample rate option [Hz]": args.sample_rate,
         "time unit option": args.time_unit, "dark level option": args.dark,
         "resample": args.resample, "fill gaps": args.fill_gaps,
-        "IEEE 1789 headline mode": args.ieee1789_mode, "harmonics reported": args.harmonics,
-        "IEEE 1789 boundaries": "RP1 low-risk 0.025f (<90 Hz), 0.08f (90-1250 Hz); RP2 NOEL "
-                                "0.01f, 0.0333f (90-3000 Hz); recalled, not read in the "
-                                "standard (methods brief §2.2)",
     }
+    if args.signal == "light":
+        model = THRESHOLDS[settings.svm_threshold]
+        cal = settings.light_calibration()
+        record |= {
+            "IEEE 1789 headline mode": args.ieee1789_mode, "harmonics reported": args.harmonics,
+            "IEEE 1789 boundaries": "RP1 low-risk 0.025f (<90 Hz), 0.08f (90-1250 Hz); RP2 "
+                                    "NOEL 0.01f, 0.0333f (90-3000 Hz); recalled, not read in "
+                                    "the standard (methods brief §2.2)",
+            "SVM threshold model": f"{model.name}: {model.formula} ({model.status}; "
+                                   f"{model.reference})",
+            "SVM band [Hz]": f"{settings.svm_f_min_hz:g} to {DEFAULT_F_MAX_HZ:g}",
+        }
+    else:
+        cal = (get_calibration(settings.pst_calibration) if settings.pst_calibration
+               is not None else None)
+        record["lamp option"] = args.lamp
+    if cal is not None:
+        record |= {
+            "Pst calibration": cal.name,
+            "Pst calibration status": cal.status,
+            "Pst calibration origin": cal.origin,
+        }
+    else:
+        record["Pst calibration"] = "IEC 61000-4-15 lamp constants chosen per capture " \
+                                    "(see the Captures sheet)"
+    record["Pst observation time [s]"] = (args.pst_observation if args.pst_observation
+                                          else "the calibration's")
+    return record
 
 
 def summary_table(records: list[dict]) -> str:
@@ -189,15 +288,56 @@ def summary_table(records: list[dict]) -> str:
     from ..export.table import fmt, render
 
     headers = ["capture", "f [Hz]", "percent flicker [%]", "flicker index", "IEEE 1789",
-               "periods", "noise floor [%]"]
+               "SVM", "Pst LM", "periods", "noise floor [%]"]
     rows = []
     for r in records:
         ieee = r.get("ieee1789") or {}
         rows.append([r["label"], fmt(r["frequency_hz"], ".5g"), fmt(r["percent_flicker"], ".3f"),
                      fmt(r["flicker_index"], ".4f"), ieee.get("region", "–"),
+                     fmt(r.get("svm"), ".3f"), fmt(r.get("pst_lm"), ".3f"),
                      str(r["periods"]), fmt((r.get("noise") or {}).get("percent_flicker_floor"),
                                             ".2g")])
     out = render(headers, rows)
+    out += _method_lines(records)
+    for r in records:
+        for w in r["warnings"]:
+            out += f"warning: {r['label']}: {w}\n"
+    return out
+
+
+def _method_lines(records: list[dict]) -> str:
+    """Which SVM threshold and Pst LM calibration produced the figures."""
+    from ..flickermeter import CALIBRATIONS
+
+    out = ""
+    models = dict.fromkeys((r.get("svm_detail") or {}).get("threshold") for r in records)
+    for m in filter(None, models):
+        status = next((r["svm_detail"]["threshold_status"] for r in records
+                       if (r.get("svm_detail") or {}).get("threshold") == m), "")
+        out += f"SVM threshold model: {m} ({status})\n"
+    for name in filter(None, dict.fromkeys(r.get("pst_lm_calibration") for r in records)):
+        cal = CALIBRATIONS.get(name)
+        status = next(((r.get("pst_lm_detail") or {}).get("calibration_status") for r in records
+                       if r.get("pst_lm_calibration") == name and r.get("pst_lm_detail")),
+                      cal.status if cal else None)
+        out += f"Pst LM calibration: {name}" + (f" ({status})" if status else "") + "\n"
+    return out
+
+
+def voltage_table(records: list[dict]) -> str:
+    """Terminal table of mains voltage captures (supply Pst), then their warnings."""
+    from ..export.table import fmt, render
+
+    headers = ["capture", "mains [Hz]", "RMS", "lamp", "Pst", "Pinst,max", "observed [s]"]
+    rows = []
+    for r in records:
+        d = r.get("pst_detail") or {}
+        rows.append([r["label"], fmt(r["frequency_hz"], ".5g"), fmt(r["rms"], ".5g"),
+                     r["lamp"], fmt(r["pst"], ".3f"), fmt(d.get("pinst_max"), ".3f"),
+                     fmt(d.get("observation_s"), ".4g")])
+    out = render(headers, rows)
+    for name in dict.fromkeys(r["pst_calibration"] for r in records):
+        out += f"Pst calibration: {name}\n"
     for r in records:
         for w in r["warnings"]:
             out += f"warning: {r['label']}: {w}\n"

@@ -95,12 +95,41 @@ MEASURE_COLUMNS: tuple[tuple[str, str], ...] = (
     ("Flicker index, median period [1]", "per_period.flicker_index_median"),
     ("Flicker index, worst period [1]", "per_period.flicker_index_worst"),
     ("Noise floor of percent flicker [%]", "noise.percent_flicker_floor"),
+    ("SVM [1]", "svm"),
+    ("SVM threshold model", "svm_detail.threshold"),
+    ("SVM method", "svm_detail.method"),
+    ("Pst LM [1]", "pst_lm"),
+    ("Pst LM calibration", "pst_lm_calibration"),
+    ("Pst LM calibration status", "pst_lm_detail.calibration_status"),
+    ("Pst LM observation [s]", "pst_lm_detail.observation_s"),
+    ("Percent flicker <= 40 Hz (JA10.6) [%]", "filtered_percent_flicker.40"),
+    ("Percent flicker <= 90 Hz (JA10.6) [%]", "filtered_percent_flicker.90"),
+    ("Percent flicker <= 200 Hz (JA10.6) [%]", "filtered_percent_flicker.200"),
+    ("Percent flicker <= 400 Hz (JA10.6) [%]", "filtered_percent_flicker.400"),
+    ("Percent flicker <= 1000 Hz (JA10.6) [%]", "filtered_percent_flicker.1000"),
     ("Mean [input unit]", "mean"),
     ("Min [input unit]", "min"),
     ("Max [input unit]", "max"),
     ("Sample rate [Hz]", "sample_rate_hz"),
     ("Duration [s]", "duration_s"),
     ("Samples per period", "samples_per_period"),
+    ("Warnings", "warnings"),
+)
+
+
+#: Columns of the ``measure --signal voltage`` workbook (supply Pst).
+VOLTAGE_COLUMNS: tuple[tuple[str, str], ...] = (
+    ("Capture", "label"),
+    ("Mains frequency [Hz]", "frequency_hz"),
+    ("RMS [input unit]", "rms"),
+    ("Lamp constants", "lamp"),
+    ("Pst [1]", "pst"),
+    ("Pst calibration", "pst_calibration"),
+    ("Pinst,max [1]", "pst_detail.pinst_max"),
+    ("Pst observation [s]", "pst_detail.observation_s"),
+    ("Short capture", "pst_detail.short"),
+    ("Sample rate [Hz]", "sample_rate_hz"),
+    ("Duration [s]", "duration_s"),
     ("Warnings", "warnings"),
 )
 
