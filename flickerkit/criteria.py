@@ -211,7 +211,7 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         source="Regulation (EU) 2019/2020, Annex II, Table 4",
         applies_to=_EU_SCOPE, metric="pst_lm", comparison="<=",
         schedule=((_d(2021, 9, 1), 1.0),), levels=(100.0,), confidence="secondary",
-        exemptions=_EU_EXEMPT, unit="",
+        exemptions=_EU_EXEMPT, unit="", requires=("pst-duration",),
         note="Pst LM <= 1.0 reported consistently by secondary sources; the primary row was not "
              "read (brief §4.1). flickerkit's Pst LM calibration is provisional until the IEC TR "
              "61547-1 constants are supplied.",
@@ -255,6 +255,7 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         source="NEMA 77 (2017; 2023 edition)",
         applies_to="indoor applications with limited motion (offices)",
         metric="pst_lm", comparison="<=", schedule=((None, 1.0),), confidence="recalled",
+        requires=("pst-duration",),
         note="The figure 1.0 is recalled, not read (methods brief §5): a screening value only.",
     ),
 )}
@@ -315,6 +316,11 @@ def _insufficient(record: Mapping[str, Any], requires: Sequence[str]) -> str | N
         spp = record.get("samples_per_period")
         if spp is not None and spp < MIN_SAMPLES_PER_PERIOD:
             return f"fewer than {MIN_SAMPLES_PER_PERIOD} samples per period"
+    if "pst-duration" in requires:
+        detail = record.get("pst_lm_detail") or {}
+        if detail.get("short"):
+            return (f"Pst LM over {detail.get('observation_s', 0):.3g} s, shorter than the "
+                    f"method's {detail.get('method_observation_s', 0):.3g} s observation")
     if "ja10-sampling" in requires:
         fs = record.get("sample_rate_hz") or 0.0
         dur = record.get("duration_s") or 0.0
@@ -398,9 +404,14 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
     measured = float(measured)
     ok = _COMPARE[criterion.comparison](measured, limit)
     margin = limit - measured if criterion.comparison in ("<", "<=") else measured - limit
+    how = f"{criterion.metric} {criterion.comparison} {limit:g}{criterion.unit and ' ' + criterion.unit}"
+    detail = record.get(f"{criterion.metric}_detail")
+    if isinstance(detail, Mapping) and detail.get("calibration_status") == "provisional":
+        how += f" (provisional calibration {detail.get('calibration')})"
+    if isinstance(detail, Mapping) and detail.get("threshold_status") not in (None, "sourced"):
+        how += f" (threshold model {detail.get('threshold')}: {detail.get('threshold_status')})"
     return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
-                   margin=margin, reason=f"{criterion.metric} {criterion.comparison} {limit:g}"
-                                         f"{criterion.unit and ' ' + criterion.unit}")
+                   margin=margin, reason=how)
 
 
 def judge_all(records: Sequence[Mapping[str, Any]], criteria: Sequence[Criterion], *,

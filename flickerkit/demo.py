@@ -37,35 +37,36 @@ NOISE_V = 0.002
 
 @dataclass(frozen=True)
 class DemoCapture:
-    """One invented capture: its level, waveform recipe and file layout."""
+    """One invented capture: its level, waveform recipe, file layout, rate and length."""
 
     level_percent: float
     filename: str
     layout: str
     description: str
+    sample_rate_hz: float = 50_000.0
+    duration_s: float = 1.0
 
 
 CAPTURES = (
-    DemoCapture(100.0, "ardent12_level100.csv", "csv-ms",
-                "analogue, 100 Hz ripple 7 % peak-to-peak"),
-    DemoCapture(50.0, "ardent12_level050.csv", "semicolon-decimal-comma-us",
+    # full output is recorded for 70 s so that Pst LM has its 60 s observation
+    DemoCapture(100.0, "ardent12_level100.wav", "wav-float32",
+                "analogue, 100 Hz ripple 7 % peak-to-peak", 25_000.0, 70.0),
+    DemoCapture(50.0, "ardent12_level050.csv", "csv-ms",
                 "analogue, 100 Hz ripple 9 % peak-to-peak"),
-    DemoCapture(20.0, "ardent12_level020.txt", "tab-no-header",
+    DemoCapture(20.0, "ardent12_level020.csv", "semicolon-decimal-comma-us",
                 "1.2 kHz PWM, duty 80 % of the 25 % current"),
-    DemoCapture(10.0, "ardent12_level010.wav", "wav-float32",
+    DemoCapture(10.0, "ardent12_level010.txt", "tab-no-header",
                 "1.2 kHz PWM, duty 40 % of the 25 % current"),
     DemoCapture(2.0, "ardent12_level002.npy", "npy-time-signal",
                 "1.2 kHz PWM, duty 8 % of the 25 % current"),
 )
 
-SAMPLE_RATE_HZ = 50_000.0
-DURATION_S = 1.0
 PWM_HZ = 1200.0
 CROSSOVER = 0.25
 RISE_TAU_S = 4e-6
 
 
-def _light(level: float, t: np.ndarray, rng: np.random.Generator) -> np.ndarray:
+def _light(level: float, t: np.ndarray, sample_rate_hz: float) -> np.ndarray:
     """Invented light waveform at a dimming level (fraction), before the detector."""
     if level >= CROSSOVER:
         ripple_pp = 0.07 if level > 0.75 else 0.09
@@ -74,7 +75,7 @@ def _light(level: float, t: np.ndarray, rng: np.random.Generator) -> np.ndarray:
     duty = level / CROSSOVER
     # interval-averaged PWM with first-order rise and fall on a fine grid
     fine = 16
-    tf = (t[:, None] + np.arange(fine) / (fine * SAMPLE_RATE_HZ)).ravel()
+    tf = (t[:, None] + np.arange(fine) / (fine * sample_rate_hz)).ravel()
     phase = np.mod(tf * PWM_HZ + 0.137, 1.0) / PWM_HZ
     on = duty / PWM_HZ
     y = np.where(phase < on, 1 - np.exp(-phase / RISE_TAU_S),
@@ -87,11 +88,11 @@ def write_captures(folder: Path, seed: int = 2026) -> list[Path]:
     from scipy.io import wavfile
 
     rng = np.random.default_rng(seed)
-    n = int(SAMPLE_RATE_HZ * DURATION_S)
-    t = np.arange(n) / SAMPLE_RATE_HZ
     paths = []
     for cap in CAPTURES:
-        light = _light(cap.level_percent / 100.0, t, rng)
+        n = int(cap.sample_rate_hz * cap.duration_s)
+        t = np.arange(n) / cap.sample_rate_hz
+        light = _light(cap.level_percent / 100.0, t, cap.sample_rate_hz)
         volts = DARK_V + FULL_SCALE_V * light + NOISE_V * rng.standard_normal(n)
         path = folder / cap.filename
         head = (f"# INVENTED demo capture - not a real product or measurement\n"
@@ -107,12 +108,12 @@ def write_captures(folder: Path, seed: int = 2026) -> list[Path]:
             body = "\n".join(f"{a:.7f}\t{b:.5f}" for a, b in zip(t, volts))
             path.write_text(body + "\n", encoding="utf-8")
         elif cap.layout == "wav-float32":
-            wavfile.write(path, int(SAMPLE_RATE_HZ), volts.astype(np.float32))
+            wavfile.write(path, int(cap.sample_rate_hz), volts.astype(np.float32))
         elif cap.layout == "npy-time-signal":
             np.save(path, np.column_stack([t, volts]))
         paths.append(path)
     # a dark capture for the dark level
-    dark = DARK_V + NOISE_V * rng.standard_normal(n // 10)
+    dark = DARK_V + NOISE_V * rng.standard_normal(5000)
     dark_path = folder / "ardent12_dark.csv"
     dark_path.write_text("# INVENTED dark capture (light off)\nphotodiode (V)\n"
                          + "\n".join(f"{v:.5f}" for v in dark) + "\n", encoding="utf-8")
@@ -131,7 +132,6 @@ description = "INVENTED demo product: 12 W LED downlight, hybrid driver, analogu
 
 [setup]
 detector = "silicon photodiode with transimpedance amplifier (invented bench)"
-sample_rate_hz = 50000
 bandwidth_hz = 100000
 distance_m = 0.5
 ambient = "dark room, 23 C"
@@ -143,7 +143,7 @@ dark = "ardent12_dark.csv"
 
 [[capture]]
 level = 100
-file = "ardent12_level100.csv"
+file = "ardent12_level100.wav"
 
 [[capture]]
 level = 50
@@ -151,11 +151,11 @@ file = "ardent12_level050.csv"
 
 [[capture]]
 level = 20
-file = "ardent12_level020.txt"
+file = "ardent12_level020.csv"
 
 [[capture]]
 level = 10
-file = "ardent12_level010.wav"
+file = "ardent12_level010.txt"
 
 [[capture]]
 level = 2

@@ -113,3 +113,16 @@ def test_overall():
     assert criteria.overall([mk("pass"), mk("insufficient data")]) == "insufficient data"
     assert criteria.overall([mk("pass"), mk("not applicable")]) == "pass"
     assert criteria.overall([mk("not applicable")]) == "not applicable"
+
+
+def test_pst_lm_on_a_short_capture_is_insufficient():
+    # Pst LM over 15 s where the method observes 60 s: flagged short -> never pass
+    c = criteria.REGISTRY["eu-2019-2020-pst"]
+    rec = {"label": "short", "pst_lm": 0.2,
+           "pst_lm_detail": {"short": True, "observation_s": 15.0, "method_observation_s": 60.0,
+                             "calibration_status": "provisional"}}
+    v = criteria.judge(rec, c, level=100, date=dt.date(2025, 1, 1))
+    assert v.status == "insufficient data" and "60 s" in v.reason
+    rec["pst_lm_detail"]["short"] = False
+    v = criteria.judge(rec, c, level=100, date=dt.date(2025, 1, 1))
+    assert v.status == "pass" and "provisional" in v.reason
