@@ -150,7 +150,7 @@ def _on_dask(jobs, address: str, on_result) -> list[Outcome]:
         raise SettingsError("--scheduler needs Dask distributed: pip install "
                             "'flickerkit[distributed]'") from None
     try:
-        client = Client(address, timeout=10, set_as_default=False)
+        client = Client(address, timeout=5, set_as_default=False)
     except (OSError, TimeoutError) as exc:
         raise SettingsError(f"cannot reach the scheduler at {address} ({exc})") from None
     try:
