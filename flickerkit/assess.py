@@ -16,13 +16,14 @@ from typing import Any
 
 import numpy as np
 
-from . import flickermeter, ieee1789, metrics, svm
+from . import flickermeter, ieee1789, metrics, reduce, svm
 from .capture import Capture
 from .errors import CaptureWarning, FlickerkitWarning, InputError, SettingsError
 from .filtered import FilteredFlicker, filtered_percent_flicker
 from .flickermeter import Calibration, PstResult
-from .periodicity import Periodicity, fundamental_frequency
-from .spectrum import Spectrum, modulation_spectrum
+from .periodicity import SEGMENT_SAMPLES, Periodicity, fundamental_frequency
+from .spectrum import (SINGLE_FFT_MAX_SAMPLES, WINDOW_SAMPLES, Spectrum, averaged_spectrum,
+                       modulation_spectrum)
 from .svm import SvmResult
 
 #: Fewest samples an assessment accepts (less holds no usable modulation; project choice).
@@ -271,7 +272,8 @@ def _pst_detail(r: PstResult | None) -> dict[str, Any] | None:
     return d
 
 
-def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessment:
+def assess(capture: Capture, settings: AssessSettings | None = None, *,
+           block: int = reduce.BLOCK) -> Assessment:
     """Compute every figure of a light capture.
 
     Parameters
@@ -280,6 +282,12 @@ def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessme
         Validated light signal, dark level already removed.
     settings : AssessSettings, optional
         Defaults to ``AssessSettings()``.
+    block : int, optional
+        Samples read at a time [samples]. Every figure is computed block by
+        block, so a capture larger than memory (a memory-mapped file or a
+        :class:`~flickerkit.reduce.LazySignal`) is assessed in bounded
+        memory; the block size changes only the order of floating-point
+        summation.
 
     Returns
     -------
@@ -288,25 +296,26 @@ def assess(capture: Capture, settings: AssessSettings | None = None) -> Assessme
     Raises
     ------
     InputError
-        If the capture is dark (all zero) or its mean light is not positive.
+        If the capture is dark (all zero), holds a non-finite sample, or its
+        mean light is not positive.
+
+    Notes
+    -----
+    Passes over the data: one for totals (feeding the flickermeter), one for
+    per-period extremes and sums, one for the areas above the means, one for
+    the counts at the maximum. Period finding, the noise estimate and JA10.6
+    filtering read only the start of the capture. Spans of whole periods up to
+    :data:`~flickerkit.spectrum.SINGLE_FFT_MAX_SAMPLES` are transformed in one
+    piece; longer ones use averaged whole-period windows.
     """
     settings = settings or AssessSettings()
-    x = capture.samples
     where = capture.source or capture.label or None
     if capture.n_samples < MIN_SAMPLES:
         raise InputError(f"capture holds {capture.n_samples} samples; at least {MIN_SAMPLES} "
                          f"are needed", source=where)
-    hi = float(np.max(x))
-    lo = float(np.min(x))
-    if hi == 0.0 and lo == 0.0:
-        raise InputError("capture is dark: every sample is zero", source=where)
-    if float(np.mean(x)) <= 0:
-        raise InputError("mean light is not positive: check the dark level and the "
-                         "detector's polarity", source=where)
-
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", FlickerkitWarning)
-        result = _assess(capture, settings, hi, lo)
+        result = _assess(capture, settings, block)
     found = list(capture.warnings)
     found += [str(w.message) for w in caught if issubclass(w.category, FlickerkitWarning)]
     return _with_warnings(result, found)
@@ -319,25 +328,36 @@ def _with_warnings(a: Assessment, more: list[str]) -> Assessment:
     return replace(a, warnings=merged)
 
 
-def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) -> Assessment:
+def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessment:
     x = capture.samples
     fs = capture.sample_rate_hz
     n = capture.n_samples
+    where = capture.source or capture.label or None
     warn: list[str] = []
 
-    period = fundamental_frequency(x, fs)
-    spec = modulation_spectrum(x, fs, period)
+    calibration = settings.light_calibration()
+    meter = _pst_meter(capture, calibration)
+    tot = reduce.totals(x, block=block, feed=meter.process if meter is not None else None)
+    if tot.first_bad is not None:
+        raise InputError(f"sample {tot.first_bad} is not a finite number", source=where)
+    hi, lo = tot.hi, tot.lo
+    if hi == 0.0 and lo == 0.0:
+        raise InputError("capture is dark: every sample is zero", source=where)
+    if tot.total <= 0:
+        raise InputError("mean light is not positive: check the dark level and the "
+                         "detector's polarity", source=where)
+
+    head = np.asarray(x[: max(SEGMENT_SAMPLES, metrics.NOISE_SAMPLES)], dtype=np.float64)
+    period = fundamental_frequency(head, fs, mean=tot.total / n, n_total=n)
     template = None
     if (period.period_samples is not None and period.period_samples >= 4
             and period.periods >= MIN_PERIODS):
-        template, noise = metrics.periodic_average_and_noise(x, period.period_samples)
+        template, noise = metrics.periodic_average_and_noise(head, period.period_samples)
     else:
-        noise = metrics.noise_rms(x)
+        noise = metrics.noise_rms(head)
 
     if period.frequency_hz is not None:
         bounds = metrics.period_bounds(period.periods, period.period_samples, n)
-        span = x[: bounds[-1]]
-        per = metrics.per_period_stats(x, bounds)
         spp = float(period.period_samples)
         if period.periods < MIN_PERIODS:
             warnings.warn(CaptureWarning(
@@ -349,17 +369,23 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
                 f"{period.frequency_hz:.4g} Hz modulation; at least {MIN_SAMPLES_PER_PERIOD} "
                 f"are needed, so percent flicker and flicker index may be off"))
     else:
-        span = x
-        per = metrics.per_period_stats(x, np.array([0, n]))
+        bounds = np.array([0, n], dtype=np.int64)
         spp = None
         warnings.warn(CaptureWarning(
             f"no periodic modulation found ({period.reason}); percent flicker and flicker "
             f"index are over the whole capture and the spectrum is Hann-windowed"))
-
-    pf = metrics.percent_flicker(span)
+    sums = reduce.period_sums(x, bounds, block=block)
+    span_n = int(bounds[-1] - bounds[0])
+    mean = sums.span_total / span_n
+    above, span_above = reduce.above_sums(x, bounds, sums.total / sums.lengths, mean, block=block)
+    per = metrics.stats_from_sums(sums.hi, sums.lo, sums.total, above)
+    if period.frequency_hz is None:
+        per = metrics.PeriodStats(1, per.percent_flicker_median, per.percent_flicker_worst,
+                                  per.flicker_index_median, per.flicker_index_worst)
+    pf = metrics.percent_flicker(np.array([sums.span_hi, sums.span_lo]))
+    fi = span_above / sums.span_total if sums.span_total > 0 else float("nan")
+    spec = _spectrum(x, fs, period, n)
     pf_avg = metrics.percent_flicker(template) if template is not None else None
-    fi = metrics.flicker_index(span)
-    mean = float(np.mean(span))
     noise_pf = metrics.noise_percent_flicker(noise, mean, spp if spp else n)
     if noise > 0 and np.isfinite(noise_pf) and pf < NOISE_MARGIN * noise_pf:
         warnings.warn(CaptureWarning(
@@ -373,9 +399,10 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
         warnings.warn(CaptureWarning(
             f"light goes negative (minimum {lo:.4g}, mean {mean:.4g}): the dark level may "
             f"be too high or the detector offset drifted; ratio metrics are biased"))
-    if metrics.suspected_clipping(x, noise):
+    at_max, at_next = reduce.top_counts(x, hi, block=block)
+    if metrics.clipping_from_counts(n, at_max, at_next, noise):
         warnings.warn(CaptureWarning(
-            f"clipping suspected: {metrics.fraction_at_max(x):.1%} of samples sit exactly at "
+            f"clipping suspected: {at_max / n:.1%} of samples sit exactly at "
             f"the maximum {hi:.6g} while the rest is noisy; the recorder's range may be too "
             f"small, which lowers percent flicker"))
 
@@ -393,10 +420,15 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
             per_h = ieee1789.classify_components(spec.frequencies_hz[bins], spec.amplitudes[bins])
 
     svm_result = _svm(spec, capture, settings)
-    calibration = settings.light_calibration()
-    pst_result = _pst_lm(capture, settings, calibration)
-    filt = filtered_percent_flicker(
-        x, fs, period, max_samples=max(FILTERED_MAX_SAMPLES, int(np.ceil(fs))))
+    pst_result = None
+    if meter is not None:
+        try:
+            pst_result = meter.result(settings.pst_observation_s)
+        except InputError as exc:
+            warnings.warn(CaptureWarning(f"no Pst LM: {exc}; pst_lm is null"))
+    cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))
+    filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
+                                    max_samples=cap)
 
     return Assessment(
         label=capture.label,
@@ -435,7 +467,7 @@ def _assess(capture: Capture, settings: AssessSettings, hi: float, lo: float) ->
 
 def _svm(spec: Spectrum, capture: Capture, settings: AssessSettings) -> SvmResult | None:
     """SVM of the spectrum, or None (with a warning) when the capture cannot give one."""
-    if spec.window != "rectangular":
+    if not spec.window.startswith("rectangular"):
         f_low = max(settings.svm_f_min_hz, 1.0)
         need = SVM_MIN_WINDOWED_PERIODS / f_low
         if capture.duration_s < need:
@@ -447,9 +479,24 @@ def _svm(spec: Spectrum, capture: Capture, settings: AssessSettings) -> SvmResul
                                f_min_hz=settings.svm_f_min_hz)
 
 
-def _pst_lm(capture: Capture, settings: AssessSettings,
-            calibration: Calibration) -> PstResult | None:
-    """Pst LM, or None (with a warning) when the capture is too short or too slow."""
+def _spectrum(x, fs: float, period: Periodicity, n: int) -> Spectrum:
+    """One transform of the whole-period span, or averaged windows for very long captures."""
+    if n <= SINGLE_FFT_MAX_SAMPLES:
+        return modulation_spectrum(np.asarray(x[:], dtype=np.float64), fs, period)
+    if period.frequency_hz is not None:
+        warnings.warn(CaptureWarning(
+            f"capture of {n} samples: its spectrum (harmonics, SVM, per-harmonic IEEE 1789) "
+            f"is the average of whole-period windows of about {WINDOW_SAMPLES} samples"))
+        return averaged_spectrum(x, fs, period)
+    warnings.warn(CaptureWarning(
+        f"capture of {n} samples without a period: its spectrum is the Hann-windowed first "
+        f"{SINGLE_FFT_MAX_SAMPLES} samples"))
+    return modulation_spectrum(np.asarray(x[:SINGLE_FFT_MAX_SAMPLES], dtype=np.float64), fs,
+                               period)
+
+
+def _pst_meter(capture: Capture, calibration: Calibration):
+    """A flickermeter to feed with the capture, or None (with a warning) when it cannot run."""
     need = flickermeter.SETTLING_S + flickermeter.MIN_OBSERVATION_S
     if capture.duration_s < need:
         warnings.warn(CaptureWarning(
@@ -464,8 +511,7 @@ def _pst_lm(capture: Capture, settings: AssessSettings,
             f"{flickermeter.MIN_SAMPLE_RATE_HZ:g} Hz the flickermeter needs; pst_lm is null"))
         return None
     try:
-        return flickermeter.pst(capture.samples, capture.sample_rate_hz,
-                                calibration=calibration, observation_s=settings.pst_observation_s)
+        return flickermeter.Flickermeter(capture.sample_rate_hz, calibration)
     except InputError as exc:
         warnings.warn(CaptureWarning(f"no Pst LM: {exc}; pst_lm is null"))
         return None

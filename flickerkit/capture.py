@@ -129,3 +129,47 @@ def make_capture(
     return Capture(samples=x, sample_rate_hz=rate, label=label, source=source,
                    quantity=quantity, notes=tuple(notes), warnings=tuple(warnings),
                    meta=dict(meta or {}))
+
+
+def make_lazy_capture(
+    samples: Any,
+    sample_rate_hz: float,
+    *,
+    label: str = "",
+    source: str = "",
+    quantity: str = "light",
+    notes: tuple[str, ...] | list[str] = (),
+    warnings: tuple[str, ...] | list[str] = (),
+    meta: Mapping[str, Any] | None = None,
+) -> Capture:
+    """Wrap samples that are read in slices (a file larger than memory) in a :class:`Capture`.
+
+    Only the shape and the sample rate are checked here; finiteness is checked
+    block by block when the capture is assessed.
+
+    Parameters
+    ----------
+    samples : object with ``shape`` and slicing that returns float64 arrays
+        E.g. :class:`flickerkit.readers.FileSignal` [input unit].
+    sample_rate_hz : float
+        Sample rate [Hz].
+    """
+    where = source or label or None
+    shape = getattr(samples, "shape", None)
+    if shape is None or len(shape) != 1:
+        raise InputError("lazy samples must be 1-D", source=where)
+    if shape[0] < 2:
+        raise InputError(f"capture holds {shape[0]} sample(s); at least 2 are needed",
+                         source=where)
+    try:
+        rate = float(sample_rate_hz)
+    except (TypeError, ValueError):
+        raise InputError(f"sample rate {sample_rate_hz!r} is not a number", source=where) from None
+    if not np.isfinite(rate) or rate <= 0:
+        raise InputError(f"sample rate must be a positive number of hertz, got {rate:g}",
+                         source=where)
+    if quantity not in QUANTITIES:
+        raise InputError(f"quantity must be one of {QUANTITIES}, got {quantity!r}", source=where)
+    return Capture(samples=samples, sample_rate_hz=rate, label=label, source=source,
+                   quantity=quantity, notes=tuple(notes), warnings=tuple(warnings),
+                   meta=dict(meta or {}))

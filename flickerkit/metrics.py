@@ -137,29 +137,47 @@ def per_period_stats(samples: np.ndarray, bounds: np.ndarray) -> PeriodStats:
     -------
     PeriodStats
     """
-    x = np.asarray(samples, dtype=np.float64)
-    starts = bounds[:-1]
-    lengths = np.diff(bounds)
-    keep = lengths > 0
-    starts, lengths = starts[keep], lengths[keep]
-    if starts.size == 0:
+    from . import reduce
+
+    bounds = np.asarray(bounds, dtype=np.int64)
+    bounds = np.concatenate([bounds[:1], bounds[1:][np.diff(bounds) > 0]])
+    if bounds.size < 2:
         nan = float("nan")
         return PeriodStats(0, nan, nan, nan, nan)
-    span = x[: bounds[-1]]
-    hi = np.maximum.reduceat(span, starts)
-    lo = np.minimum.reduceat(span, starts)
-    total = np.add.reduceat(span, starts)
+    sums = reduce.period_sums(samples, bounds)
+    above, _ = reduce.above_sums(samples, bounds, sums.total / sums.lengths, 0.0)
+    return stats_from_sums(sums.hi, sums.lo, sums.total, above)
+
+
+def stats_from_sums(hi: np.ndarray, lo: np.ndarray, total: np.ndarray,
+                    above: np.ndarray) -> PeriodStats:
+    """Per-period statistics from each period's max, min, sum and area above its mean.
+
+    Parameters
+    ----------
+    hi, lo, total, above : numpy.ndarray
+        Per period: largest and smallest sample, sum of samples, and sum of
+        ``max(x - period mean, 0)`` [input unit].
+
+    Returns
+    -------
+    PeriodStats
+        Percent flicker ``100 (hi - lo)/(hi + lo)`` and flicker index
+        ``above / total`` of each period, summarised.
+    """
+    if hi.size == 0:
+        nan = float("nan")
+        return PeriodStats(0, nan, nan, nan, nan)
     with np.errstate(invalid="ignore", divide="ignore"):
         pf = 100.0 * (hi - lo) / (hi + lo)
-        mean = total / lengths
-        work = np.repeat(mean, lengths)
-        np.subtract(span, work, out=work)
-        np.maximum(work, 0.0, out=work)
-        above = np.add.reduceat(work, starts)
-        del work
         fi = above / total
+    pf = np.where(hi + lo > 0, pf, np.nan)
+    fi = np.where(total > 0, fi, np.nan)
+    if np.all(np.isnan(pf)):
+        nan = float("nan")
+        return PeriodStats(int(hi.size), nan, nan, nan, nan)
     return PeriodStats(
-        count=int(starts.size),
+        count=int(hi.size),
         percent_flicker_median=float(np.nanmedian(pf)),
         percent_flicker_worst=float(np.nanmax(pf)),
         flicker_index_median=float(np.nanmedian(fi)),
@@ -307,11 +325,35 @@ def suspected_clipping(samples: np.ndarray, noise_std: float) -> bool:
     Returns
     -------
     bool
+        See :func:`clipping_from_counts`.
+    """
+    x = np.asarray(samples)
+    hi = np.max(x)
+    below = x[x < hi]
+    at_next = int(np.count_nonzero(below == np.max(below))) if below.size else 0
+    return clipping_from_counts(x.shape[0], int(np.count_nonzero(x == hi)), at_next, noise_std)
+
+
+def clipping_from_counts(n: int, at_max: int, at_next: int, noise_std: float) -> bool:
+    """Clipping test from how often the maximum and the next lower value occur.
+
+    Parameters
+    ----------
+    n : int
+        Samples in the capture.
+    at_max, at_next : int
+        Samples exactly at the maximum, and at the next lower value present.
+    noise_std : float
+        Noise estimate [input unit].
+
+    Returns
+    -------
+    bool
         True when the signal is noisy (``noise_std > 0``), at least 1 % of the
-        samples equal the maximum exactly, and the maximum value occurs more
-        than twice as often as the next lower value present. Noise does not
-        repeat its largest value exactly; a rail does. A noiseless synthetic
-        flat top is not flagged.
+        samples equal the maximum exactly, and the maximum occurs more than
+        twice as often as the next lower value. Noise does not repeat its
+        largest value exactly; a rail does. A noiseless synthetic flat top is
+        not flagged.
 
     Notes
     -----
@@ -319,15 +361,6 @@ def suspected_clipping(samples: np.ndarray, noise_std: float) -> bool:
     whose noise is below one code step are not flagged: their top code is
     in the tail of the noise distribution, rarer than the code below it.
     """
-    x = np.asarray(samples)
-    if noise_std <= 0 or x.shape[0] < 100:
+    if noise_std <= 0 or n < 100 or at_max < 0.01 * n or at_next == 0:
         return False
-    hi = np.max(x)
-    at_max = np.count_nonzero(x == hi)
-    if at_max < 0.01 * x.shape[0]:
-        return False
-    below = x[x < hi]
-    if below.size == 0:
-        return False
-    nxt = np.max(below)
-    return bool(at_max > 2 * np.count_nonzero(x == nxt))
+    return bool(at_max > 2 * at_next)

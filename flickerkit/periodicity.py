@@ -14,8 +14,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-#: Samples used for the coarse autocorrelation (2**21: 2 s at 1 MS/s).
-SEGMENT_SAMPLES = 2**21
+#: Samples used for the coarse autocorrelation (2**20: 1 s at 1 MS/s).
+SEGMENT_SAMPLES = 2**20
 
 #: Normalised autocorrelation at one period below which a signal is said to
 #: have no periodic modulation (noise dominates). Chosen here, not from a
@@ -89,6 +89,8 @@ def fundamental_frequency(
     sample_rate_hz: float,
     *,
     min_strength: float = MIN_STRENGTH,
+    mean: float | None = None,
+    n_total: int | None = None,
 ) -> Periodicity:
     """Find the fundamental modulation frequency of a signal.
 
@@ -101,6 +103,12 @@ def fundamental_frequency(
     min_strength : float, optional
         Smallest normalised autocorrelation at one period that counts as
         periodic modulation [unitless].
+    mean : float, optional
+        Mean of the whole capture, when ``samples`` holds only its first
+        :data:`SEGMENT_SAMPLES` (streaming) [input unit]; default the mean of
+        ``samples``.
+    n_total : int, optional
+        Length of the whole capture, when ``samples`` is only its start.
 
     Returns
     -------
@@ -130,9 +138,13 @@ def fundamental_frequency(
     >>> round(p.frequency_hz, 6), p.periods
     (100.0, 100)
     """
-    x = np.asarray(samples, dtype=np.float64)
-    n_total = x.shape[0]
-    mean = float(np.mean(x))
+    x = np.asarray(samples[:SEGMENT_SAMPLES], dtype=np.float64)
+    if n_total is None:
+        n_total = int(np.shape(samples)[0])
+        if mean is None:
+            mean = float(np.mean(samples))
+    elif mean is None:
+        raise ValueError("give the whole capture's mean with n_total")
     seg = x[: min(n_total, SEGMENT_SAMPLES)] - mean
     n = seg.shape[0]
     if n < 8 or not np.any(seg):

@@ -32,7 +32,7 @@ from typing import Any
 
 import numpy as np
 
-from .capture import Capture, make_capture
+from .capture import Capture, make_capture, make_lazy_capture
 from .errors import InputError
 
 #: Time units recognised in headers and options [s].
@@ -48,6 +48,83 @@ _COMMENT = ("#", "%", "//", ";", "!", "*")
 _HEAD_BYTES = 256 * 1024
 #: A sample this far (in sample intervals) from a uniform grid makes the time non-uniform.
 UNIFORM_TOLERANCE = 0.5
+#: Captures longer than this are read block by block [samples] (2**25: 256 MiB as float64).
+STREAM_ABOVE_SAMPLES = 2**25
+#: Text tables larger than this are converted in chunks and read block by block [bytes].
+STREAM_ABOVE_TEXT_BYTES = 1 << 30
+#: Rows per chunk when a text table is streamed.
+TEXT_CHUNK_ROWS = 1_000_000
+#: Raw binary suffixes.
+RAW_SUFFIXES = (".raw", ".bin")
+_RAW_DTYPES = ("float32", "float64", "int8", "uint8", "int16", "uint16", "int32", "uint32")
+
+
+class FileSignal:
+    """Samples stored in a binary file, read in slices as float64 (never memory-mapped).
+
+    Reading with ``seek`` and ``numpy.fromfile`` keeps the process's resident
+    memory at the size of the slices read, whatever the file's length.
+
+    Parameters
+    ----------
+    path : str
+        The file.
+    dtype : numpy.dtype
+        Stored sample format.
+    offset : int
+        Byte offset of the first sample.
+    n : int
+        Samples (frames) in the file.
+    channels, channel : int
+        Interleaved channels, and the 0-based one to read.
+    dark : float
+        Subtracted from every sample [input unit].
+    """
+
+    def __init__(self, path: str, dtype, offset: int, n: int, *, channels: int = 1,
+                 channel: int = 0, dark: float = 0.0) -> None:
+        self.path = str(path)
+        self.stored = np.dtype(dtype)
+        self.offset = int(offset)
+        self.channels = int(channels)
+        self.channel = int(channel)
+        self.dark = float(dark)
+        self.shape = (int(n),)
+        self.dtype = np.dtype(np.float64)
+        self.ndim = 1
+
+    def __len__(self) -> int:
+        return self.shape[0]
+
+    def with_dark(self, dark: float) -> "FileSignal":
+        out = FileSignal(self.path, self.stored, self.offset, self.shape[0],
+                         channels=self.channels, channel=self.channel, dark=self.dark + dark)
+        out._owner = self  # keeps a temporary file alive as long as any view of it
+        return out
+
+    def __getitem__(self, key: slice) -> np.ndarray:
+        if not isinstance(key, slice):
+            raise TypeError("a FileSignal is read in slices")
+        a, b, step = key.indices(self.shape[0])
+        if step != 1:
+            raise TypeError("a FileSignal is read in contiguous slices")
+        if b <= a:
+            return np.zeros(0)
+        frame = self.stored.itemsize * self.channels
+        with open(self.path, "rb") as fh:
+            fh.seek(self.offset + a * frame)
+            raw = np.fromfile(fh, dtype=self.stored, count=(b - a) * self.channels)
+        if raw.size < (b - a) * self.channels:
+            raise InputError(f"file ends early: expected {(b - a) * self.channels} values at "
+                             f"sample {a}, found {raw.size}", source=self.path)
+        out = raw.reshape(-1, self.channels)[:, self.channel].astype(np.float64)
+        if self.dark:
+            out -= self.dark
+        return out
+
+    def __array__(self, dtype=None, copy=None):
+        a = self[:]
+        return a.astype(dtype) if dtype is not None else a
 
 
 @dataclass(frozen=True)
@@ -75,6 +152,16 @@ class ReadOptions:
         Fill blank or NaN cells by linear interpolation instead of refusing.
     quantity : str
         ``"light"`` or ``"voltage"``.
+    raw_dtype : str or None
+        Sample format of a raw binary file (``.raw``, ``.bin``): ``float32``,
+        ``float64``, ``int16``, ``int32``, ``uint16``..., little-endian.
+    channels : int
+        Interleaved channels in a raw binary file.
+    stream : bool or None
+        Read the capture block by block instead of into memory. ``None``
+        (default) streams when the capture holds more than
+        :data:`STREAM_ABOVE_SAMPLES` samples (text: more than
+        :data:`STREAM_ABOVE_TEXT_BYTES` bytes).
     """
 
     column: str | int | None = None
@@ -84,6 +171,9 @@ class ReadOptions:
     resample: bool = False
     fill_gaps: bool = False
     quantity: str = "light"
+    raw_dtype: str | None = None
+    channels: int = 1
+    stream: bool | None = None
 
 
 def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = None) -> Capture:
@@ -117,20 +207,85 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     if size == 0:
         raise InputError("file is empty", source=name)
     suffix = p.suffix.lower()
-    if suffix == ".wav":
+    if suffix in RAW_SUFFIXES:
+        samples, fs, notes, warns, meta = _read_raw(p, options)
+    elif suffix == ".wav":
         samples, fs, notes, warns, meta = _read_wav(p, options)
     elif suffix == ".npy":
         samples, fs, notes, warns, meta = _read_npy(p, options)
+    elif options.stream or (options.stream is None and size > STREAM_ABOVE_TEXT_BYTES):
+        samples, fs, notes, warns, meta = _stream_table(p, options)
     else:
         samples, fs, notes, warns, meta = _read_table(p, options)
     meta = {"file": name, "file_size_bytes": size, **meta}
     if options.dark is not None:
         dark, dark_note = _dark_level(options.dark, options)
-        samples = np.asarray(samples, dtype=np.float64) - dark
+        if isinstance(samples, FileSignal):
+            samples = samples.with_dark(dark)
+        else:
+            samples = np.asarray(samples, dtype=np.float64) - dark
         notes = [*notes, dark_note]
         meta["dark_level"] = dark
+    if isinstance(samples, FileSignal):
+        meta["streamed"] = True
+        return make_lazy_capture(samples, fs, label=p.name, source=name,
+                                 quantity=options.quantity, notes=notes, warnings=warns,
+                                 meta=meta)
     return make_capture(samples, fs, label=p.name, source=name, quantity=options.quantity,
                         notes=notes, warnings=warns, meta=meta)
+
+
+def _streams(n: int, options: ReadOptions) -> bool:
+    return bool(options.stream) or (options.stream is None and n > STREAM_ABOVE_SAMPLES)
+
+
+def _file_signal(arr: np.ndarray, path: Path, column: int) -> FileSignal:
+    """A FileSignal over one column of a memory-mapped 1-D or 2-D C-ordered array."""
+    if not isinstance(arr, np.memmap) or (arr.ndim == 2 and not arr.flags.c_contiguous):
+        raise InputError("cannot stream this file's layout (Fortran-ordered); save it C-ordered",
+                         source=str(path))
+    channels = 1 if arr.ndim == 1 else arr.shape[1]
+    return FileSignal(str(path), arr.dtype, arr.offset, arr.shape[0], channels=channels,
+                      channel=column)
+
+
+def _read_raw(p: Path, options: ReadOptions):
+    name = str(p)
+    if not options.raw_dtype:
+        raise InputError(f"a raw binary file needs its sample format: give --raw-dtype "
+                         f"({', '.join(_RAW_DTYPES)})", source=name)
+    if options.raw_dtype not in _RAW_DTYPES:
+        raise InputError(f"unknown raw sample format {options.raw_dtype!r}; use one of "
+                         f"{', '.join(_RAW_DTYPES)}", source="--raw-dtype")
+    if not options.sample_rate_hz:
+        raise InputError("a raw binary file holds no time: give --sample-rate HZ", source=name)
+    ch = int(options.channels)
+    if ch < 1:
+        raise InputError("--channels must be at least 1", source="--channels")
+    dtype = np.dtype(options.raw_dtype).newbyteorder("<")
+    frame = dtype.itemsize * ch
+    size = p.stat().st_size
+    n = size // frame
+    if n < 2:
+        raise InputError(f"raw file holds {n} sample(s) of {options.raw_dtype} x {ch}",
+                         source=name)
+    col = options.column if options.column is not None else 1
+    try:
+        col = int(col)
+    except (TypeError, ValueError):
+        raise InputError(f"raw channels are numbered 1 to {ch}; got {options.column!r}",
+                         source=name) from None
+    if not 1 <= col <= ch:
+        raise InputError(f"channel {col} does not exist: the raw file has {ch}", source=name)
+    notes = [f"raw {options.raw_dtype} little-endian, {ch} channel(s), sample rate "
+             f"{float(options.sample_rate_hz):g} Hz given"]
+    if size % frame:
+        notes.append(f"{size % frame} trailing byte(s) ignored (not a whole sample)")
+    sig = FileSignal(name, dtype, 0, n, channels=ch, channel=col - 1)
+    meta = {"format": f"raw {options.raw_dtype}", "column": f"channel {col}"}
+    if not _streams(n, options):
+        return sig[:], float(options.sample_rate_hz), notes, [], meta
+    return sig, float(options.sample_rate_hz), notes, [], meta
 
 
 def _dark_level(dark: float | str, options: ReadOptions) -> tuple[float, str]:
@@ -405,17 +560,7 @@ def _read_table(p: Path, options: ReadOptions):
         if time_col is not None:
             notes.append(f"time column {names[time_col]!r} ignored: sample rate given")
     elif use_time:
-        unit = None
-        if options.time_unit:
-            unit = TIME_UNITS.get(options.time_unit.strip().lower())
-            if unit is None:
-                raise InputError(f"unknown time unit {options.time_unit!r}; use one of "
-                                 f"{', '.join(sorted(set(TIME_UNITS)))}", source="--time-unit")
-        elif header:
-            unit = _unit_of(names[time_col])
-        if unit is None:
-            unit = 1.0
-            notes.append(f"time column {names[time_col]!r} has no unit; read as seconds")
+        unit = _time_unit(options, header, names[time_col], notes)
         t = data[time_col] * unit
         signal, fs, tnotes = _uniform(t, signal, options.resample, name, skip)
         notes += tnotes
@@ -430,6 +575,104 @@ def _read_table(p: Path, options: ReadOptions):
         raise InputError(f"the table holds {signal.size} row(s); at least 2 are needed",
                          source=name)
     return signal, fs, notes, warns, meta_out
+
+
+def _time_unit(options: ReadOptions, header, time_name: str, notes: list[str]) -> float:
+    """Seconds per unit of the time column (option, else header, else seconds with a note)."""
+    unit = None
+    if options.time_unit:
+        unit = TIME_UNITS.get(options.time_unit.strip().lower())
+        if unit is None:
+            raise InputError(f"unknown time unit {options.time_unit!r}; use one of "
+                             f"{', '.join(sorted(set(TIME_UNITS)))}", source="--time-unit")
+    elif header:
+        unit = _unit_of(time_name)
+    if unit is None:
+        unit = 1.0
+        notes.append(f"time column {time_name!r} has no unit; read as seconds")
+    return unit
+
+
+def _stream_table(p: Path, options: ReadOptions):
+    """Convert a large text table in chunks to temporary binary columns, read as FileSignals."""
+    import shutil
+    import tempfile
+    import weakref
+
+    import pandas as pd
+
+    name = str(p)
+    text, enc = _decode_head(p)
+    lines = text.splitlines()
+    sep, dec, first, k = _sniff(lines, name)
+    header, meta = _header_and_meta(lines, first, sep, k)
+    head_rows = np.array([[_to_float(f, dec) for f in _split(ln.strip(), sep)[:k]]
+                          for ln in lines[first : first + 50] if ln.strip()
+                          and _numeric_fields(ln, sep, dec) == k], dtype=float)
+    time_col, sig, names = _pick_columns(header, k, head_rows, options, name)
+    use_time = time_col is not None and options.sample_rate_hz is None
+    if use_time and options.resample:
+        raise InputError("--resample needs the capture in memory; it is too long to stream "
+                         "with resampling", source=name)
+    if options.fill_gaps:
+        raise InputError("--fill-gaps needs the capture in memory; it is too long to stream "
+                         "with gap filling", source=name)
+    notes: list[str] = [f"streamed in chunks of {TEXT_CHUNK_ROWS} rows (blank lines skipped)"]
+    unit = _time_unit(options, header, names[time_col], notes) if use_time else 1.0
+    cols = [time_col, sig] if use_time else [sig]
+    tmp = Path(tempfile.mkdtemp(prefix="flickerkit-stream-"))
+    rows = 0
+    try:
+        reader = pd.read_csv(p, sep=r"\s+" if sep == " " else sep, decimal=dec, header=None,
+                             skiprows=first, usecols=cols, dtype=np.float64, engine="c",
+                             encoding="utf-8-sig" if enc == "utf-8-sig" else "latin-1",
+                             skip_blank_lines=True, index_col=False,
+                             chunksize=TEXT_CHUNK_ROWS)
+        with open(tmp / "signal.f64", "wb") as fsig, open(tmp / "time.f64", "wb") as ftime:
+            try:
+                for chunk in reader:
+                    for c in cols:
+                        v = chunk[c].to_numpy()
+                        bad = ~np.isfinite(v)
+                        if bad.any():
+                            i = int(np.flatnonzero(bad)[0])
+                            raise InputError(f"blank, NaN or infinite cell in data row "
+                                             f"{rows + i + 1}", source=name, column=names[c])
+                    chunk[sig].to_numpy().tofile(fsig)
+                    if use_time:
+                        (chunk[time_col].to_numpy() * unit).tofile(ftime)
+                    rows += len(chunk)
+            except (ValueError, pd.errors.ParserError) as exc:
+                if isinstance(exc, InputError):
+                    raise
+                raise InputError(f"cannot read the table after data row {rows} "
+                                 f"({str(exc).splitlines()[0]})", source=name) from None
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    if rows < 2:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise InputError(f"the table holds {rows} row(s); at least 2 are needed", source=name)
+    signal = FileSignal(str(tmp / "signal.f64"), np.float64, 0, rows)
+    weakref.finalize(signal, shutil.rmtree, str(tmp), True)
+    meta_out: dict[str, Any] = {"column": names[sig], "format": "text table (streamed)",
+                                "separator": {"\t": "tab", " ": "space"}.get(sep, sep),
+                                "decimal": dec}
+    if meta:
+        meta_out["header_metadata"] = meta
+    if options.sample_rate_hz is not None:
+        fs = float(options.sample_rate_hz)
+    elif use_time:
+        tsig = FileSignal(str(tmp / "time.f64"), np.float64, 0, rows)
+        fs = _uniform_blocks(tsig, name, first)
+        meta_out["time_column"] = names[time_col]
+    else:
+        fs, key = _rate_from_meta(meta)
+        if fs is None:
+            raise InputError("no time column and no sample rate: give --sample-rate HZ",
+                             source=name)
+        notes.append(f"sample rate {fs:g} Hz from the file's metadata ({key!r})")
+    return signal, fs, notes, [], meta_out
 
 
 def _locate_bad_cell(p: Path, sep: str, dec: str, skip: int, cols: list[int], names: list[str],
@@ -550,7 +793,8 @@ def _read_wav(p: Path, options: ReadOptions):
     with _warnings.catch_warnings(record=True) as caught:
         _warnings.simplefilter("always")
         try:
-            rate, data = wavfile.read(name, mmap=p.stat().st_size >= 64 << 20)
+            rate, data = wavfile.read(name, mmap=p.stat().st_size >= 64 << 20
+                                      or bool(options.stream))
         except (ValueError, EOFError, OSError, IndexError, TypeError, struct.error) as exc:
             raise InputError(f"not a readable WAV file ({exc})", source=name) from None
     header_doubts = [f"WAV file: {w.message}" for w in caught]
@@ -558,17 +802,23 @@ def _read_wav(p: Path, options: ReadOptions):
         raise InputError("WAV file holds no samples", source=name)
     sig, ch = _channel(data, options, name, "WAV file")
     warns: list[str] = header_doubts
+    lazy = _streams(int(data.shape[0]), options) and isinstance(data, np.memmap)
     if np.issubdtype(sig.dtype, np.integer):
         info = np.iinfo(sig.dtype)
-        at_rail = int(np.count_nonzero((sig == info.max) | (sig == info.min)))
+        at_rail = 0
+        for a in range(0, sig.shape[0], 1 << 22):
+            b = np.asarray(sig[a : a + (1 << 22)])
+            at_rail += int(np.count_nonzero((b == info.max) | (b == info.min)))
         if at_rail > max(1, sig.size // 1000):
             warns.append(f"clipping: {at_rail} sample(s) sit at the recorder's full scale "
                          f"({info.min}/{info.max}); percent flicker is underestimated")
     fs = float(options.sample_rate_hz) if options.sample_rate_hz else float(rate)
     notes = [f"sample rate {fs:g} Hz from the WAV header" if not options.sample_rate_hz
              else f"sample rate {fs:g} Hz given (WAV header says {rate} Hz)"]
-    return np.asarray(sig, dtype=np.float64), fs, notes, warns, {"format": "WAV",
-                                                               "column": f"channel {ch}"}
+    meta = {"format": "WAV", "column": f"channel {ch}"}
+    if lazy:
+        return _file_signal(data, p, ch - 1), fs, notes, warns, meta
+    return np.asarray(sig, dtype=np.float64), fs, notes, warns, meta
 
 
 def _read_npy(p: Path, options: ReadOptions):
@@ -586,11 +836,15 @@ def _read_npy(p: Path, options: ReadOptions):
         raise InputError(f".npy array must be 1-D or 2-D and non-empty, got shape {data.shape}",
                          source=name)
     notes: list[str] = []
+    lazy = _streams(int(data.shape[0]), options)
     if data.ndim == 1 or options.sample_rate_hz:
         if not options.sample_rate_hz:
             raise InputError("a 1-D .npy holds no time: give --sample-rate HZ", source=name)
         sig, col = _channel(data, options, name, ".npy array")
         fs = float(options.sample_rate_hz)
+        if lazy:
+            return (_file_signal(data, p, col - 1), fs, notes, [],
+                    {"format": "NumPy .npy", "column": f"column {col}"})
         x = np.asarray(sig)
     else:
         if data.shape[1] < 2:
@@ -601,6 +855,13 @@ def _read_npy(p: Path, options: ReadOptions):
         if col == 1:
             raise InputError("column 1 of a 2-D .npy is time; choose a signal column",
                              source=name)
+        if lazy:
+            if options.resample:
+                raise InputError("--resample needs the capture in memory; it is too long to "
+                                 "stream with resampling", source=name)
+            fs = _uniform_blocks(_file_signal(data, p, 0), name, 0)
+            return (_file_signal(data, p, col - 1), fs, notes, [],
+                    {"format": "NumPy .npy", "column": f"column {col}"})
         t = np.asarray(data[:, 0], dtype=np.float64)
         x, fs, notes = _uniform(t, np.asarray(sig, dtype=np.float64), options.resample, name, 0)
     if x.dtype != np.float64:
@@ -609,3 +870,32 @@ def _read_npy(p: Path, options: ReadOptions):
         i = int(np.flatnonzero(~np.isfinite(x))[0])
         raise InputError(f"sample {i} is not a finite number", source=name)
     return x, fs, notes, [], {"format": "NumPy .npy", "column": f"column {col}"}
+
+
+def _uniform_blocks(t, name: str, skip: int, block: int = 1 << 22) -> float:
+    """Check, block by block, that a long time column is increasing and uniform."""
+    n = t.shape[0]
+    t0 = float(t[0:1][0])
+    t1 = float(t[n - 1 : n][0])
+    with np.errstate(all="ignore"):
+        fs = _check_rate((n - 1) / (t1 - t0), name) if t1 > t0 else None
+    if fs is None:
+        raise InputError("time does not increase from the first row to the last", source=name)
+    prev = None
+    for a in range(0, n, block):
+        b = np.asarray(t[a : a + block], dtype=np.float64)
+        seq = b if prev is None else np.concatenate([[prev], b])
+        dt = np.diff(seq)
+        bad = np.flatnonzero(~(dt > 0))
+        if bad.size:
+            i = a + int(bad[0]) + (0 if prev is None else -1) + 1
+            raise InputError("time repeats or goes backwards here; --resample needs the "
+                             "capture in memory", source=name, line=skip + i + 1)
+        dev = np.abs(b - (t0 + np.arange(a, a + b.size) / fs)) * fs
+        worst = int(np.argmax(dev))
+        if dev[worst] > UNIFORM_TOLERANCE:
+            raise InputError(f"time steps are not uniform: the sample here is {dev[worst]:.3g} "
+                             f"sample intervals off a uniform grid at {fs:.6g} Hz",
+                             source=name, line=skip + a + worst + 1)
+        prev = float(b[-1])
+    return float(fs)

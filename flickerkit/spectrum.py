@@ -212,3 +212,88 @@ def modulation_spectrum(
         fundamental_hz=period.frequency_hz if p >= 1 else None,
         window=window,
     )
+
+
+#: Longest whole-period span transformed in one piece [samples] (2**24: 128 MiB of
+#: float64 plus its transform). Longer captures use averaged whole-period windows.
+SINGLE_FFT_MAX_SAMPLES = 2**24
+#: Length aimed at for each averaged window [samples], and the most windows used.
+WINDOW_SAMPLES = 2**21
+MAX_WINDOWS = 48
+
+
+def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
+                      window_samples: int = WINDOW_SAMPLES,
+                      max_windows: int = MAX_WINDOWS) -> Spectrum:
+    """Components relative to the mean, averaged over whole-period windows of a long capture.
+
+    Parameters
+    ----------
+    samples : array_like
+        1-D signal that may be larger than memory (array, memmap or
+        :class:`~flickerkit.reduce.LazySignal`) [input unit].
+    sample_rate_hz : float
+        Sample rate [Hz].
+    period : Periodicity
+        The fundamental; it must have been found.
+    window_samples : int
+        Target window length; each window is the whole number of periods
+        nearest to it whose length is a fast FFT length [samples].
+    max_windows : int
+        Windows used at most, spread evenly over the capture.
+
+    Returns
+    -------
+    Spectrum
+        ``window`` is ``"rectangular, averaged"``; amplitudes are the mean of
+        the windows' amplitudes (each relative to its own mean), phases those
+        of the first window, ``n_samples`` one window's length and
+        ``whole_periods`` the periods per window, so harmonic bins work as for
+        a single transform.
+
+    Notes
+    -----
+    Each window spans whole periods, so a stationary periodic signal gives the
+    same components as one transform of the whole capture, at a frequency
+    resolution of one window (about 2 s at 1 MS/s). Averaging amplitudes (not
+    complex values) keeps components whose phase drifts between windows;
+    noise is not averaged down. Used for captures longer than
+    :data:`SINGLE_FFT_MAX_SAMPLES`.
+    """
+    from scipy import fft
+
+    T = float(period.period_samples)
+    n_total = int(samples.shape[0])
+    window_samples = min(window_samples, max(int(T), n_total // 4))  # at least 4 windows
+    m = max(1, int(round(window_samples / T)))
+    for mm in range(m, max(1, int(0.9 * m)) - 1, -1):
+        L = int(round(mm * T))
+        if fft.next_fast_len(L, real=True) == L:
+            m = mm
+            break
+    L = int(round(m * T))
+    count = int((n_total - L) // (m * T)) + 1 if n_total >= L else 0
+    if count < 1:
+        raise ValueError("capture shorter than one averaging window")
+    picks = np.unique(np.linspace(0, count - 1, min(count, max_windows)).round().astype(int))
+    acc = None
+    first = None
+    for j in picks:
+        s = int(round(j * m * T))
+        seg = np.asarray(samples[s : s + L], dtype=np.float64)
+        spec = fft.rfft(seg)
+        dc = spec[0].real
+        amps = np.abs(spec) * (2.0 / abs(dc)) if dc != 0 else np.abs(spec)
+        amps[0] = 0.0
+        if L % 2 == 0:
+            amps[-1] /= 2.0
+        acc = amps if acc is None else acc + amps
+        if first is None:
+            first = spec
+    amps = acc / picks.size
+    return Spectrum(
+        frequencies_hz=np.arange(first.shape[0]) * (sample_rate_hz / L),
+        amplitudes=amps, coefficients=first,
+        mean=float(first[0].real / L), n_samples=L, start=0, whole_periods=m,
+        fundamental_hz=period.frequency_hz, window="rectangular, averaged",
+    )

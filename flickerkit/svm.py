@@ -463,7 +463,7 @@ def svm_of_spectrum(
     model = get_threshold(threshold)
     _check_band(f_min_hz, f_max_hz)
     notes: list[str] = []
-    if spectrum.window == "rectangular" and spectrum.whole_periods >= 1:
+    if spectrum.window.startswith("rectangular") and spectrum.whole_periods >= 1:
         method = "whole-period"
         f_fund = spectrum.fundamental_hz
         method_note = (f"components over {spectrum.whole_periods} whole periods of "

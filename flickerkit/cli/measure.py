@@ -24,7 +24,9 @@ supply's Pst (IEC 61000-4-15 voltage flickermeter), not a light metric.
 
 Files: text tables (.csv, .txt, .tsv, .dat; comma, semicolon, tab or space
 separated; decimal comma; comment/metadata lines; a time column with its unit
-in the header, or --sample-rate), .wav and .npy.
+in the header, or --sample-rate), .wav, .npy, and raw binary .raw/.bin
+(--raw-dtype, --sample-rate). Captures larger than memory are read block by
+block, with the same results.
 
 examples:
   flickerkit measure bench/level_100.csv
@@ -55,6 +57,18 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
                         "(default: refuse such files)")
     g.add_argument("--fill-gaps", action="store_true",
                    help="interpolate blank or NaN cells (default: refuse them)")
+    g.add_argument("--raw-dtype", metavar="TYPE",
+                   help="sample format of .raw/.bin files: float32, float64, int16, uint16, "
+                        "int32, ... (little-endian; needs --sample-rate)")
+    g.add_argument("--raw-channels", type=int, default=1, metavar="N",
+                   help="interleaved channels in a .raw/.bin file (default 1; pick one with "
+                        "--column)")
+    s = g.add_mutually_exclusive_group()
+    s.add_argument("--stream", dest="stream", action="store_true", default=None,
+                   help="read block by block in bounded memory (default: automatic above "
+                        "2**25 samples or 1 GiB of text)")
+    s.add_argument("--no-stream", dest="stream", action="store_false",
+                   help="always read the whole capture into memory")
 
 
 def read_options(args: argparse.Namespace, quantity: str = "light"):
@@ -68,7 +82,10 @@ def read_options(args: argparse.Namespace, quantity: str = "light"):
             pass
     return ReadOptions(column=args.column, sample_rate_hz=args.sample_rate,
                        time_unit=args.time_unit, dark=dark, resample=args.resample,
-                       fill_gaps=args.fill_gaps, quantity=quantity)
+                       fill_gaps=args.fill_gaps, quantity=quantity,
+                       raw_dtype=getattr(args, "raw_dtype", None),
+                       channels=getattr(args, "raw_channels", 1),
+                       stream=getattr(args, "stream", None))
 
 
 def add_parser(sub) -> None:
