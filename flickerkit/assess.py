@@ -26,6 +26,8 @@ from .spectrum import (SINGLE_FFT_MAX_SAMPLES, WINDOW_SAMPLES, Spectrum, average
                        modulation_spectrum)
 from .svm import SvmResult
 
+#: Largest sample magnitude accepted; beyond it sums and squares lose meaning (project choice).
+MAX_MAGNITUDE = 1e100
 #: Fewest samples an assessment accepts (less holds no usable modulation; project choice).
 MIN_SAMPLES = 16
 #: Fewest whole periods for stable figures (common practice, no source).
@@ -341,6 +343,10 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     if tot.first_bad is not None:
         raise InputError(f"sample {tot.first_bad} is not a finite number", source=where)
     hi, lo = tot.hi, tot.lo
+    if max(abs(hi), abs(lo)) > MAX_MAGNITUDE:
+        raise InputError(f"samples reach {max(abs(hi), abs(lo)):.3g}, beyond any plausible "
+                         f"signal (|x| <= {MAX_MAGNITUDE:g}): check the file's scaling",
+                         source=where)
     if hi == 0.0 and lo == 0.0:
         raise InputError("capture is dark: every sample is zero", source=where)
     if tot.total <= 0:

@@ -149,6 +149,10 @@ def fundamental_frequency(
     n = seg.shape[0]
     if n < 8 or not np.any(seg):
         return Periodicity(None, None, 0, 0.0, "the signal is constant")
+    scale = float(np.max(np.abs(seg)))
+    if not np.isfinite(scale) or scale == 0.0:
+        return Periodicity(None, None, 0, 0.0, "the signal is constant")
+    seg = seg / scale  # the autocorrelation is scale-free; this keeps its squares finite
     max_lag = n // 2
     r = _autocorrelation(seg, max_lag)
     rs = np.empty_like(r)
