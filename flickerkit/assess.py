@@ -287,7 +287,7 @@ def assess(capture: Capture, settings: AssessSettings | None = None, *,
     block : int, optional
         Samples read at a time [samples]. Every figure is computed block by
         block, so a capture larger than memory (a memory-mapped file or a
-        :class:`~flickerkit.reduce.LazySignal`) is assessed in bounded
+        :class:`~flickerkit.readers.FileSignal`) is assessed in bounded
         memory; the block size changes only the order of floating-point
         summation.
 
@@ -339,7 +339,18 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
 
     calibration = settings.light_calibration()
     meter = _pst_meter(capture, calibration)
-    tot = reduce.totals(x, block=block, feed=meter.process if meter is not None else None)
+    head = np.asarray(x[: max(SEGMENT_SAMPLES, metrics.NOISE_SAMPLES)], dtype=np.float64)
+    if not np.isfinite(head).all():
+        bad = int(np.flatnonzero(~np.isfinite(head))[0])
+        raise InputError(f"sample {bad} is not a finite number", source=where)
+    period = fundamental_frequency(head, fs, mean=float(np.mean(head)), n_total=n)
+    if period.frequency_hz is not None:
+        bounds = metrics.period_bounds(period.periods, period.period_samples, n)
+    else:
+        bounds = np.array([0, n], dtype=np.int64)
+
+    tot, sums = reduce.first_pass(x, bounds, block=block,
+                                  feed=meter.process if meter is not None else None)
     if tot.first_bad is not None:
         raise InputError(f"sample {tot.first_bad} is not a finite number", source=where)
     hi, lo = tot.hi, tot.lo
@@ -353,8 +364,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         raise InputError("mean light is not positive: check the dark level and the "
                          "detector's polarity", source=where)
 
-    head = np.asarray(x[: max(SEGMENT_SAMPLES, metrics.NOISE_SAMPLES)], dtype=np.float64)
-    period = fundamental_frequency(head, fs, mean=tot.total / n, n_total=n)
     template = None
     if (period.period_samples is not None and period.period_samples >= 4
             and period.periods >= MIN_PERIODS):
@@ -363,7 +372,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         noise = metrics.noise_rms(head)
 
     if period.frequency_hz is not None:
-        bounds = metrics.period_bounds(period.periods, period.period_samples, n)
         spp = float(period.period_samples)
         if period.periods < MIN_PERIODS:
             warnings.warn(CaptureWarning(
@@ -375,15 +383,14 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
                 f"{period.frequency_hz:.4g} Hz modulation; at least {MIN_SAMPLES_PER_PERIOD} "
                 f"are needed, so percent flicker and flicker index may be off"))
     else:
-        bounds = np.array([0, n], dtype=np.int64)
         spp = None
         warnings.warn(CaptureWarning(
             f"no periodic modulation found ({period.reason}); percent flicker and flicker "
             f"index are over the whole capture and the spectrum is Hann-windowed"))
-    sums = reduce.period_sums(x, bounds, block=block)
     span_n = int(bounds[-1] - bounds[0])
     mean = sums.span_total / span_n
-    above, span_above = reduce.above_sums(x, bounds, sums.total / sums.lengths, mean, block=block)
+    above, span_above, at_max, at_next = reduce.second_pass(
+        x, bounds, sums.total / sums.lengths, mean, hi, block=block)
     per = metrics.stats_from_sums(sums.hi, sums.lo, sums.total, above)
     if period.frequency_hz is None:
         per = metrics.PeriodStats(1, per.percent_flicker_median, per.percent_flicker_worst,
@@ -405,7 +412,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         warnings.warn(CaptureWarning(
             f"light goes negative (minimum {lo:.4g}, mean {mean:.4g}): the dark level may "
             f"be too high or the detector offset drifted; ratio metrics are biased"))
-    at_max, at_next = reduce.top_counts(x, hi, block=block)
     if metrics.clipping_from_counts(n, at_max, at_next, noise):
         warnings.warn(CaptureWarning(
             f"clipping suspected: {at_max / n:.1%} of samples sit exactly at "

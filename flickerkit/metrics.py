@@ -144,8 +144,8 @@ def per_period_stats(samples: np.ndarray, bounds: np.ndarray) -> PeriodStats:
     if bounds.size < 2:
         nan = float("nan")
         return PeriodStats(0, nan, nan, nan, nan)
-    sums = reduce.period_sums(samples, bounds)
-    above, _ = reduce.above_sums(samples, bounds, sums.total / sums.lengths, 0.0)
+    _, sums = reduce.first_pass(samples, bounds)
+    above, *_ = reduce.second_pass(samples, bounds, sums.total / sums.lengths, 0.0, np.inf)
     return stats_from_sums(sums.hi, sums.lo, sums.total, above)
 
 
@@ -304,12 +304,6 @@ def noise_percent_flicker(noise_std: float, mean: float, samples_per_period: flo
     if mean <= 0:
         return float("nan")
     return 100.0 * noise_std * np.sqrt(2.0 * np.log(n)) / mean
-
-
-def fraction_at_max(samples: np.ndarray) -> float:
-    """Fraction of samples exactly equal to the maximum [unitless]."""
-    x = np.asarray(samples)
-    return float(np.count_nonzero(x == np.max(x))) / x.shape[0]
 
 
 def suspected_clipping(samples: np.ndarray, noise_std: float) -> bool:

@@ -231,7 +231,7 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
     ----------
     samples : array_like
         1-D signal that may be larger than memory (array, memmap or
-        :class:`~flickerkit.reduce.LazySignal`) [input unit].
+        :class:`~flickerkit.readers.FileSignal`) [input unit].
     sample_rate_hz : float
         Sample rate [Hz].
     period : Periodicity
