@@ -80,11 +80,11 @@ def big_stream(d: str) -> None:
     with open(path, "wb") as fh:
         for a in range(0, n, 8_000_000):
             signal(a, min(n, a + 8_000_000), fs, rng).astype("<f4").tofile(fh)
-    # the measuring process reports its own peak (a forked child's figure would include the
-    # parent's pages until exec)
-    code = ("import resource, sys; from flickerkit.cli import main; rc = main(sys.argv[1:]); "
-            "print('peak_kib', resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, "
-            "file=sys.stderr); raise SystemExit(rc)")
+    # the measuring process reports its own peak: VmHWM of its address space (ru_maxrss would
+    # carry the forking parent's pages over the exec)
+    code = ("import sys; from flickerkit.cli import main; rc = main(sys.argv[1:]); "
+            "hwm = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0]; "
+            "print('peak_kib', hwm.split()[1], file=sys.stderr); raise SystemExit(rc)")
     t0 = time.perf_counter()
     r = subprocess.run([sys.executable, "-c", code, "measure", path, "--raw-dtype", "float32",
                         "-r", str(fs), "--json", "-q"], capture_output=True, env=ENV)
