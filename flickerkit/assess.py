@@ -21,7 +21,7 @@ from .capture import Capture
 from .errors import CaptureWarning, FlickerkitWarning, InputError, SettingsError
 from .filtered import FilteredFlicker, filtered_percent_flicker
 from .flickermeter import Calibration, PstResult
-from .periodicity import SEGMENT_SAMPLES, Periodicity, fundamental_frequency
+from .periodicity import SEGMENT_SAMPLES, Periodicity, fundamental_frequency, known_fundamental
 from .spectrum import (SINGLE_FFT_MAX_SAMPLES, WINDOW_SAMPLES, Spectrum, averaged_spectrum,
                        modulation_spectrum)
 from .svm import SvmResult
@@ -343,7 +343,11 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     if not np.isfinite(head).all():
         bad = int(np.flatnonzero(~np.isfinite(head))[0])
         raise InputError(f"sample {bad} is not a finite number", source=where)
-    period = fundamental_frequency(head, fs, mean=float(np.mean(head)), n_total=n)
+    known = capture.meta.get("fundamental_hz")  # set by drive models, never by readers
+    if known:
+        period = known_fundamental(n, fs, float(known))
+    else:
+        period = fundamental_frequency(head, fs, mean=float(np.mean(head)), n_total=n)
     if period.frequency_hz is not None:
         bounds = metrics.period_bounds(period.periods, period.period_samples, n)
     else:

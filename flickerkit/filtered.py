@@ -37,6 +37,9 @@ from .spectrum import whole_period_span
 #: Cut-off frequencies of JA10.6 [Hz].
 JA10_CUTOFFS_HZ = (40.0, 90.0, 200.0, 400.0, 1000.0)
 
+#: Components smaller than this fraction of the mean are treated as absent.
+_NEGLIGIBLE = 1e-12
+
 #: Relative tolerance with which a bin "at" a cut-off is recognised as such.
 _AT_CUTOFF_RTOL = 1e-9
 
@@ -173,16 +176,31 @@ def filtered_percent_flicker(
     nyquist = fs / 2.0
     out = []
     work = np.zeros_like(spec)
+    # components below 1e-12 of the mean change a percent flicker by less than 1e-10 %:
+    # a cut-off that keeps none of the others gives steady light without an inverse transform,
+    # and one that keeps the same ones as the previous cut-off gives the same waveform
+    significant = np.abs(spec) > _NEGLIGIBLE * abs(spec[0])
+    significant[0] = False
+    last_count, last_value, last_fc = None, None, -np.inf
     for fc in cutoffs:
         if fc >= nyquist:
             notes.append(f"cut-off {fc:g} Hz is at or above the Nyquist frequency "
                          f"{nyquist:g} Hz; nothing is removed there")
         keep = freqs <= fc * (1.0 + _AT_CUTOFF_RTOL)
+        count = int(np.count_nonzero(significant & keep))
+        if count == 0 and spec[0].real > 0:
+            out.append(0.0)
+            continue
+        if count == last_count and fc >= last_fc:  # nested cut-offs keeping the same components
+            out.append(last_value)
+            continue
         work[:] = 0.0
         work[keep] = spec[keep]
         y = fft.irfft(work, n)
         hi, lo = float(y.max()), float(y.min())
-        out.append(100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan"))
+        value = 100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan")
+        out.append(value)
+        last_count, last_value, last_fc = count, value, fc
     for note in notes:
         warnings.warn(note, CaptureWarning, stacklevel=2)
     return FilteredFlicker(cutoffs_hz=cutoffs, percent_flicker=tuple(out), whole_periods=int(p),

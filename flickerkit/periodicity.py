@@ -254,3 +254,27 @@ def _refine(r: np.ndarray, period: float, max_lag: int) -> float:
         peak = k + _parabolic_peak(r[k - 1], r[k], r[k + 1])
         period = float(peak / m)
         m_prev, delta = m, 2.0 / m
+
+
+def known_fundamental(n_samples: int, sample_rate_hz: float, frequency_hz: float) -> Periodicity:
+    """The periodicity of a signal whose fundamental is known exactly (a drive model's light).
+
+    Parameters
+    ----------
+    n_samples : int
+        Length of the signal [samples].
+    sample_rate_hz : float
+        Sample rate [Hz].
+    frequency_hz : float
+        Its repetition frequency [Hz].
+
+    Returns
+    -------
+    Periodicity
+        With ``strength`` 1 and no search.
+    """
+    T = sample_rate_hz / frequency_hz
+    periods = int(np.floor(n_samples / T + 0.01))
+    if periods < 1:
+        return Periodicity(None, None, 0, 0.0, "no whole period fits in the capture")
+    return Periodicity(float(frequency_hz), float(T), periods, 1.0)
