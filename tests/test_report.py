@@ -197,3 +197,19 @@ def test_workbook_renders_in_libreoffice(project, tmp_path):
     assert data.startswith(b"%PDF")
     pages = len(re.findall(rb"/Type\s*/Page(?![s\w])", data))
     assert pages >= 3  # summary, verdicts, metrics, charts ... each at least a page
+
+
+def test_workbook_values_do_not_depend_on_workers(project, tmp_path, capsys):
+    from openpyxl import load_workbook
+
+    books = []
+    for j in ("1", "2"):
+        out = tmp_path / f"r{j}.xlsx"
+        assert main(["report", str(project), "-o", str(out), "-q", "-j", j]) == 0
+        wb = load_workbook(out)
+        books.append({name: [list(r) for r in wb[name].iter_rows(values_only=True)]
+                      for name in wb.sheetnames if name != "Inputs"})
+        inputs = [list(r) for r in wb["Inputs"].iter_rows(values_only=True)]
+        books[-1]["Inputs"] = [r for r in inputs if r[0] not in ("run at",)]
+    capsys.readouterr()
+    assert books[0] == books[1]
