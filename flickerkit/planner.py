@@ -503,6 +503,16 @@ def plan(
     if out["feasible"]:
         out["verdict"] = "at least one timer setting meets the targets and the resolution"
         return out
+    if best.counts >= res.counts and not recs[0]["reaches_smallest_level"]:
+        # the counter is fine grained enough; the drive's shortest pulse is the limit, which
+        # a faster clock or dithering cannot shorten
+        out["verdict"] = (
+            f"every timer setting at {f_req:.6g} Hz or above has the resolution "
+            f"({res.describe()}), but none makes the smallest level {res.min_level * 100:g} %: "
+            f"the drive's shortest light pulse (turn-on delay, rise, minimum on-time) is "
+            f"{recs[0]['minimum_duty'] * 100:.3g} % of the period at {best.frequency_hz:.6g} Hz")
+        out["options"].append(_hybrid_option(drive, best, res, targets, lv))
+        return out
     out["verdict"] = (f"no timer setting meets both the targets at {f_req:.6g} Hz and "
                       f"the resolution ({res.describe()}): the finest gives {best.counts} "
                       f"counts ({best.bits:.2f} bits), {res.counts} are needed")

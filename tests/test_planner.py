@@ -96,6 +96,21 @@ def test_plan_with_timer_feasible_and_not():
     assert h["possible"] and 0.001 < h["crossover"] < 1
 
 
+def test_plan_blames_the_minimum_pulse_not_the_resolution():
+    # analytic: at 1250 Hz a 1 us minimum on-time is a minimum duty of 1e-6 * 1250 = 0.125 %,
+    # above the 0.1 % level; 48 MHz gives 38400 counts, far more than 12 bits (4096) need
+    t = Timer(48e6, (1,), modes=("edge",))
+    out = plan(Drive(min_on_time_s=1e-6), parse_targets("low-risk"), timer=t,
+               resolution=Resolution(bits=12, min_level=0.001))
+    assert out["feasible"] is False
+    s = out["settings"][0]
+    assert s["counts_per_period"] >= 4096 and not s["reaches_smallest_level"]
+    assert s["minimum_duty"] == pytest.approx(1e-6 * s["frequency_hz"], rel=1e-12)
+    assert "shortest light pulse" in out["verdict"] and "are needed" not in out["verdict"]
+    # a faster clock or dithering adds counts, which are not missing; hybrid dimming helps
+    assert [o["option"] for o in out["options"]] == ["hybrid dimming"]
+
+
 def test_unreachable_and_bad_targets():
     with pytest.raises(SettingsError, match="no PWM frequency"):
         plan(Drive(), parse_targets("low-risk"), range_hz=(10.0, 1000.0))
