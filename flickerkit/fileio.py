@@ -66,6 +66,9 @@ def atomic_path(path: str | os.PathLike[str], *, force: bool = False) -> Iterato
         yield tmp_path
         if p.exists() and not force:
             raise OutputError(f"{p}: appeared while writing; use --force to replace it")
+        # mkstemp makes the file private (0600); give it the mode of the file it replaces,
+        # or what a plain open() would have given under the user's umask
+        os.chmod(tmp_path, _replaced_mode(p))
         os.replace(tmp_path, p)
     except OSError as exc:
         tmp_path.unlink(missing_ok=True)
@@ -75,6 +78,16 @@ def atomic_path(path: str | os.PathLike[str], *, force: bool = False) -> Iterato
     except BaseException:
         tmp_path.unlink(missing_ok=True)
         raise
+
+
+def _replaced_mode(p: Path) -> int:
+    """Permission bits for a new output: the existing file's, else 0666 less the umask."""
+    try:
+        return p.stat().st_mode & 0o7777
+    except OSError:
+        mask = os.umask(0)
+        os.umask(mask)
+        return 0o666 & ~mask
 
 
 def write_text(path: str | os.PathLike[str], text: str, *, force: bool = False) -> Path:
