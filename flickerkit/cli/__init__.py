@@ -39,9 +39,18 @@ local codes and an accredited laboratory decide compliance.
 """
 
 
+class _Parser(argparse.ArgumentParser):
+    """argparse with usage errors on one line, like every other error of the tool."""
+
+    def error(self, message: str):  # type: ignore[override]
+        command = self.prog.removeprefix("flickerkit").strip()
+        where = f"{command}: " if command else ""
+        self.exit(2, f"flickerkit: error: {where}{message} (see '{self.prog} --help')\n")
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Return the top-level parser with every command registered."""
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="flickerkit",
         description=_DESCRIPTION,
         epilog=_CAUTION,
