@@ -31,6 +31,10 @@ def test_every_command_has_help(capsys):
         out = capsys.readouterr().out
         assert "usage: flickerkit " + name in out
         assert "example" in out  # the help teaches by example
+        assert "%%" not in out  # argparse leaves %% in raw descriptions as it is
+        for line in out.splitlines():  # a lost line continuation joins two example lines
+            if line.startswith("  flickerkit "):
+                assert "   " not in line.strip().split("#")[0].rstrip(), line
 
 
 def test_no_command_prints_help_and_fails(capsys):

@@ -10,7 +10,7 @@ HELP = "brightness table for a PWM counter: counts, L* steps, losses, C header"
 DESCRIPTION = """\
 Build a table of brightness steps that look evenly spaced (CIE 1976 L*, a power
 law, the IEC 62386-102 logarithmic curve, linear, or your own points), put it
-on a PWM counter of n bits (full scale 2^n - 1 = 100 %% duty) or an explicit
+on a PWM counter of n bits (full scale 2^n - 1 = 100 % duty) or an explicit
 TOP, and show where it fails: steps that collapse onto one count at the dark
 end, steps above a visibility threshold in L*, the lowest lit level, and the
 bits the table would need. With measured light at several counts (a CSV of
@@ -31,11 +31,11 @@ examples:
   flickerkit steps -n 100 --curve gamma --gamma 2.2 --min 0.5 --top 47999 --min-count 8
   flickerkit steps -n 64 --bits 12 --format c --name fade_table -o fade_table.h
   flickerkit steps -n 128 --bits 16 --calibration measured.csv --format json
-  flickerkit steps -n 64 --bits 12 --dark 0.002 --calibration-capture 40=c40.csv \
+  flickerkit steps -n 64 --bits 12 --dark 0.002 --calibration-capture 40=c40.csv \\
       --calibration-capture 400=c400.csv --calibration-capture 4095=c4095.csv
   flickerkit steps -n 64 --bits 10 --pwm-frequency 2000 --xlsx table.xlsx
   flickerkit steps -n 32 --bits 12 --drive-file driver.toml --target-region no-observable-effect
-  flickerkit steps -n 32 --bits 12 --pwm-frequency 1500 --off-level 0.05 --edges linear \
+  flickerkit steps -n 32 --bits 12 --pwm-frequency 1500 --off-level 0.05 --edges linear \\
       --rise-us 3 --fall-us 3
 
 Flicker figures come from a model of the light, not a measurement; the
