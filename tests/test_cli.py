@@ -141,6 +141,21 @@ def test_usage_errors_are_one_line(capture_file, capsys, args, message):
     assert "--help" in err[0]
 
 
+def test_judging_json_outputs_carry_the_caution(capture_file, capsys):
+    # project rule: output that judges risk defers to standards and accredited laboratories
+    runs = [["measure", str(capture_file), "--json", "-q"],
+            ["drive", "--levels", "100,10", "--json", "-q"],
+            ["plan", "--target", "ieee1789-low-risk", "--json", "-q"],
+            ["steps", "-n", "8", "--bits", "8", "--pwm-frequency", "1000", "--format", "json",
+             "-q"]]
+    for args in runs:
+        assert main(args) == 0
+        data = json.loads(capsys.readouterr().out)
+        for obj in data if isinstance(data, list) else [data]:
+            assert "accredited laborator" in obj["caution"], args
+            assert "not a certification" in obj["caution"], args
+
+
 def test_python_dash_m_entry_point(capture_file):
     out = subprocess.run([sys.executable, "-m", "flickerkit", "measure", str(capture_file),
                           "--json", "-q"], capture_output=True, text=True)

@@ -47,6 +47,9 @@ class _Parser(argparse.ArgumentParser):
         where = f"{command}: " if command else ""
         self.exit(2, f"flickerkit: error: {where}{message} (see '{self.prog} --help')\n")
 
+#: The caution as one line, for JSON output (key ``caution``).
+CAUTION_TEXT = " ".join(_CAUTION.removeprefix("caution: ").split())
+
 
 def build_parser() -> argparse.ArgumentParser:
     """Return the top-level parser with every command registered."""

@@ -89,8 +89,9 @@ def run(args: argparse.Namespace) -> int:
     out = result.to_dict()
     if args.json:
         from ..export.jsonout import dumps
+        from . import CAUTION_TEXT
 
-        sys.stdout.write(dumps(out))
+        sys.stdout.write(dumps({**out, "caution": CAUTION_TEXT}))
     else:
         sys.stdout.write(table(out))
     if args.xlsx:

@@ -165,8 +165,9 @@ def run(args: argparse.Namespace) -> int:
         return 1
     if args.json:
         from ..export.jsonout import dumps
+        from . import CAUTION_TEXT
 
-        sys.stdout.write(dumps(records))
+        sys.stdout.write(dumps([{**r, "caution": CAUTION_TEXT} for r in records]))
     elif args.signal == "voltage":
         sys.stdout.write(voltage_table(records))
     else:

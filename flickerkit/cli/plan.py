@@ -115,8 +115,9 @@ def run(args: argparse.Namespace) -> int:
                resolution=res)
     if args.json:
         from ..export.jsonout import dumps
+        from . import CAUTION_TEXT
 
-        sys.stdout.write(dumps(out))
+        sys.stdout.write(dumps({**out, "caution": CAUTION_TEXT}))
     else:
         sys.stdout.write(text(out))
     if args.xlsx:

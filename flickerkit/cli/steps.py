@@ -133,8 +133,12 @@ def run(args: argparse.Namespace) -> int:
 
     if args.format == "json":
         from ..export.jsonout import dumps
+        from . import CAUTION_TEXT
 
-        text = dumps(table.to_dict())
+        data = table.to_dict()
+        if table.flicker is not None:
+            data["caution"] = CAUTION_TEXT
+        text = dumps(data)
     elif args.format == "csv":
         text = to_csv(table.rows())
     elif args.format == "c":
