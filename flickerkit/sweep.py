@@ -70,16 +70,22 @@ class SweepResult:
         ``level``, ``relative_light``, ``model_percent_flicker`` and ``svm``.
     first_failing : dict
         Criterion name -> first level (scanning from the highest level down)
-        that fails it, or None when every level passes (or it is not known).
+        that fails it, or None when no level fails it.
+    not_assessed : tuple of str
+        Criteria that no level gives the figure for (e.g. Pst LM, which needs
+        more light than a sweep models): their None in ``first_failing``
+        means "not known", not "every level passes".
     """
 
     drive: str
     records: tuple[dict[str, Any], ...]
     first_failing: dict[str, float | None]
+    not_assessed: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {"drive": self.drive, "levels": list(self.records),
-                "first_failing_level": self.first_failing}
+                "first_failing_level": self.first_failing,
+                "not_assessed": list(self.not_assessed)}
 
 
 def sweep(drive: Drive, levels: Sequence[float], *, max_samples: int = SWEEP_MAX_SAMPLES,
@@ -124,13 +130,17 @@ def sweep(drive: Drive, levels: Sequence[float], *, max_samples: int = SWEEP_MAX
         records.append(rec)
     order = sorted(range(len(records)), key=lambda i: -records[i]["level"])
     first: dict[str, float | None] = {}
+    unknown = []
     for name, _ in CRITERIA:
         first[name] = None
-        for i in order:
-            if _fails(records[i], name):
+        outcomes = [_fails(records[i], name) for i in order]
+        if all(o is None for o in outcomes):
+            unknown.append(name)
+        for i, failed in zip(order, outcomes):
+            if failed:
                 first[name] = records[i]["level"]
                 break
-    return SweepResult(drive.describe(), tuple(records), first)
+    return SweepResult(drive.describe(), tuple(records), first, tuple(unknown))
 
 
 __all__ = ["CRITERIA", "SWEEP_MAX_SAMPLES", "SweepResult", "sweep"]

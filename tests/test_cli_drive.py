@@ -25,6 +25,11 @@ def test_drive_json_has_measure_keys_and_level(capsys):
     assert recs[2]["flicker_index"] == pytest.approx(0.9, rel=0.01)
     assert recs[1]["ieee1789"]["region"] == "above-low-risk"
     assert out["first_failing_level"]["ieee1789-low-risk"] == pytest.approx(0.5)
+    # Pst LM needs 15 s of light (IEC 61000-4-15 settling plus observation); a sweep models
+    # well under a second per level, so the criterion is unknown, not passed
+    assert all(r["pst_lm"] is None for r in recs)
+    assert out["first_failing_level"]["pst_lm<=1"] is None
+    assert out["not_assessed"] == ["pst_lm<=1"]
 
 
 def test_drive_file_and_workbook(tmp_path, capsys):
@@ -36,6 +41,7 @@ def test_drive_file_and_workbook(tmp_path, capsys):
     assert [r["level"] for r in out["levels"]] == pytest.approx([1.0, 0.1, 0.01])
     # IEEE 1789: above 3 kHz every level is no-observable-effect
     assert out["first_failing_level"]["ieee1789-noel"] is None
+    assert "ieee1789-noel" not in out["not_assessed"]  # None here means every level passes
     from openpyxl import load_workbook
 
     ws = load_workbook(x)["Levels"]

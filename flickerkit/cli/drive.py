@@ -124,8 +124,14 @@ def table(out: dict) -> str:
         right=[True] * 8 + [False])
     text += "\nfirst failing level (scanning down from the brightest):\n"
     for name, lv in out["first_failing_level"].items():
-        text += f"  {name:<18} {'none' if lv is None else fmt(100 * lv, '.4g') + ' %'}\n"
+        text += f"  {name:<18} {_first_failing_text(out, name, lv, fmt)}\n"
     return text
+
+
+def _first_failing_text(out: dict, name: str, lv, fmt) -> str:
+    if name in out.get("not_assessed", ()):
+        return "not assessed (no level gives the figure)"
+    return "none" if lv is None else fmt(100 * lv, ".4g") + " %"
 
 
 SWEEP_COLUMNS = (
@@ -168,7 +174,8 @@ def write_workbook(path, out: dict, *, force: bool = False):
                          "built product.")
     fs = wb.create_sheet("First failing level")
     write_rows(fs, ["Criterion", "First failing level [%]"],
-               [[k, None if v is None else 100 * v] for k, v in out["first_failing_level"].items()],
+               [[k, "not assessed" if k in out.get("not_assessed", ()) else
+                 None if v is None else 100 * v] for k, v in out["first_failing_level"].items()],
                widths=[30, 24])
     hs = wb.create_sheet("Harmonics")
     rows = []
