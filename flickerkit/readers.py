@@ -263,7 +263,7 @@ def _read_raw(p: Path, options: ReadOptions):
         raise InputError("a raw binary file holds no time: give --sample-rate HZ", source=name)
     ch = int(options.channels)
     if ch < 1:
-        raise InputError("--channels must be at least 1", source="--channels")
+        raise InputError(f"must be at least 1, got {ch}", source="--raw-channels")
     dtype = np.dtype(options.raw_dtype).newbyteorder("<")
     frame = dtype.itemsize * ch
     size = p.stat().st_size
@@ -281,13 +281,18 @@ def _read_raw(p: Path, options: ReadOptions):
         raise InputError(f"channel {col} does not exist: the raw file has {ch}", source=name)
     notes = [f"raw {options.raw_dtype} little-endian, {ch} channel(s), sample rate "
              f"{float(options.sample_rate_hz):g} Hz given"]
+    warns = []
     if size % frame:
-        notes.append(f"{size % frame} trailing byte(s) ignored (not a whole sample)")
+        # a whole file of samples divides evenly; a remainder suggests a header, a wrong
+        # --raw-dtype or a wrong --raw-channels, any of which garbles every sample
+        warns.append(f"{size % frame} trailing byte(s) ignored: the file is not a whole number "
+                     f"of {options.raw_dtype} x {ch} samples; check --raw-dtype and "
+                     f"--raw-channels")
     sig = FileSignal(name, dtype, 0, n, channels=ch, channel=col - 1)
     meta = {"format": f"raw {options.raw_dtype}", "column": f"channel {col}"}
     if not _streams(n, options):
-        return sig[:], float(options.sample_rate_hz), notes, [], meta
-    return sig, float(options.sample_rate_hz), notes, [], meta
+        return sig[:], float(options.sample_rate_hz), notes, warns, meta
+    return sig, float(options.sample_rate_hz), notes, warns, meta
 
 
 def _dark_level(dark: float | str, options: ReadOptions) -> tuple[float, str]:

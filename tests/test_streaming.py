@@ -110,3 +110,16 @@ def test_raw_needs_format_and_rate(tmp_path):
         read_capture(p, ReadOptions(sample_rate_hz=1000.0))
     with pytest.raises(InputError, match="--sample-rate"):
         read_capture(p, ReadOptions(raw_dtype="float32"))
+
+
+def test_raw_channel_count_checked_and_remainder_warned(tmp_path):
+    from flickerkit.errors import InputError
+
+    p = tmp_path / "x.raw"
+    np.zeros(100, "<f4").tofile(p)  # 400 bytes: not a whole number of 3-channel float32 frames
+    with pytest.raises(InputError, match="--raw-channels: must be at least 1"):
+        read_capture(p, ReadOptions(sample_rate_hz=1000.0, raw_dtype="float32", channels=0))
+    cap = read_capture(p, ReadOptions(sample_rate_hz=1000.0, raw_dtype="float32", channels=3))
+    # analytic: 400 bytes = 33 frames of 12 bytes + 4 bytes
+    assert cap.samples.size == 33
+    assert any("4 trailing byte(s)" in w for w in cap.warnings)
