@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Any, Callable
 
 from . import __version__, criteria
+from .errors import FlickerkitError, SettingsError
 from .project import Project
 
 #: Cautions every report carries (summary sheet and terminal).
@@ -102,11 +103,20 @@ def build_report(project: Project, *, workers: int | None = None,
     from .assess import AssessSettings
     from .batch import measure_many
 
-    settings = AssessSettings(ieee1789_mode=project.analysis.get("ieee1789_mode", "fundamental"),
-                              harmonics=int(project.analysis.get("harmonics", 20)))
+    try:
+        settings = AssessSettings(
+            ieee1789_mode=project.analysis.get("ieee1789_mode", "fundamental"),
+            harmonics=int(project.analysis.get("harmonics", 20)))
+    except (TypeError, ValueError) as exc:
+        raise SettingsError(f"{project.path} [analysis]: {exc}") from None
     base = project.path.parent if project.path.is_file() else project.path
     extra = criteria.load_user_criteria(project.criteria_file) if project.criteria_file else {}
-    chosen = criteria.get(project.criteria_ids, extra)
+    try:
+        chosen = criteria.get(project.criteria_ids, extra)
+    except SettingsError as exc:
+        raise SettingsError(f"{project.path} [criteria]: {exc}") from None
+    # the brightness table needs no capture: settle it before the (long) measuring
+    steps = _steps_table(project) if project.steps else None
 
     records: list[dict[str, Any]] = []
     failures: list[tuple[str, str]] = []
@@ -154,7 +164,6 @@ def build_report(project: Project, *, workers: int | None = None,
         for c in chosen:
             verdicts.append(criteria.Verdict(c.id, label, None, "insufficient data", None, None,
                                              None, f"capture could not be measured: {err}"))
-    steps = _steps_table(project) if project.steps else None
     settings_out = {
         "flickerkit version": __version__,
         "project file": str(project.path),
@@ -184,7 +193,5 @@ def _steps_table(project: Project):
             pwm_frequency_hz=s.get("pwm_frequency_hz"),
             target_region=str(s.get("target_region", "low-risk")),
         )
-    except TypeError as exc:
-        from .errors import SettingsError
-
+    except (TypeError, ValueError, FlickerkitError) as exc:
         raise SettingsError(f"{project.path} [steps]: {exc}") from None

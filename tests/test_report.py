@@ -135,6 +135,32 @@ def test_report_refuses_to_overwrite_and_keeps_going_past_a_bad_capture(project,
     assert len(data["records"]) == 2
 
 
+@pytest.mark.parametrize("old,new,message", [
+    ("steps = 16", 'steps = "many"', r"proj.toml \[steps\]"),
+    ("bits = 10", "bits = 40", r"proj.toml \[steps\]: bits must be 1 to 32"),
+    ('apply = ["ieee1789-low-risk"', 'apply = ["nope"', r"proj.toml \[criteria\]: unknown"),
+    ("[steps]", '[analysis]\nharmonics = "x"\n\n[steps]', r"proj.toml \[analysis\]"),
+    ("[steps]", '[analysis]\nieee1789_mode = "x"\n\n[steps]', r"\[analysis\]: ieee1789_mode"),
+    ('file = "full.npy"', 'file = "missing.npy"', "no capture could be measured"),
+])
+def test_bad_project_values_one_line_and_no_workbook(project, tmp_path, capsys, old, new,
+                                                    message):
+    import re
+
+    text = project.read_text()
+    assert old in text
+    text = text.replace(old, new)
+    if "missing" in new:  # every capture unreadable: no record is worth writing
+        text = text.replace('file = "twenty.npy"', 'file = "broken.csv"')
+    project.write_text(text)
+    out = tmp_path / "record.xlsx"
+    assert main(["report", str(project), "-o", str(out), "-q"]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith("flickerkit: error: ")
+    assert re.search(message, err[0]), err[0]
+    assert not out.exists() and not list(tmp_path.glob(".*part"))
+
+
 def test_project_errors_name_the_key(tmp_path):
     p = tmp_path / "bad.toml"
     p.write_text('[product]\nname = "x"\n[[capture]]\nlevel = 100\nfile = "a.csv"\ncolour = 1\n')

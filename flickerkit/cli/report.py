@@ -80,6 +80,14 @@ def run(args: argparse.Namespace) -> int:
     finally:
         if bar is not None:
             bar.close()
+    if report.failures and not report.records:
+        from ..errors import InputError
+
+        label, err = report.failures[0]
+        more = f" ({len(report.failures)} failed; the first: {err})" \
+            if len(report.failures) > 1 else f" ({err})"
+        raise InputError(f"no capture could be measured{more}; no workbook was written",
+                         source=str(args.project))
     from ..export.report_workbook import write_report_workbook
 
     write_report_workbook(args.output, report, force=args.force)
