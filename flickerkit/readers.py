@@ -401,7 +401,8 @@ def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int]:
     raise InputError("no numeric table found", source=name)
 
 
-def _header_and_meta(lines: list[str], first: int, sep: str, k: int) -> tuple[list[str] | None, dict[str, str]]:
+def _header_and_meta(lines: list[str], first: int, sep: str,
+                     k: int) -> tuple[list[str] | None, dict[str, str]]:
     header = None
     meta_lines = lines[:first]
     for j in range(first - 1, -1, -1):
@@ -478,7 +479,8 @@ def _pick_columns(header: list[str] | None, k: int, head_rows: np.ndarray,
                                  f"({', '.join(names)})", source=name)
             sig = col - 1
         else:
-            matches = [i for i, h in enumerate(names) if h.strip().lower() == str(col).strip().lower()]
+            want = str(col).strip().lower()
+            matches = [i for i, h in enumerate(names) if h.strip().lower() == want]
             if not matches:
                 raise InputError(f"unknown column {col!r}; the columns are: {', '.join(names)}",
                                  source=name)
@@ -496,9 +498,8 @@ def _pick_columns(header: list[str] | None, k: int, head_rows: np.ndarray,
     return time_col, sig, names
 
 
-def _read_table(p: Path, options: ReadOptions):
-    import pandas as pd
-
+def _table_layout(p: Path, options: ReadOptions):
+    """Everything about a text table's layout that reading it needs, from its head."""
     name = str(p)
     text, enc = _decode_head(p)
     lines = text.splitlines()
@@ -509,6 +510,15 @@ def _read_table(p: Path, options: ReadOptions):
                           and _numeric_fields(ln, sep, dec) == k], dtype=float)
     time_col, sig, names = _pick_columns(header, k, head_rows, options, name)
     use_time = time_col is not None and options.sample_rate_hz is None
+    return (text, enc, lines, sep, dec, first, k, header, meta, time_col, sig, names, use_time)
+
+
+def _read_table(p: Path, options: ReadOptions):
+    import pandas as pd
+
+    name = str(p)
+    (text, enc, lines, sep, dec, first, k, header, meta, time_col, sig, names,
+     use_time) = _table_layout(p, options)
     cols = [time_col, sig] if use_time else [sig]
     # physical line numbers: splitlines() counts like the file
     skip = first
@@ -606,15 +616,8 @@ def _stream_table(p: Path, options: ReadOptions):
     import pandas as pd
 
     name = str(p)
-    text, enc = _decode_head(p)
-    lines = text.splitlines()
-    sep, dec, first, k = _sniff(lines, name)
-    header, meta = _header_and_meta(lines, first, sep, k)
-    head_rows = np.array([[_to_float(f, dec) for f in _split(ln.strip(), sep)[:k]]
-                          for ln in lines[first : first + 50] if ln.strip()
-                          and _numeric_fields(ln, sep, dec) == k], dtype=float)
-    time_col, sig, names = _pick_columns(header, k, head_rows, options, name)
-    use_time = time_col is not None and options.sample_rate_hz is None
+    (text, enc, lines, sep, dec, first, k, header, meta, time_col, sig, names,
+     use_time) = _table_layout(p, options)
     if use_time and options.resample:
         raise InputError("--resample needs the capture in memory; it is too long to stream "
                          "with resampling", source=name)
@@ -770,7 +773,8 @@ def _uniform_checked(t, x, resample, name, skip):
 # --------------------------------------------------------------------------- binary
 
 
-def _channel(data: np.ndarray, options: ReadOptions, name: str, what: str) -> tuple[np.ndarray, int]:
+def _channel(data: np.ndarray, options: ReadOptions, name: str,
+             what: str) -> tuple[np.ndarray, int]:
     if data.ndim == 1:
         if options.column not in (None, 1, "1"):
             raise InputError(f"{what} has one {what == 'WAV file' and 'channel' or 'column'}; "
