@@ -271,14 +271,7 @@ def _read_raw(p: Path, options: ReadOptions):
     if n < 2:
         raise InputError(f"raw file holds {n} sample(s) of {options.raw_dtype} x {ch}",
                          source=name)
-    col = options.column if options.column is not None else 1
-    try:
-        col = int(col)
-    except (TypeError, ValueError):
-        raise InputError(f"raw channels are numbered 1 to {ch}; got {options.column!r}",
-                         source=name) from None
-    if not 1 <= col <= ch:
-        raise InputError(f"channel {col} does not exist: the raw file has {ch}", source=name)
+    col = _column_number(options.column, ch, "raw file", name)
     notes = [f"raw {options.raw_dtype} little-endian, {ch} channel(s), sample rate "
              f"{float(options.sample_rate_hz):g} Hz given"]
     if size % frame:
@@ -780,16 +773,21 @@ def _channel(data: np.ndarray, options: ReadOptions, name: str,
             raise InputError(f"{what} has one {what == 'WAV file' and 'channel' or 'column'}; "
                              f"column {options.column!r} does not exist", source=name)
         return data, 1
-    k = data.shape[1]
-    col = options.column if options.column is not None else 1
+    col = _column_number(options.column, data.shape[1], what, name)
+    return data[:, col - 1], col
+
+
+def _column_number(column, k: int, what: str, name: str) -> int:
+    """A 1-based column (channel) number of a binary file, checked against its ``k``."""
+    col = column if column is not None else 1
     try:
         col = int(col)
     except (TypeError, ValueError):
-        raise InputError(f"{what} columns are numbered 1 to {k}; got {options.column!r}",
+        raise InputError(f"{what} columns are numbered 1 to {k}; got {column!r}",
                          source=name) from None
     if not 1 <= col <= k:
         raise InputError(f"column {col} does not exist: the {what} has {k}", source=name)
-    return data[:, col - 1], col
+    return col
 
 
 def _read_wav(p: Path, options: ReadOptions):
