@@ -69,6 +69,22 @@ class Capture:
         return self.n_samples / self.sample_rate_hz
 
 
+def _checked_rate(sample_rate_hz: Any, where: str | None) -> float:
+    try:
+        rate = float(sample_rate_hz)
+    except (TypeError, ValueError):
+        raise InputError(f"sample rate {sample_rate_hz!r} is not a number", source=where) from None
+    if not np.isfinite(rate) or rate <= 0:
+        raise InputError(f"sample rate must be a positive number of hertz, got {rate:g}",
+                         source=where)
+    return rate
+
+
+def _check_quantity(quantity: str, where: str | None) -> None:
+    if quantity not in QUANTITIES:
+        raise InputError(f"quantity must be one of {QUANTITIES}, got {quantity!r}", source=where)
+
+
 def make_capture(
     samples: Any,
     sample_rate_hz: float,
@@ -114,18 +130,11 @@ def make_capture(
     if x.shape[0] < 2:
         raise InputError(f"capture holds {x.shape[0]} sample(s); at least 2 are needed",
                          source=where)
-    try:
-        rate = float(sample_rate_hz)
-    except (TypeError, ValueError):
-        raise InputError(f"sample rate {sample_rate_hz!r} is not a number", source=where) from None
-    if not np.isfinite(rate) or rate <= 0:
-        raise InputError(f"sample rate must be a positive number of hertz, got {rate:g}",
-                         source=where)
+    rate = _checked_rate(sample_rate_hz, where)
     if not np.isfinite(x).all():
         bad = int(np.flatnonzero(~np.isfinite(x))[0])
         raise InputError(f"sample {bad} is not a finite number ({x[bad]!r})", source=where)
-    if quantity not in QUANTITIES:
-        raise InputError(f"quantity must be one of {QUANTITIES}, got {quantity!r}", source=where)
+    _check_quantity(quantity, where)
     return Capture(samples=x, sample_rate_hz=rate, label=label, source=source,
                    quantity=quantity, notes=tuple(notes), warnings=tuple(warnings),
                    meta=dict(meta or {}))
@@ -161,15 +170,8 @@ def make_lazy_capture(
     if shape[0] < 2:
         raise InputError(f"capture holds {shape[0]} sample(s); at least 2 are needed",
                          source=where)
-    try:
-        rate = float(sample_rate_hz)
-    except (TypeError, ValueError):
-        raise InputError(f"sample rate {sample_rate_hz!r} is not a number", source=where) from None
-    if not np.isfinite(rate) or rate <= 0:
-        raise InputError(f"sample rate must be a positive number of hertz, got {rate:g}",
-                         source=where)
-    if quantity not in QUANTITIES:
-        raise InputError(f"quantity must be one of {QUANTITIES}, got {quantity!r}", source=where)
+    rate = _checked_rate(sample_rate_hz, where)
+    _check_quantity(quantity, where)
     return Capture(samples=samples, sample_rate_hz=rate, label=label, source=source,
                    quantity=quantity, notes=tuple(notes), warnings=tuple(warnings),
                    meta=dict(meta or {}))

@@ -404,7 +404,8 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
     measured = float(measured)
     ok = _COMPARE[criterion.comparison](measured, limit)
     margin = limit - measured if criterion.comparison in ("<", "<=") else measured - limit
-    how = f"{criterion.metric} {criterion.comparison} {limit:g}{criterion.unit and ' ' + criterion.unit}"
+    unit = f" {criterion.unit}" if criterion.unit else ""
+    how = f"{criterion.metric} {criterion.comparison} {limit:g}{unit}"
     detail = record.get(f"{criterion.metric}_detail")
     if isinstance(detail, Mapping) and detail.get("calibration_status") == "provisional":
         how += f" (provisional calibration {detail.get('calibration')})"

@@ -271,14 +271,7 @@ def _read_raw(p: Path, options: ReadOptions):
     if n < 2:
         raise InputError(f"raw file holds {n} sample(s) of {options.raw_dtype} x {ch}",
                          source=name)
-    col = options.column if options.column is not None else 1
-    try:
-        col = int(col)
-    except (TypeError, ValueError):
-        raise InputError(f"raw channels are numbered 1 to {ch}; got {options.column!r}",
-                         source=name) from None
-    if not 1 <= col <= ch:
-        raise InputError(f"channel {col} does not exist: the raw file has {ch}", source=name)
+    col = _column_number(options.column, ch, "raw file", name)
     notes = [f"raw {options.raw_dtype} little-endian, {ch} channel(s), sample rate "
              f"{float(options.sample_rate_hz):g} Hz given"]
     warns = []
@@ -406,7 +399,8 @@ def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int]:
     raise InputError("no numeric table found", source=name)
 
 
-def _header_and_meta(lines: list[str], first: int, sep: str, k: int) -> tuple[list[str] | None, dict[str, str]]:
+def _header_and_meta(lines: list[str], first: int, sep: str,
+                     k: int) -> tuple[list[str] | None, dict[str, str]]:
     header = None
     meta_lines = lines[:first]
     for j in range(first - 1, -1, -1):
@@ -483,7 +477,8 @@ def _pick_columns(header: list[str] | None, k: int, head_rows: np.ndarray,
                                  f"({', '.join(names)})", source=name)
             sig = col - 1
         else:
-            matches = [i for i, h in enumerate(names) if h.strip().lower() == str(col).strip().lower()]
+            want = str(col).strip().lower()
+            matches = [i for i, h in enumerate(names) if h.strip().lower() == want]
             if not matches:
                 raise InputError(f"unknown column {col!r}; the columns are: {', '.join(names)}",
                                  source=name)
@@ -501,9 +496,8 @@ def _pick_columns(header: list[str] | None, k: int, head_rows: np.ndarray,
     return time_col, sig, names
 
 
-def _read_table(p: Path, options: ReadOptions):
-    import pandas as pd
-
+def _table_layout(p: Path, options: ReadOptions):
+    """Everything about a text table's layout that reading it needs, from its head."""
     name = str(p)
     text, enc = _decode_head(p)
     lines = text.splitlines()
@@ -514,6 +508,15 @@ def _read_table(p: Path, options: ReadOptions):
                           and _numeric_fields(ln, sep, dec) == k], dtype=float)
     time_col, sig, names = _pick_columns(header, k, head_rows, options, name)
     use_time = time_col is not None and options.sample_rate_hz is None
+    return (text, enc, lines, sep, dec, first, k, header, meta, time_col, sig, names, use_time)
+
+
+def _read_table(p: Path, options: ReadOptions):
+    import pandas as pd
+
+    name = str(p)
+    (text, enc, lines, sep, dec, first, k, header, meta, time_col, sig, names,
+     use_time) = _table_layout(p, options)
     cols = [time_col, sig] if use_time else [sig]
     # physical line numbers: splitlines() counts like the file
     skip = first
@@ -611,15 +614,8 @@ def _stream_table(p: Path, options: ReadOptions):
     import pandas as pd
 
     name = str(p)
-    text, enc = _decode_head(p)
-    lines = text.splitlines()
-    sep, dec, first, k = _sniff(lines, name)
-    header, meta = _header_and_meta(lines, first, sep, k)
-    head_rows = np.array([[_to_float(f, dec) for f in _split(ln.strip(), sep)[:k]]
-                          for ln in lines[first : first + 50] if ln.strip()
-                          and _numeric_fields(ln, sep, dec) == k], dtype=float)
-    time_col, sig, names = _pick_columns(header, k, head_rows, options, name)
-    use_time = time_col is not None and options.sample_rate_hz is None
+    (text, enc, lines, sep, dec, first, k, header, meta, time_col, sig, names,
+     use_time) = _table_layout(p, options)
     if use_time and options.resample:
         raise InputError("--resample needs the capture in memory; it is too long to stream "
                          "with resampling", source=name)
@@ -775,22 +771,28 @@ def _uniform_checked(t, x, resample, name, skip):
 # --------------------------------------------------------------------------- binary
 
 
-def _channel(data: np.ndarray, options: ReadOptions, name: str, what: str) -> tuple[np.ndarray, int]:
+def _channel(data: np.ndarray, options: ReadOptions, name: str,
+             what: str) -> tuple[np.ndarray, int]:
     if data.ndim == 1:
         if options.column not in (None, 1, "1"):
             raise InputError(f"{what} has one {what == 'WAV file' and 'channel' or 'column'}; "
                              f"column {options.column!r} does not exist", source=name)
         return data, 1
-    k = data.shape[1]
-    col = options.column if options.column is not None else 1
+    col = _column_number(options.column, data.shape[1], what, name)
+    return data[:, col - 1], col
+
+
+def _column_number(column, k: int, what: str, name: str) -> int:
+    """A 1-based column (channel) number of a binary file, checked against its ``k``."""
+    col = column if column is not None else 1
     try:
         col = int(col)
     except (TypeError, ValueError):
-        raise InputError(f"{what} columns are numbered 1 to {k}; got {options.column!r}",
+        raise InputError(f"{what} columns are numbered 1 to {k}; got {column!r}",
                          source=name) from None
     if not 1 <= col <= k:
         raise InputError(f"column {col} does not exist: the {what} has {k}", source=name)
-    return data[:, col - 1], col
+    return col
 
 
 def _read_wav(p: Path, options: ReadOptions):

@@ -32,7 +32,11 @@ def waveform(row):
 ROWS = read_reference("pf_fi_analytic.csv")
 
 
-@pytest.mark.parametrize("row", ROWS, ids=lambda r: f"{r['waveform']}-{r['duty']}{r['off_level']}{r['modulation']}")
+def _row_id(r):
+    return f"{r['waveform']}-{r['duty']}{r['off_level']}{r['modulation']}"
+
+
+@pytest.mark.parametrize("row", ROWS, ids=_row_id)
 def test_analytic_values_from_sampled_capture(row):
     a = assess(make_capture(waveform(row), FS, label="synthetic"))
     pf, fi = float(row["percent_flicker"]), float(row["flicker_index"])

@@ -97,12 +97,13 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(dumps(report.to_dict()))
     else:
         sys.stdout.write(verdict_table(report))
-    for label, err in report.failures:
+    for _label, err in report.failures:
         print(f"flickerkit: error: {err}", file=sys.stderr)
     print(f"workbook written: {args.output}", file=sys.stderr)
     from ..report import CAUTIONS
 
-    print("\n".join(f"caution: {c}" for c in CAUTIONS), file=sys.stderr if args.json else sys.stdout)
+    print("\n".join(f"caution: {c}" for c in CAUTIONS),
+          file=sys.stderr if args.json else sys.stdout)
     return 1 if report.failures else 0
 
 
