@@ -331,6 +331,33 @@ def _insufficient(record: Mapping[str, Any], requires: Sequence[str]) -> str | N
     return None
 
 
+#: Percent flicker below this is taken as steady light whatever the noise (numerical
+#: residue of modelled steady light is about 1e-10 %) [%].
+STEADY_PERCENT_FLICKER = 1e-6
+
+
+def _no_period_reason(record: Mapping[str, Any]) -> tuple[str, str]:
+    """Verdict status and reason when the record found no fundamental frequency.
+
+    Steady light (percent flicker within the noise) is ``not applicable``; light
+    that clearly modulates but shows no whole period (a capture shorter than
+    about two periods, or aperiodic modulation) is ``insufficient data``, never
+    treated as steady.
+    """
+    from .assess import NOISE_MARGIN
+
+    pf = record.get("percent_flicker")
+    floor = (record.get("noise") or {}).get("percent_flicker_floor")
+    floor = float(floor) if isinstance(floor, (int, float)) and math.isfinite(floor) else 0.0
+    if (isinstance(pf, (int, float)) and math.isfinite(pf)
+            and pf > max(NOISE_MARGIN * floor, STEADY_PERCENT_FLICKER)):
+        return ("insufficient data",
+                f"the light modulates ({pf:.3g} % percent flicker, above the noise) but no "
+                f"period was found: the capture may be shorter than two periods, or the "
+                f"modulation is not periodic")
+    return "not applicable", "no periodic modulation found (steady light within the noise)"
+
+
 def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | None = None,
           date: _dt.date | None = None) -> Verdict:
     """Judge one assessment object against one criterion.
@@ -373,8 +400,9 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
     if criterion.metric in ("ieee1789.low_risk", "ieee1789.noel"):
         ieee = record.get("ieee1789")
         if record.get("frequency_hz") is None or not ieee:
-            return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
-                           reason="no periodic modulation found (steady light within the noise)")
+            status, reason = _no_period_reason(record)
+            return Verdict(**v, status=status, measured=None, limit=None, margin=None,
+                           reason=reason)
         which = "low_risk" if criterion.metric.endswith("low_risk") else "noel"
         measured = ieee["modulation_percent"]
         limit = ieee[f"{which}_limit_percent"]
@@ -388,10 +416,13 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
 
     if criterion.metric == "below_90hz_modulation":
         f = record.get("frequency_hz")
-        if f is None or f >= 90.0:
+        if f is None:
+            status, reason = _no_period_reason(record)
+            return Verdict(**v, status=status, measured=None, limit=limit, margin=None,
+                           reason=reason)
+        if f >= 90.0:
             return Verdict(**v, status="not applicable", measured=None, limit=limit, margin=None,
-                           reason="no modulation below 90 Hz" if f is not None
-                           else "no periodic modulation found")
+                           reason="no modulation below 90 Hz")
         measured = record.get("percent_flicker")
     else:
         measured = _lookup(record, criterion.metric)

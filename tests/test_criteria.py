@@ -57,11 +57,21 @@ def test_missing_value_is_insufficient_never_pass():
 
 
 def test_short_capture_is_insufficient_for_ieee():
-    # 1.5 periods of 100 Hz
+    # 1.5 periods of 100 Hz: no period can be found, but the light plainly modulates
+    # (analytic: a 2 % sine has 2 % percent flicker), so it is not steady light
     rec = record(0.02, duration=0.015)
-    v = criteria.judge(rec, criteria.REGISTRY["ieee1789-low-risk"])
-    assert v.status in ("insufficient data", "not applicable")
-    assert v.status != "pass"
+    assert rec["frequency_hz"] is None
+    for cid in ("ieee1789-low-risk", "ieee1789-noel", "seizure-screen-below-90hz"):
+        v = criteria.judge(rec, criteria.REGISTRY[cid], level=100)
+        assert v.status == "insufficient data", cid
+        assert "no period was found" in v.reason
+    # 1.5 periods of 8 Hz at 50 %: the seizure screen must not call it steady
+    v = criteria.judge(record(0.5, f=8.0, duration=1.5 / 8.0),
+                       criteria.REGISTRY["seizure-screen-below-90hz"])
+    assert v.status == "insufficient data"
+    # steady light (analytic: percent flicker 0) is the case with nothing to judge
+    v = criteria.judge(record(0.0, duration=0.015), criteria.REGISTRY["ieee1789-low-risk"])
+    assert v.status == "not applicable" and "steady light" in v.reason
 
 
 def test_ja10_sampling_requirements():
