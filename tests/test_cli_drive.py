@@ -76,6 +76,10 @@ def test_camera_json(capsys):
      "no prescaler 3"),
     (["plan", "-t", "low-risk", "--range", "10:1000"], "no PWM frequency"),
     (["camera", "--fps", "30", "--exposure", "0.5"], "no exposure fits"),
+    # zero or empty values are refused, not read as "not given"
+    (["drive", "--ripple", "3", "--line-hz", "0"], "line frequency [Hz] must be"),
+    (["drive", "--levels", ""], "--levels: no level given"),
+    (["plan", "-t", "low-risk", "--levels", "0"], "--levels must be at least 2"),
 ])
 def test_bad_input_one_line(capsys, argv, match):
     assert main(argv + ["-q"]) == 1

@@ -105,13 +105,13 @@ def drive_from_args(args: argparse.Namespace):
         edges["kind"] = "first-order"
     if edges:
         data["edges"] = edges
-    if args.ripple is not None or args.ripple_shape or args.line_hz:
+    if args.ripple is not None or args.ripple_shape or args.line_hz is not None:
         ripple = ripple or {}
         if args.ripple is not None:
             ripple["percent"] = args.ripple
         if args.ripple_shape:
             ripple["shape"] = args.ripple_shape
-        if args.line_hz:
+        if args.line_hz is not None:  # 0 is a value to refuse, not "unset"
             ripple["line_frequency_hz"] = args.line_hz
         if "percent" not in ripple:
             raise SettingsError("--ripple-shape/--line-hz need --ripple PERCENT")

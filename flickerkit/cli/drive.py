@@ -51,7 +51,7 @@ def _levels(args):
     from ..errors import SettingsError
     from ._driveopts import file_levels, parse_levels
 
-    if args.levels:
+    if args.levels is not None:
         return parse_levels(args.levels)
     fl = file_levels(args)
     if fl is not None:

@@ -110,6 +110,9 @@ def run(args: argparse.Namespace) -> int:
             pres = (timer.check_prescaler(args.prescaler),)
     elif args.prescaler is not None or args.bits is not None or args.max_step is not None:
         raise SettingsError("timer options need --clock-mhz")
+    if args.levels < 2:
+        raise SettingsError(f"--levels must be at least 2 (the smallest level and 100 %), "
+                            f"got {args.levels}")
     levels = default_levels(res.min_level, args.levels)
     out = plan(drive, targets, levels=levels, range_hz=rng, timer=timer, prescalers=pres,
                resolution=res)
