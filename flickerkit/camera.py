@@ -74,6 +74,11 @@ class Camera:
                                 f"at {self.frame_rate_hz:g} fps")
         if self.readout_s is not None and not (self.readout_s > 0):
             raise SettingsError(f"readout time must be positive, got {self.readout_s:g} s")
+        if self.readout_s is not None and self.readout_s > 1.0 / self.frame_rate_hz * (1 + 1e-9):
+            # a rolling shutter reads every row once per frame
+            raise SettingsError(f"readout time {self.readout_s * 1e3:g} ms is longer than the "
+                                f"frame period {1e3 / self.frame_rate_hz:.4g} ms at "
+                                f"{self.frame_rate_hz:g} fps")
         if int(self.rows) != self.rows or self.rows < 1:
             raise SettingsError(f"rows must be a positive whole number, got {self.rows!r}")
 
@@ -285,6 +290,9 @@ def suggest_frequencies(
     if not (0 < low_hz < high_hz):
         raise SettingsError(f"frequency range must satisfy 0 < low < high, got "
                             f"{low_hz:g}..{high_hz:g} Hz")
+    if not (0.0 <= max_contrast <= 1.0):
+        raise SettingsError(f"accepted band contrast must be 0 to 100 %, got "
+                            f"{max_contrast * 100:g} %")
     fps = _lcm([_rational(c.frame_rate_hz) for c in cameras])
     full = _lcm([fps] + [_rational(1.0 / c.exposure_s) for c in cameras])
 

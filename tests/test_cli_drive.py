@@ -80,6 +80,9 @@ def test_camera_json(capsys):
     (["drive", "--ripple", "3", "--line-hz", "0"], "line frequency [Hz] must be"),
     (["drive", "--levels", ""], "--levels: no level given"),
     (["plan", "-t", "low-risk", "--levels", "0"], "--levels must be at least 2"),
+    # a rolling shutter reads all rows within one frame period (1/30 s = 33.3 ms)
+    (["camera", "--fps", "30", "--readout-ms", "40"], "longer than the frame period"),
+    (["camera", "--max-contrast", "-1"], "--max-contrast must be 0 to 100 %"),
 ])
 def test_bad_input_one_line(capsys, argv, match):
     assert main(argv + ["-q"]) == 1

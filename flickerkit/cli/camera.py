@@ -82,6 +82,8 @@ def run(args: argparse.Namespace) -> int:
     drive = drive_from_args(args)
     if not (0 < args.level <= 100):
         raise SettingsError(f"--level must lie in (0, 100] %, got {args.level:g}")
+    if not (0.0 <= args.max_contrast <= 100.0):
+        raise SettingsError(f"--max-contrast must be 0 to 100 %, got {args.max_contrast:g}")
     level = args.level / 100.0
     model = drive.at(level)
     fps = _numbers(args.fps, "--fps")
