@@ -130,6 +130,8 @@ def test_bad_input_one_line_nonzero_no_output(capture_file, tmp_path, capsys, ar
     (["steps", "-n", "64"], "steps: one of the arguments --bits --top is required"),
     (["drive", "--method", "nope"], "drive: argument --method: invalid choice"),
     (["bogus"], "argument COMMAND: invalid choice"),
+    (["steps", "--bits", "8", "--nope"], "steps: unrecognized arguments: --nope (see "
+                                         "'flickerkit steps --help')"),
 ])
 def test_usage_errors_are_one_line(capture_file, capsys, args, message):
     args = [a.replace("{cap}", str(capture_file)) for a in args]

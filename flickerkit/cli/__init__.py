@@ -64,6 +64,7 @@ def build_parser() -> argparse.ArgumentParser:
     for name in COMMANDS:
         module = importlib.import_module(f".{name}", __name__)
         module.add_parser(sub)
+    parser.set_defaults(_commands=sub.choices)
     return parser
 
 
@@ -75,7 +76,11 @@ def main(argv: list[str] | None = None) -> int:
     exits with 130.
     """
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args, extra = parser.parse_known_args(argv)
+    if extra:  # name the command whose help lists the options
+        command = getattr(args, "command", None)
+        (args._commands.get(command, parser) if command else parser).error(
+            f"unrecognized arguments: {' '.join(extra)}")
     if not getattr(args, "command", None):
         parser.print_help(sys.stderr)
         return 2
