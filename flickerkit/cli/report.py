@@ -24,7 +24,7 @@ Criteria (ids for [criteria] apply = [...]):
   nema77-guidance-pst (see README.md for sources and confidence)
 
 examples:
-  flickerkit report ardent12.toml -o ardent12_record.xlsx
+  flickerkit report ardent12_project.toml -o ardent12_record.xlsx
   flickerkit report captures/ -o record.xlsx --force --json > verdicts.json
 """
 
