@@ -416,6 +416,14 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         warnings.warn(CaptureWarning(
             f"light goes negative (minimum {lo:.4g}, mean {mean:.4g}): the dark level may "
             f"be too high or the detector offset drifted; ratio metrics are biased"))
+    elif pf > 100.0:
+        # noise around a zero off-level (after the dark level) dips below zero: a ratio of
+        # (max - min) / (max + min) then exceeds its physical 100 %
+        warnings.warn(CaptureWarning(
+            f"percent flicker {pf:.4g} % is above 100 % because the light dips below zero "
+            f"(minimum {lo:.4g}, within the noise of a zero off-level)"
+            + (f"; the period-averaged waveform gives {pf_avg:.4g} %" if pf_avg is not None
+               else "")))
     if metrics.clipping_from_counts(n, at_max, at_next, noise):
         warnings.warn(CaptureWarning(
             f"clipping suspected: {at_max / n:.1%} of samples sit exactly at "

@@ -80,6 +80,19 @@ def test_noisy_small_modulation_is_flagged_noise_limited():
     assert any("noise" in w for w in a.warnings)
 
 
+def test_percent_flicker_above_100_is_explained():
+    # analytic: 0/1 PWM has 100 % percent flicker; noise around the zero off-level dips below
+    # zero, so (max - min)/(max + min) exceeds 100 % and must be flagged, not silently shown
+    rng = np.random.default_rng(13)
+    x = pwm(500.0, 0.3, 0.0, FS, 1.0) + 0.005 * rng.standard_normal(int(FS))
+    a = assess(make_capture(x, FS))
+    assert a.percent_flicker > 100.0
+    assert any("above 100 %" in w for w in a.warnings)
+    assert a.percent_flicker_averaged == pytest.approx(100.0, rel=0.01)
+    clean = assess(make_capture(pwm(500.0, 0.3, 0.0, FS, 1.0), FS))
+    assert not any("above 100 %" in w for w in clean.warnings)
+
+
 def test_period_averaged_percent_flicker_recovers_truth_under_noise():
     # analytic: 30 % sine; noise of 2 % rms biases the raw max/min figure upwards
     rng = np.random.default_rng(11)
