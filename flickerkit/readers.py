@@ -727,6 +727,22 @@ def _uniform(t: np.ndarray, x: np.ndarray, resample: bool, name: str,
         return _uniform_checked(t, x, resample, name, skip)
 
 
+def _worst_deviation(t: np.ndarray, fs: float, block: int = 1 << 20) -> tuple[int, float]:
+    """Index and size of the largest departure of ``t`` from a uniform grid [sample intervals].
+
+    Worked in blocks so a long time column needs no full-length temporaries.
+    """
+    t0 = t[0]
+    worst, worst_dev = 0, -1.0
+    for a in range(0, t.size, block):
+        seg = t[a : a + block]
+        dev = np.abs(seg - (t0 + np.arange(a, a + seg.size) / fs)) * fs
+        i = int(np.argmax(dev))
+        if dev[i] > worst_dev:
+            worst, worst_dev = a + i, float(dev[i])
+    return worst, worst_dev
+
+
 def _uniform_checked(t, x, resample, name, skip):
     notes: list[str] = []
     dt = np.diff(t)
@@ -736,14 +752,12 @@ def _uniform_checked(t, x, resample, name, skip):
     span = t[-1] - t[0]
     if bad.size == 0 and span > 0:
         fs = _check_rate((t.size - 1) / span, name)
-        grid = t[0] + np.arange(t.size) / fs
-        dev = np.abs(t - grid) * fs
-        worst = int(np.argmax(dev))
-        if dev[worst] <= UNIFORM_TOLERANCE:
+        worst, worst_dev = _worst_deviation(t, fs)
+        if worst_dev <= UNIFORM_TOLERANCE:
             return x, float(fs), notes
         if not resample:
             raise InputError(
-                f"time steps are not uniform: the sample here is {dev[worst]:.3g} sample "
+                f"time steps are not uniform: the sample here is {worst_dev:.3g} sample "
                 f"intervals off a uniform grid at {fs:.6g} Hz (gaps or jitter); use "
                 f"--resample to interpolate onto a uniform grid", source=name,
                 line=skip + worst + 1)
