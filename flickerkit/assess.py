@@ -184,9 +184,6 @@ class Assessment:
 
     def to_dict(self) -> dict[str, Any]:
         """The public JSON object of this assessment (keys are a stable interface)."""
-        def num(v: float | None) -> float | None:
-            return None if v is None or not np.isfinite(v) else float(v)
-
         def ieee(r: ieee1789.Ieee1789Result | None) -> dict[str, Any] | None:
             if r is None:
                 return None
@@ -321,6 +318,11 @@ def assess(capture: Capture, settings: AssessSettings | None = None, *,
     found = list(capture.warnings)
     found += [str(w.message) for w in caught if issubclass(w.category, FlickerkitWarning)]
     return _with_warnings(result, found)
+
+
+def num(v: float | None) -> float | None:
+    """A finite float for JSON, else None."""
+    return None if v is None or not np.isfinite(v) else float(v)
 
 
 def _with_warnings(a: Assessment, more: list[str]) -> Assessment:
@@ -568,9 +570,6 @@ class VoltageAssessment:
 
     def to_dict(self) -> dict[str, Any]:
         """The public JSON object of a voltage capture."""
-        def num(v: float | None) -> float | None:
-            return None if v is None or not np.isfinite(v) else float(v)
-
         return {
             "label": self.label,
             "source": self.source,

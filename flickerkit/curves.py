@@ -464,7 +464,7 @@ def curve_levels(
     0.9909
     """
     curve = method if isinstance(method, Curve) else get_curve(method, **params)
-    n = _as_int(n_steps, "step count")
+    n = whole_number(n_steps, "step count")
     lit = n - 1 if off_step else n
     if lit < 2:
         raise SettingsError(
@@ -495,7 +495,8 @@ def curve_levels(
     return y
 
 
-def _as_int(value, name: str) -> int:
+def whole_number(value, name: str) -> int:
+    """``value`` as an int, or SettingsError naming ``name`` if it is not a whole number."""
     try:
         n = int(value)
     except (TypeError, ValueError):

@@ -807,7 +807,15 @@ IDEAL = Edges()
 class LightModel:
     """Shared methods of the drive models (each defines ``light()``)."""
 
-    def light(self) -> Light:  # pragma: no cover - defined by each model
+    def light(self) -> Light:
+        """The model's light waveform, built once and kept (models are frozen)."""
+        lt = self.__dict__.get("_light")
+        if lt is None:
+            lt = self._build_light()
+            object.__setattr__(self, "_light", lt)
+        return lt
+
+    def _build_light(self) -> Light:  # pragma: no cover - defined by each model
         raise NotImplementedError
 
     @property
@@ -937,12 +945,8 @@ class Pwm(LightModel):
                             self.edges, self.turn_on_delay_s, self.min_on_time_s,
                             self.min_on_mode, self.phase_deg / 360.0 * T)
 
-    def light(self) -> Light:
-        lt = self.__dict__.get("_light")
-        if lt is None:
-            lt = Light((self._train(),), self.ripple, self.describe())
-            object.__setattr__(self, "_light", lt)
-        return lt
+    def _build_light(self) -> Light:
+        return Light((self._train(),), self.ripple, self.describe())
 
 
 @dataclass(frozen=True)
@@ -969,13 +973,9 @@ class ConstantCurrent(LightModel):
             s += f", {self.ripple.percent:g} % {self.ripple.shape} ripple"
         return s
 
-    def light(self) -> Light:
-        lt = self.__dict__.get("_light")
-        if lt is None:
-            period = 1.0 / self.ripple.frequency_hz if self.ripple else 0.01
-            lt = Light((_Train.constant(self.level, period),), self.ripple, self.describe())
-            object.__setattr__(self, "_light", lt)
-        return lt
+    def _build_light(self) -> Light:
+        period = 1.0 / self.ripple.frequency_hz if self.ripple else 0.01
+        return Light((_Train.constant(self.level, period),), self.ripple, self.describe())
 
 
 @dataclass(frozen=True)
@@ -1013,12 +1013,8 @@ class MultiChannel(LightModel):
             s += f", {self.ripple.percent:g} % {self.ripple.shape} ripple"
         return s
 
-    def light(self) -> Light:
-        lt = self.__dict__.get("_light")
-        if lt is None:
-            lt = Light(tuple(c._train() for c in self.channels), self.ripple, self.describe())
-            object.__setattr__(self, "_light", lt)
-        return lt
+    def _build_light(self) -> Light:
+        return Light(tuple(c._train() for c in self.channels), self.ripple, self.describe())
 
 
 def sigma_delta_counts(target_counts: float, extra_bits: int) -> np.ndarray:
@@ -1117,16 +1113,12 @@ class DitheredPwm(LightModel):
         return (f"PWM {self.frequency_hz:g} Hz duty {self.duty * 100:.6g} % on "
                 f"{self.counts_per_period} counts with {self.extra_bits}-bit sigma-delta dither")
 
-    def light(self) -> Light:
-        lt = self.__dict__.get("_light")
-        if lt is None:
-            T = 1.0 / self.frequency_hz
-            widths = self.frame_counts() / self.counts_per_period * T
-            tr = _pulse_train(T, widths, self.off_level, self.on_level, self.edges,
-                              self.turn_on_delay_s, self.min_on_time_s, self.min_on_mode, 0.0)
-            lt = Light((tr,), self.ripple, self.describe())
-            object.__setattr__(self, "_light", lt)
-        return lt
+    def _build_light(self) -> Light:
+        T = 1.0 / self.frequency_hz
+        widths = self.frame_counts() / self.counts_per_period * T
+        tr = _pulse_train(T, widths, self.off_level, self.on_level, self.edges,
+                          self.turn_on_delay_s, self.min_on_time_s, self.min_on_mode, 0.0)
+        return Light((tr,), self.ripple, self.describe())
 
 
 # --------------------------------------------------------------------------- dimming scheme

@@ -25,6 +25,7 @@ from typing import Any, Sequence
 
 import numpy as np
 
+from .curves import whole_number
 from .errors import InputError, SettingsError
 
 #: Default visibility threshold for one step [Delta L*]: the CIE 1976 "just
@@ -114,29 +115,19 @@ def make_counter(bits: int | None = None, top: int | None = None, min_count: int
     if (bits is None) == (top is None):
         raise SettingsError("give the counter as bits or as TOP, not both or neither")
     if bits is not None:
-        b = _whole(bits, "bits")
+        b = whole_number(bits, "bits")
         if not 1 <= b <= 32:
             raise SettingsError(f"bits must be 1 to 32, got {b}")
         t = (1 << b) - 1
     else:
-        t = _whole(top, "TOP")
+        t = whole_number(top, "TOP")
         if not 1 <= t <= MAX_TOP:
             raise SettingsError(f"TOP must be 1 to {MAX_TOP}, got {t}")
         b = t.bit_length() if t == (1 << t.bit_length()) - 1 else None
-    m = _whole(min_count, "minimum on-count")
+    m = whole_number(min_count, "minimum on-count")
     if m < 0 or m > t:
         raise SettingsError(f"minimum on-count must be 0 to TOP ({t}), got {m}")
     return Counter(top=t, bits=b, min_count=m)
-
-
-def _whole(value: Any, name: str) -> int:
-    try:
-        n = int(value)
-    except (TypeError, ValueError):
-        raise SettingsError(f"{name} must be a whole number, got {value!r}") from None
-    if n != value:
-        raise SettingsError(f"{name} must be a whole number, got {value!r}")
-    return n
 
 
 # --------------------------------------------------------------------------- transfer
@@ -842,7 +833,7 @@ def build_table(
     from .curves import Curve, curve_levels, get_curve
 
     counter = make_counter(bits=bits, top=top, min_count=min_count)
-    n = _whole(n_steps, "step count")
+    n = whole_number(n_steps, "step count")
     if n < 2:
         raise SettingsError(f"step count must be at least 2, got {n}")
     if n > counter.levels:

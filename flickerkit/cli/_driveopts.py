@@ -164,3 +164,26 @@ def parse_levels(text: str):
     if bad.size:
         raise SettingsError(f"--levels: level {bad[0]:g} % is outside (0, 100] %")
     return vals / 100.0
+
+
+def emit(args: argparse.Namespace, out: dict, text, write_workbook, reminder: str) -> int:
+    """Print a modelled-light result (JSON with the caution, or text), write its workbook,
+    and remind on stderr that a model is not a measurement."""
+    import sys
+
+    from . import _CAUTION, CAUTION_TEXT
+
+    if args.json:
+        from ..export.jsonout import dumps
+
+        sys.stdout.write(dumps({**out, "caution": CAUTION_TEXT}))
+    else:
+        sys.stdout.write(text(out))
+    if args.xlsx:
+        write_workbook(args.xlsx, out, force=args.force)
+        if not args.quiet:
+            print(f"workbook written: {args.xlsx}", file=sys.stderr)
+    if not args.quiet:
+        print(reminder, file=sys.stderr)
+        print(_CAUTION, file=sys.stderr, end="")
+    return 0

@@ -87,24 +87,11 @@ def run(args: argparse.Namespace) -> int:
             return tqdm(it, file=sys.stderr, disable=None, unit="level", leave=False)
     result = sweep(drive, levels, progress=progress)
     out = result.to_dict()
-    if args.json:
-        from ..export.jsonout import dumps
-        from . import CAUTION_TEXT
+    from ._driveopts import emit
 
-        sys.stdout.write(dumps({**out, "caution": CAUTION_TEXT}))
-    else:
-        sys.stdout.write(table(out))
-    if args.xlsx:
-        write_workbook(args.xlsx, out, force=args.force)
-        if not args.quiet:
-            print(f"workbook written: {args.xlsx}", file=sys.stderr)
-    if not args.quiet:
-        from . import _CAUTION
-
-        print("modelled light: figures hold for the model as described, not for a built "
-              "product; measure the product.", file=sys.stderr)
-        print(_CAUTION, file=sys.stderr, end="")
-    return 0
+    return emit(args, out, table, write_workbook,
+                "modelled light: figures hold for the model as described, not for a built "
+                "product; measure the product.")
 
 
 def table(out: dict) -> str:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import sys
 
 from ._driveopts import add_drive_options
 
@@ -116,24 +115,10 @@ def run(args: argparse.Namespace) -> int:
     levels = default_levels(res.min_level, args.levels)
     out = plan(drive, targets, levels=levels, range_hz=rng, timer=timer, prescalers=pres,
                resolution=res)
-    if args.json:
-        from ..export.jsonout import dumps
-        from . import CAUTION_TEXT
+    from ._driveopts import emit
 
-        sys.stdout.write(dumps({**out, "caution": CAUTION_TEXT}))
-    else:
-        sys.stdout.write(text(out))
-    if args.xlsx:
-        write_workbook(args.xlsx, out, force=args.force)
-        if not args.quiet:
-            print(f"workbook written: {args.xlsx}", file=sys.stderr)
-    if not args.quiet:
-        from . import _CAUTION
-
-        print("modelled light: verify the chosen setting by measuring the product.",
-              file=sys.stderr)
-        print(_CAUTION, file=sys.stderr, end="")
-    return 0
+    return emit(args, out, text, write_workbook,
+                "modelled light: verify the chosen setting by measuring the product.")
 
 
 def text(out: dict) -> str:
