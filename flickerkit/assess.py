@@ -16,7 +16,7 @@ from typing import Any
 
 import numpy as np
 
-from . import flickermeter, ieee1789, metrics, reduce, svm
+from . import flickermeter, ieee1789, metrics, modulation, reduce, svm
 from .capture import Capture
 from .errors import CaptureWarning, FlickerkitWarning, InputError, SettingsError
 from .filtered import FilteredFlicker, filtered_percent_flicker
@@ -73,6 +73,10 @@ class AssessSettings:
     lamp : str
         Voltage captures only: ``"230V"``, ``"120V"`` or ``"auto"`` (by the
         mains frequency: 45-55 Hz -> 230V, 55-65 Hz -> 120V).
+    detector_bandwidth_hz : float or None
+        Bandwidth of the detector and its amplifier [Hz], if known. Above half
+        the sample rate, content beyond it may have folded down (aliasing);
+        at or below it, no component can be an alias. None: unknown.
     """
 
     ieee1789_mode: str = "fundamental"
@@ -82,8 +86,12 @@ class AssessSettings:
     pst_calibration: str | Calibration | None = None
     pst_observation_s: float | None = None
     lamp: str = "auto"
+    detector_bandwidth_hz: float | None = None
 
     def __post_init__(self) -> None:
+        bw = self.detector_bandwidth_hz
+        if bw is not None and not (np.isfinite(bw) and bw > 0):
+            raise SettingsError(f"detector bandwidth must be a positive number of Hz, got {bw:g}")
         if self.ieee1789_mode not in ("fundamental", "per-harmonic"):
             raise ValueError(f"ieee1789_mode must be 'fundamental' or 'per-harmonic', "
                              f"got {self.ieee1789_mode!r}")
@@ -174,10 +182,17 @@ class Assessment:
     pst_lm: PstResult | None = None
     pst_lm_calibration: str = ""
     filtered: FilteredFlicker | None = None
+    modulation: modulation.ModulationAnalysis | None = None
+    below_90hz: modulation.LowFrequencyModulation | None = None
+    ieee1789_headline: ieee1789.Ieee1789Result | None = None
+    edge_notes: tuple[str, ...] = ()
 
     @property
     def ieee1789(self) -> ieee1789.Ieee1789Result | None:
-        """The headline IEEE 1789 result, in the mode the settings chose."""
+        """The headline IEEE 1789 result: the reading in the mode the settings chose, or
+        a worse one from a modulation not locked to the fundamental (see ``decided_by``)."""
+        if self.ieee1789_headline is not None:
+            return self.ieee1789_headline
         if self.settings.ieee1789_mode == "per-harmonic" and self.ieee1789_per_harmonic:
             return self.ieee1789_per_harmonic
         return self.ieee1789_fundamental
@@ -197,6 +212,8 @@ class Assessment:
                 "low_risk_margin_percent": num(r.low_risk_margin_percent),
                 "noel_margin_percent": num(r.noel_margin_percent),
                 "harmonic": r.harmonic,
+                "decided_by": r.decided_by,
+                "edge": r.edge,
             }
 
         head = ieee(self.ieee1789)
@@ -248,6 +265,9 @@ class Assessment:
             "filtered_percent_flicker": (
                 {k: num(v) for k, v in self.filtered.as_mapping().items()}
                 if self.filtered else None),
+            "modulation": self.modulation.to_dict() if self.modulation else None,
+            "below_90hz": self.below_90hz.to_dict() if self.below_90hz else None,
+            "edge_notes": list(self.edge_notes),
             "warnings": list(self.warnings),
             "notes": list(self.notes),
         }
@@ -439,11 +459,28 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
                                   float(spec.amplitudes[b]), float(np.degrees(ph))))
 
-    fund = per_h = None
+    modul = modulation.analyse(spec, fs, template=template,
+                               period_samples=period.period_samples,
+                               detector_bandwidth_hz=settings.detector_bandwidth_hz)
+    cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))
+    filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
+                                    max_samples=cap,
+                                    bands_hz=tuple((lo, hi) for lo, hi, _ in
+                                                   ieee1789.SEGMENTS_HZ))
+    fund = per_h = head_ieee = None
     if period.frequency_hz is not None:
-        fund = ieee1789.classify(period.frequency_hz, pf)
+        fund = ieee1789.classify(period.frequency_hz, pf,
+                                 edge_tolerance_hz=max(modul.fundamental_uncertainty_hz,
+                                                       modulation.EDGE_RTOL
+                                                       * period.frequency_hz))
         if bins.size:
-            per_h = ieee1789.classify_components(spec.frequencies_hz[bins], spec.amplitudes[bins])
+            # harmonic h is at h f0 (its bin's frequency carries the span's rounding)
+            per_h = ieee1789.classify_components(
+                period.frequency_hz * np.arange(1, bins.size + 1), spec.amplitudes[bins])
+        reading = per_h if settings.ieee1789_mode == "per-harmonic" and per_h else fund
+        head_ieee = _composite_ieee(reading, modul, filt)
+    below = _below_90(modul, filt)
+    edges = _edge_notes(modul, settings)
 
     svm_result = _svm(spec, capture, settings)
     pst_result = None
@@ -452,9 +489,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
             pst_result = meter.result(settings.pst_observation_s)
         except InputError as exc:
             warnings.warn(CaptureWarning(f"no Pst LM: {exc}; pst_lm is null"))
-    cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))
-    filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
-                                    max_samples=cap)
 
     return Assessment(
         label=capture.label,
@@ -488,7 +522,75 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         pst_lm=pst_result,
         pst_lm_calibration=calibration.name,
         filtered=filt,
+        modulation=modul,
+        below_90hz=below,
+        ieee1789_headline=head_ieee,
+        edge_notes=edges,
     )
+
+
+#: Components smaller than this are not named in edge notes (they cannot move a
+#: figure by more than 0.1 %) [unitless]. Chosen here.
+_EDGE_NOTE_MIN = 1e-3
+
+
+def _composite_ieee(reading: ieee1789.Ieee1789Result, modul: modulation.ModulationAnalysis,
+                    filt: FilteredFlicker) -> ieee1789.Ieee1789Result:
+    """The reading, or worse: each unlocked component and band-limited depth at its frequency."""
+    judged = modul.judged()
+    unrelated = [c for c in judged if c.kind == "unrelated"]
+    if not unrelated:
+        return reading
+    comps = [(c.frequency_hz, c.amplitude, c.uncertainty_hz) for c in unrelated]
+    bands = []
+    segs = ieee1789.SEGMENTS_HZ
+    depth = {(lo, hi): pf for lo, hi, pf in filt.bands}
+    for i, (lo, hi, label) in enumerate(segs):
+        inside = [c for c in judged if modulation.segment_of(c, segs) == i]
+        if not inside or inside[0].kind != "unrelated" or (lo, hi) not in depth:
+            continue  # the strongest is a harmonic: the standard's reading covers it
+        m = depth[(lo, hi)]
+        if np.isfinite(m):
+            bands.append((label, inside[0].frequency_hz, m, inside[0].uncertainty_hz))
+    return ieee1789.judge_modulation(reading, comps, bands)
+
+
+def _below_90(modul: modulation.ModulationAnalysis,
+              filt: FilteredFlicker) -> modulation.LowFrequencyModulation:
+    """Modulation depth below 90 Hz (low-passed), or None-valued when nothing is there."""
+    segs = ieee1789.SEGMENTS_HZ
+    low = [c for c in modul.judged() if modulation.segment_of(c, segs) == 0]
+    if not low:
+        return modulation.LowFrequencyModulation(None, None, 0)
+    lo, hi, _ = segs[0]
+    m = next((pf for a, b, pf in filt.bands if (a, b) == (lo, hi)), None)
+    return modulation.LowFrequencyModulation(num(m), low[0].frequency_hz, len(low))
+
+
+def _edge_notes(modul: modulation.ModulationAnalysis,
+                settings: AssessSettings) -> tuple[str, ...]:
+    """Which figures have a component on an edge (treated inclusively; see modulation.on_edge)."""
+    from .filtered import JA10_CUTOFFS_HZ
+
+    edges = [(settings.svm_f_min_hz, "the SVM band's lower end", "included"),
+             (svm.DEFAULT_F_MAX_HZ, "the SVM band's upper end", "included")]
+    edges += [(fc, f"the JA10.6 {fc:g} Hz cut-off", "kept") for fc in JA10_CUTOFFS_HZ]
+    edges += [(ieee1789.LOW_FREQUENCY_BREAK_HZ, "the IEEE 1789 90 Hz break",
+               "judged on the upper segment"),
+              (ieee1789.LOW_RISK_EXEMPT_ABOVE_HZ, "the IEEE 1789 1250 Hz break",
+               "the low-risk line applies"),
+              (ieee1789.NOEL_EXEMPT_ABOVE_HZ, "the IEEE 1789 3000 Hz break",
+               "the no-observable-effect line applies")]
+    out = []
+    for c in modul.judged():
+        if c.amplitude < _EDGE_NOTE_MIN:
+            continue
+        for e, what, rule in edges:
+            if e > 0 and modulation.on_edge(c.frequency_hz, e, c.uncertainty_hz):
+                out.append(f"component {c.frequency_hz:.6g} Hz ({100 * c.amplitude:.3g} %) sits "
+                           f"on {what} within its uncertainty (+-{c.uncertainty_hz:.2g} Hz): "
+                           f"{rule}")
+    return tuple(dict.fromkeys(out))
 
 
 def _svm(spec: Spectrum, capture: Capture, settings: AssessSettings) -> SvmResult | None:

@@ -238,8 +238,9 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         metric="below_90hz_modulation", comparison="<=", schedule=((None, 5.0),),
         confidence="sourced", requires=("periodic",), unit="%",
         note="Guidance: all flicker below 90 Hz should satisfy Mod% <= 5 %. Applied to the "
-             "overall percent flicker when the fundamental is below 90 Hz; otherwise not "
-             "applicable.",
+             "modulation depth of the light low-passed below 90 Hz (every component below "
+             "90 Hz, whatever carrier rides above); not applicable only when nothing below "
+             "90 Hz stands above the noise.",
     ),
     Criterion(
         id="nema77-guidance-svm",
@@ -409,17 +410,33 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
         ok = ieee["region"] in (("low-risk", "no-observable-effect") if which == "low_risk"
                                 else ("no-observable-effect",))
         margin = None if limit is None else limit - measured
+        decided = ieee.get("decided_by") or ieee["mode"]
         how = (f"{ieee['mode']} mode at {ieee['frequency_hz']:.5g} Hz"
+               + (f", decided by {decided}" if decided not in (ieee["mode"], "") else "")
+               + (f"; {ieee['edge']}" if ieee.get("edge") else "")
                + ("" if limit is not None else "; exempt above the upper frequency"))
         return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
                        margin=margin, reason=how)
 
     if criterion.metric == "below_90hz_modulation":
         f = record.get("frequency_hz")
-        if f is None:
+        low = record.get("below_90hz")
+        if f is None and not (low and low.get("modulation_percent") is not None):
             status, reason = _no_period_reason(record)
             return Verdict(**v, status=status, measured=None, limit=limit, margin=None,
                            reason=reason)
+        if isinstance(low, Mapping):
+            # the light low-passed below 90 Hz, whatever carrier rides above it
+            if low.get("modulation_percent") is None:
+                return Verdict(**v, status="not applicable", measured=None, limit=limit,
+                               margin=None,
+                               reason="nothing below 90 Hz stands above the noise")
+            measured = float(low["modulation_percent"])
+            ok = measured <= limit
+            return Verdict(**v, status="pass" if ok else "fail", measured=measured,
+                           limit=limit, margin=limit - measured,
+                           reason=f"modulation depth below 90 Hz (low-passed, strongest "
+                                  f"component {low['frequency_hz']:.4g} Hz) <= {limit:g} %")
         if f >= 90.0:
             return Verdict(**v, status="not applicable", measured=None, limit=limit, margin=None,
                            reason="no modulation below 90 Hz")

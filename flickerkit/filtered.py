@@ -40,8 +40,11 @@ JA10_CUTOFFS_HZ = (40.0, 90.0, 200.0, 400.0, 1000.0)
 #: Components smaller than this fraction of the mean are treated as absent.
 _NEGLIGIBLE = 1e-12
 
-#: Relative tolerance with which a bin "at" a cut-off is recognised as such.
-_AT_CUTOFF_RTOL = 1e-9
+#: Relative tolerance with which a bin "at" a cut-off is recognised as such: the
+#: frequency uncertainty of a harmonic of the found period (20 ppm, see
+#: :data:`flickerkit.modulation.EDGE_RTOL`), plus the bin rounding of the span
+#: (``0.5 / n``), so a component on a cut-off is kept on every capture of the same light.
+_AT_CUTOFF_RTOL = 2e-5
 
 
 @dataclass(frozen=True)
@@ -64,6 +67,11 @@ class FilteredFlicker:
         Their length [s].
     warnings : tuple of str
         Doubts about the figures (also issued as :class:`CaptureWarning`).
+    bands : tuple of (float, float, float)
+        Band-limited modulation depth ``(low [Hz], high [Hz], percent)``: the
+        percent flicker of the mean plus only the components in the band
+        (``low <= f < high`` for the lowest band starting at 0, else
+        ``low < f <= high``, with the cut-off tolerance) [percent].
     """
 
     cutoffs_hz: tuple[float, ...]
@@ -72,6 +80,7 @@ class FilteredFlicker:
     n_samples: int
     duration_s: float
     warnings: tuple[str, ...] = ()
+    bands: tuple[tuple[float, float, float], ...] = ()
 
     def as_mapping(self) -> dict[str, float]:
         """``{"40": pf, "90": pf, ...}``: cut-off [Hz] as text -> percent flicker [percent]."""
@@ -97,6 +106,7 @@ def filtered_percent_flicker(
     *,
     cutoffs_hz: tuple[float, ...] | list[float] = JA10_CUTOFFS_HZ,
     max_samples: int | None = None,
+    bands_hz: tuple[tuple[float, float], ...] = (),
 ) -> FilteredFlicker:
     """Percent flicker after removing the components above each cut-off (JA10.6).
 
@@ -118,6 +128,9 @@ def filtered_percent_flicker(
         10-million-sample capture take about a second; JA10.5 asks for at
         least 1 s of data, so a limit of ``max(2**20, 1 s)`` loses nothing the
         procedure needs.
+    bands_hz : sequence of (float, float), optional
+        Bands ``(low, high)`` [Hz] whose band-limited modulation depth is also
+        wanted (see :attr:`FilteredFlicker.bands`); same transform.
 
     Returns
     -------
@@ -134,7 +147,7 @@ def filtered_percent_flicker(
     -----
     Over the span of P whole periods (N samples): ``X = rfft(x)``; for each
     cut-off f_c the bins with ``f_k > f_c`` are set to zero (a bin within a
-    relative 1e-9 of f_c counts as at the cut-off and is kept), ``y = irfft(X)``
+    relative ``2e-5 + 0.5/N`` of f_c counts as at the cut-off and is kept), ``y = irfft(X)``
     and ``PF = 100 (max y - min y) / (max y + min y)``.
 
     References
@@ -181,12 +194,13 @@ def filtered_percent_flicker(
     # and one that keeps the same ones as the previous cut-off gives the same waveform
     significant = np.abs(spec) > _NEGLIGIBLE * abs(spec[0])
     significant[0] = False
+    rtol = _AT_CUTOFF_RTOL + 0.5 / max(n, 1)
     last_count, last_value, last_fc = None, None, -np.inf
     for fc in cutoffs:
         if fc >= nyquist:
             notes.append(f"cut-off {fc:g} Hz is at or above the Nyquist frequency "
                          f"{nyquist:g} Hz; nothing is removed there")
-        keep = freqs <= fc * (1.0 + _AT_CUTOFF_RTOL)
+        keep = freqs <= fc * (1.0 + rtol)
         count = int(np.count_nonzero(significant & keep))
         if count == 0 and spec[0].real > 0:
             out.append(0.0)
@@ -201,7 +215,25 @@ def filtered_percent_flicker(
         value = 100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan")
         out.append(value)
         last_count, last_value, last_fc = count, value, fc
+    bands = []
+    for lo_hz, hi_hz in bands_hz:
+        if lo_hz <= 0:
+            sel = freqs < hi_hz * (1.0 - rtol)
+        else:
+            sel = (freqs > lo_hz * (1.0 + rtol)) & (freqs <= hi_hz * (1.0 + rtol))
+        sel[0] = False
+        if not np.any(significant & sel):
+            bands.append((float(lo_hz), float(hi_hz), 0.0))
+            continue
+        work[:] = 0.0
+        work[sel] = spec[sel]
+        work[0] = spec[0]
+        y = fft.irfft(work, n)
+        hi, lo = float(y.max()), float(y.min())
+        bands.append((float(lo_hz), float(hi_hz),
+                      100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan")))
     for note in notes:
         warnings.warn(note, CaptureWarning, stacklevel=2)
     return FilteredFlicker(cutoffs_hz=cutoffs, percent_flicker=tuple(out), whole_periods=int(p),
-                           n_samples=int(n), duration_s=n / fs, warnings=tuple(notes))
+                           n_samples=int(n), duration_s=n / fs, warnings=tuple(notes),
+                           bands=tuple(bands))

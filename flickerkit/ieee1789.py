@@ -14,7 +14,15 @@ no observable effect     Mod% < 0.01 f    Mod% < 0.0333 f (3000 Hz)  no restrict
 
 Edge semantics chosen here (documented, tested): the comparison is strict
 (``<``); f = 90 Hz belongs to the upper segment; at exactly 1250 Hz (3000 Hz)
-the line applies, above it there is no restriction.
+the line applies, above it there is no restriction. A measured frequency
+within its uncertainty of a break (``edge_tolerance_hz``) is taken as lying
+on it, so every capture of the same light lands on the same side.
+
+Composite light (:func:`judge_modulation`): besides the standard's reading
+(overall Mod% at the fundamental), each modulation not locked to the
+fundamental is judged at its own frequency, and so is the band-limited
+modulation depth of each segment of the lines that holds one; the headline is
+the worst, and says what decided it.
 
 IEEE 1789 states its practices for a waveform's flicker frequency and its
 overall modulation. The "fundamental" mode does exactly that. The
@@ -38,6 +46,36 @@ LOW_RISK_SLOPES = (0.025, 0.08)
 LOW_RISK_EXEMPT_ABOVE_HZ = 1250.0
 NOEL_SLOPES = (0.01, 0.0333)
 NOEL_EXEMPT_ABOVE_HZ = 3000.0
+#: Frequencies where a line changes (slope or exemption) [Hz].
+BREAKS_HZ = (LOW_FREQUENCY_BREAK_HZ, LOW_RISK_EXEMPT_ABOVE_HZ, NOEL_EXEMPT_ABOVE_HZ)
+#: Segments of the lines as bands for band-limited depths: (low, high, label) [Hz];
+#: the low segment excludes 90 Hz, the others include their upper break.
+SEGMENTS_HZ = ((0.0, LOW_FREQUENCY_BREAK_HZ, "below 90 Hz"),
+               (LOW_FREQUENCY_BREAK_HZ, LOW_RISK_EXEMPT_ABOVE_HZ, "90-1250 Hz"),
+               (LOW_RISK_EXEMPT_ABOVE_HZ, NOEL_EXEMPT_ABOVE_HZ, "1250-3000 Hz"))
+
+
+def snap_to_break(f_hz: float, tolerance_hz: float) -> tuple[float, str]:
+    """A frequency within ``tolerance_hz`` of a break, moved onto it.
+
+    Parameters
+    ----------
+    f_hz, tolerance_hz : float
+        Frequency and its uncertainty [Hz].
+
+    Returns
+    -------
+    frequency_hz : float
+        The break, or ``f_hz`` unchanged [Hz].
+    note : str
+        Empty, or which break it sits on.
+    """
+    for b in BREAKS_HZ:
+        if tolerance_hz > 0 and abs(f_hz - b) <= tolerance_hz and f_hz != b:
+            return b, f"{f_hz:.6g} Hz is on the {b:g} Hz break within its uncertainty"
+        if f_hz == b:
+            return b, f"on the {b:g} Hz break"
+    return f_hz, ""
 
 
 def _limit(f_hz, slopes, exempt_above_hz) -> np.ndarray | float:
@@ -138,6 +176,11 @@ class Ieee1789Result:
         ``"fundamental"`` or ``"per-harmonic"``.
     harmonic : int or None
         In per-harmonic mode, the order of the component that decided.
+    decided_by : str
+        What decided the region: ``"fundamental"``, ``"harmonic k"``, a
+        component (``"component 20 Hz"``) or a band (``"band below 90 Hz"``).
+    edge : str
+        Non-empty when the frequency judged sits on a break of the lines.
     """
 
     region: str
@@ -149,10 +192,13 @@ class Ieee1789Result:
     noel_margin_percent: float
     mode: str = "fundamental"
     harmonic: int | None = None
+    decided_by: str = ""
+    edge: str = ""
 
 
 def classify(frequency_hz: float, modulation_percent: float, *, mode: str = "fundamental",
-             harmonic: int | None = None) -> Ieee1789Result:
+             harmonic: int | None = None, edge_tolerance_hz: float = 0.0,
+             decided_by: str = "") -> Ieee1789Result:
     """Place one (frequency, modulation) point against the IEEE 1789 lines.
 
     Parameters
@@ -161,8 +207,12 @@ def classify(frequency_hz: float, modulation_percent: float, *, mode: str = "fun
         Fundamental modulation frequency [Hz].
     modulation_percent : float
         Percent flicker (overall Mod%) [percent].
-    mode, harmonic
+    mode, harmonic, decided_by
         Recorded in the result (see :class:`Ieee1789Result`).
+    edge_tolerance_hz : float, optional
+        Uncertainty of a measured frequency [Hz]: within it of a break the
+        frequency is judged on the break (see the module notes). 0 for exact
+        (modelled) frequencies.
 
     Returns
     -------
@@ -179,10 +229,11 @@ def classify(frequency_hz: float, modulation_percent: float, *, mode: str = "fun
     >>> classify(100.0, 8.1).region
     'above-low-risk'
     """
-    lr = low_risk_limit_percent(frequency_hz)
-    noel = noel_limit_percent(frequency_hz)
+    f_judged, edge = snap_to_break(float(frequency_hz), float(edge_tolerance_hz))
+    lr = low_risk_limit_percent(f_judged)
+    noel = noel_limit_percent(f_judged)
     return Ieee1789Result(
-        region=region_of(frequency_hz, modulation_percent),
+        region=region_of(f_judged, modulation_percent),
         frequency_hz=float(frequency_hz),
         modulation_percent=float(modulation_percent),
         low_risk_limit_percent=float(lr),
@@ -191,7 +242,60 @@ def classify(frequency_hz: float, modulation_percent: float, *, mode: str = "fun
         noel_margin_percent=float(noel - modulation_percent),
         mode=mode,
         harmonic=harmonic,
+        decided_by=decided_by or (mode if harmonic is None else f"harmonic {harmonic}"),
+        edge=edge,
     )
+
+
+def _badness(r: Ieee1789Result) -> tuple[int, float]:
+    """Sort key: worse region first, then the smaller relative margin to the NOEL line."""
+    rank = REGIONS.index(r.region)
+    noel = r.noel_limit_percent
+    rel = np.inf if not np.isfinite(noel) else (noel - r.modulation_percent) / (noel or 1.0)
+    return (-rank, float(rel))
+
+
+def judge_modulation(reading: Ieee1789Result,
+                     components: list[tuple[float, float, float]],
+                     bands: list[tuple[str, float, float, float]]) -> Ieee1789Result:
+    """The worst of the standard's reading, unlocked components and band-limited depths.
+
+    Parameters
+    ----------
+    reading : Ieee1789Result
+        The standard's reading (fundamental mode) or the per-harmonic one.
+    components : list of (frequency [Hz], amplitude C [unitless], uncertainty [Hz])
+        Components not locked to the fundamental; each is judged with
+        ``Mod% = 100 C`` at its own frequency.
+    bands : list of (label, frequency [Hz], modulation [percent], uncertainty [Hz])
+        Band-limited modulation depth of each segment of the lines that holds
+        such a component, judged at the frequency of its strongest component.
+
+    Returns
+    -------
+    Ieee1789Result
+        The worst (region first, then relative margin to the NOEL line), with
+        ``decided_by`` naming it; ``reading`` itself when nothing is worse.
+
+    Notes
+    -----
+    A project extension for light with more than one modulation (IEEE 1789
+    states its practices for a waveform's flicker frequency and modulation;
+    it does not say how to read a waveform that carries two). Harmonics of the
+    fundamental stay with the standard's reading.
+    """
+    best = reading
+    for f, c, u in components:
+        r = classify(f, 100.0 * c, mode=reading.mode, edge_tolerance_hz=u,
+                     decided_by=f"component {f:.5g} Hz")
+        if _badness(r) < _badness(best):
+            best = r
+    for label, f, m, u in bands:
+        r = classify(f, m, mode=reading.mode, edge_tolerance_hz=u,
+                     decided_by=f"band {label} (at {f:.5g} Hz)")
+        if _badness(r) < _badness(best):
+            best = r
+    return best
 
 
 def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> Ieee1789Result:
@@ -239,4 +343,5 @@ def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> I
         noel_margin_percent=float(noel[i] - m[i]),
         mode="per-harmonic",
         harmonic=i + 1,
+        decided_by=f"harmonic {i + 1}",
     )

@@ -431,7 +431,11 @@ def svm_of_spectrum(
     threshold : str or ThresholdModel, optional
         Threshold model name (see :data:`THRESHOLDS`).
     f_min_hz, f_max_hz : float, optional
-        Band of components summed, both ends included [Hz].
+        Band of components summed, both ends included [Hz]. A component within
+        its frequency uncertainty of an end counts as on it and is summed:
+        20 ppm (:data:`flickerkit.modulation.EDGE_RTOL`) plus half a sample of
+        span rounding for whole-period spectra, a tenth of a bin for windowed
+        ones.
 
     Returns
     -------
@@ -460,9 +464,20 @@ def svm_of_spectrum(
     ----------
     CIE TN 006:2016; IEC TR 63158:2018 + COR1:2018, Annex A.
     """
+    from .modulation import EDGE_RTOL
+
     model = get_threshold(threshold)
     _check_band(f_min_hz, f_max_hz)
     notes: list[str] = []
+    # measured frequencies are uncertain: a component within that of a band end is in the
+    # band (inclusive rule), so every capture of the same light gives the same SVM
+    if spectrum.window.startswith("rectangular") and spectrum.whole_periods >= 1:
+        rtol = EDGE_RTOL + 0.5 / max(spectrum.n_samples, 1)  # period error + bin rounding
+        tol_lo, tol_hi = f_min_hz * rtol, f_max_hz * rtol
+    else:
+        df = spectrum.resolution_hz if np.isfinite(spectrum.resolution_hz) else 0.0
+        tol_lo, tol_hi = max(f_min_hz * EDGE_RTOL, 0.1 * df), max(f_max_hz * EDGE_RTOL, 0.1 * df)
+    band_lo, band_hi = max(f_min_hz - tol_lo, 0.0), f_max_hz + tol_hi
     if spectrum.window.startswith("rectangular") and spectrum.whole_periods >= 1:
         method = "whole-period"
         f_fund = spectrum.fundamental_hz
@@ -470,8 +485,8 @@ def svm_of_spectrum(
                        f"{f_fund:.6g} Hz, rectangular window (no leakage)")
         all_f = np.asarray(spectrum.frequencies_hz)
         # bins are sorted: keep the band only (a 10-minute capture has millions of bins)
-        lo = int(np.searchsorted(all_f, f_min_hz * (1 - 1e-9), side="left"))
-        hi = int(np.searchsorted(all_f, f_max_hz * (1 + 1e-9), side="right"))
+        lo = int(np.searchsorted(all_f, band_lo, side="left"))
+        hi = int(np.searchsorted(all_f, band_hi, side="right"))
         freqs = all_f[lo:hi]
         amps = np.asarray(spectrum.amplitudes)[lo:hi]
         harmonic = np.zeros(freqs.size, dtype=bool)
@@ -488,7 +503,7 @@ def svm_of_spectrum(
         freqs, amps = hann_components(spectrum)
         harmonic = np.ones(freqs.size, dtype=bool)
 
-    terms = _terms(freqs, amps, model, f_min_hz, f_max_hz)
+    terms = _terms(freqs, amps, model, band_lo, band_hi)
     total = float(np.sum(terms))
     value = total ** (1.0 / MINKOWSKI_EXPONENT)
 

@@ -63,3 +63,18 @@ def test_whole_period_spectrum_has_no_leakage():
     assert s.window == "rectangular"
     np.testing.assert_allclose(s.amplitudes[bins], expected, rtol=2e-3)
     np.testing.assert_allclose(s.frequencies_hz[bins], f * k, rtol=REL_TOL)
+
+
+def test_period_is_precise_enough_for_band_edges():
+    # 70-200 periods of a sine or PWM at random sample rates: the period must be within
+    # 1 ppm (analytic: the frequency the light was made with), far inside the 20 ppm edge
+    # tolerance, so a component on a band edge is found on it every time
+    rng = np.random.default_rng(90)
+    for _ in range(12):
+        fs = float(rng.uniform(20e3, 120e3))
+        f = float(rng.choice([80.0, 90.0, 1234.56]))
+        d = float(rng.uniform(70, 200)) / f
+        x = (sine(f, 0.2, fs, d, phase=float(rng.uniform(0, 6)))
+             if f < 100 else pwm(f, 0.3, 0.1, fs, d, phase=float(rng.uniform())))
+        p = fundamental_frequency(x, fs)
+        assert abs(p.frequency_hz / f - 1) < 1e-6
