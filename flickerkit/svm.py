@@ -536,3 +536,55 @@ def svm_of_spectrum(
         method_note=method_note,
         warnings=tuple(notes),
     )
+
+
+def svm_result_from_components(
+    frequencies_hz: np.ndarray,
+    amplitudes: np.ndarray,
+    *,
+    threshold: str | ThresholdModel = "power",
+    f_min_hz: float = DEFAULT_F_MIN_HZ,
+    f_max_hz: float = DEFAULT_F_MAX_HZ,
+    method: str = "components",
+    method_note: str = "components given directly",
+) -> SvmResult:
+    """A full :class:`SvmResult` from known components (a model's exact Fourier series).
+
+    Parameters
+    ----------
+    frequencies_hz, amplitudes : numpy.ndarray
+        Component frequencies [Hz] and amplitudes relative to the mean [unitless].
+    threshold : str or ThresholdModel
+        Threshold model (see :data:`THRESHOLDS`).
+    f_min_hz, f_max_hz : float
+        Band summed, both ends included [Hz].
+    method, method_note : str
+        How the components were obtained, for reports.
+
+    Returns
+    -------
+    SvmResult
+        The same value as :func:`svm_from_components`, with the contributing
+        components listed as :func:`svm_of_spectrum` lists them.
+
+    References
+    ----------
+    CIE TN 006:2016; IEC TR 63158:2018 + COR1:2018, Annex A.
+    """
+    model = get_threshold(threshold)
+    _check_band(f_min_hz, f_max_hz)
+    f = np.asarray(frequencies_hz, dtype=np.float64).ravel()
+    c = np.asarray(amplitudes, dtype=np.float64).ravel()
+    terms = _terms(f, c, model, f_min_hz, f_max_hz) if f.size else np.zeros(0)
+    total = float(np.sum(terms))
+    order = np.argsort(terms)[::-1][:MAX_LISTED_COMPONENTS]
+    comps = tuple(
+        SvmComponent(frequency_hz=float(f[i]), amplitude=float(c[i]),
+                     threshold=float(model(f[i])), share=float(terms[i] / total))
+        for i in order if total > 0 and terms[i] >= 1e-3 * total)
+    notes = ((f"SVM threshold model {model.name!r} is {model.status}",)
+             if model.status != "sourced" else ())
+    return SvmResult(value=float(total ** (1.0 / MINKOWSKI_EXPONENT)), threshold=model.name,
+                     threshold_status=model.status, f_min_hz=float(f_min_hz),
+                     f_max_hz=float(f_max_hz), components=comps, method=method,
+                     method_note=method_note, warnings=notes)
