@@ -428,10 +428,12 @@ class FrequencyResult:
     limiting_target: str | None
 
     def to_dict(self) -> dict:
+        """JSON object; the limiting level in percent."""
+        lv = None if self.limiting_level is None else 100.0 * self.limiting_level
         return {"targets": [t.name for t in self.targets], "frequency_hz": self.frequency_hz,
                 "holds_at_all_higher_frequencies_checked": self.holds_above,
                 "isolated_passing_below_hz": list(self.passing_below_hz),
-                "limiting_level": self.limiting_level, "limiting_target": self.limiting_target}
+                "limiting_level": lv, "limiting_target": self.limiting_target}
 
 
 def lowest_frequency(
@@ -691,7 +693,7 @@ def plan(
     out: dict = {
         "drive": drive.describe(),
         "targets": [t.name for t in targets],
-        "levels": [float(x) for x in lv],
+        "levels": [100.0 * float(x) for x in lv],  # percent at the JSON edge
         "range_hz": list(range_hz),
         "lowest_frequency_hz": combined.frequency_hz,
         "frequency": combined.to_dict(),
@@ -777,7 +779,7 @@ def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequ
     need_svm = any(t.kind == "svm" for t in targets)
     figs = [figures(hyb.at(lv), lv, need_svm=need_svm) for lv in levels]
     met = [t.name for t in targets if all(f.meets(t) for f in figs)]
-    return {"option": "hybrid dimming", "possible": True, "crossover": c,
+    return {"option": "hybrid dimming", "possible": True, "crossover_level": 100.0 * c,
             "frequency_hz": s.frequency_hz, "counts_per_period": s.counts, "meets": met,
             "cost": f"analogue (constant-current) dimming from 100 % down to {c * 100:.3g} %, "
                     f"PWM at {c * 100:.3g} % current below: needs a settable current "

@@ -136,10 +136,12 @@ class SweepResult:
         Description of the drive.
     records : tuple of dict
         One per level, in the order given: ``Assessment.to_dict()`` plus
-        ``level``, ``relative_light``, ``model_percent_flicker`` and ``svm``.
+        ``level`` [fraction 0-1 here, percent in :meth:`to_dict`],
+        ``relative_light``, ``model_percent_flicker`` and ``svm``.
     first_failing : dict
         Criterion name -> first level (scanning from the highest level down)
-        that fails it, or None when no level fails it.
+        that fails it, or None when no level fails it [fraction; percent in
+        :meth:`to_dict`].
     not_assessed : tuple of str
         Criteria that no level gives the figure for (e.g. Pst LM, which needs
         more light than a sweep models): their None in ``first_failing``
@@ -152,8 +154,14 @@ class SweepResult:
     not_assessed: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
-        return {"drive": self.drive, "levels": list(self.records),
-                "first_failing_level": self.first_failing,
+        """The JSON object: dimming levels in percent (``level``, ``first_failing_level``),
+        as ``report`` gives them; ``relative_light`` stays a fraction of full output."""
+        def pct(v):
+            return None if v is None else 100.0 * v
+
+        return {"drive": self.drive,
+                "levels": [{**r, "level": pct(r["level"])} for r in self.records],
+                "first_failing_level": {k: pct(v) for k, v in self.first_failing.items()},
                 "not_assessed": list(self.not_assessed)}
 
 

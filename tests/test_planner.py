@@ -95,7 +95,7 @@ def test_plan_with_timer_feasible_and_not():
                                                              rel=1e-3)
     assert d["lowest_component_hz"] == pytest.approx(d["pattern_frequency_hz"])
     h = opts["hybrid dimming"]
-    assert h["possible"] and 0.001 < h["crossover"] < 1
+    assert h["possible"] and 0.1 < h["crossover_level"] < 100  # percent at the JSON edge
 
 
 def test_plan_blames_the_minimum_pulse_not_the_resolution():

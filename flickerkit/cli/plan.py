@@ -133,7 +133,7 @@ def text(out: dict) -> str:
     from ..export.table import fmt, render
 
     s = [f"drive: {out['drive']}",
-         f"targets: {', '.join(out['targets'])} at levels {100 * min(out['levels']):.3g} % to "
+         f"targets: {', '.join(out['targets'])} at levels {min(out['levels']):.3g} % to "
          f"100 %",
          f"lowest PWM frequency meeting all targets on an exact clock: "
          f"{out['lowest_frequency_hz']:.6g} Hz"]
@@ -152,7 +152,7 @@ def text(out: dict) -> str:
                  f"{fig(a['figure_at'])} at it, {fig(a['figure_above'])} just above")
     f = out["frequency"]
     if f.get("limiting_level") is not None:
-        s.append(f"  (just below it, level {100 * f['limiting_level']:.3g} % fails "
+        s.append(f"  (just below it, level {f['limiting_level']:.3g} % fails "
                  f"{f['limiting_target']})")
     if f.get("isolated_passing_below_hz"):
         s.append(f"  note: some lower frequencies (from {min(f['isolated_passing_below_hz']):.3g} "
@@ -193,7 +193,7 @@ def write_workbook(path, out: dict, *, force: bool = False):
             ["Lowest frequency, exact clock [Hz]", out["lowest_frequency_hz"]],
             ["Clock tolerance [+- %]", out.get("tolerance_percent")],
             ["Recommended frequency [Hz]", out.get("recommended_frequency_hz")],
-            ["Smallest level [%]", 100 * min(out["levels"])],
+            ["Smallest level [%]", min(out["levels"])],
             ["Resolution needed", out["resolution"]["need"]],
             ["Counts needed", out["resolution"]["counts_needed"]],
             ["Verdict", out.get("verdict")]]
