@@ -168,3 +168,16 @@ def test_drive_plan_steps_and_measure_agree(name, tmp_path):
     assert _close(meas["percent_flicker"], rec["percent_flicker"])
     assert _close(meas["flicker_index"], rec["flicker_index"])
     assert _close(meas["svm"], rec["svm"], abs_=SVM_ABS)
+
+
+@pytest.mark.parametrize("duty,off", [(0.373, 0.0), (0.05, 0.1), (0.9, 0.25)])
+def test_flicker_index_closed_form(duty, off):
+    # analytic: a pulse of duty D between off-level o and 1 has mean m = D + o (1 - D) and
+    # area above the mean D (1 - m) per period: FI = D (1 - m) / m (IES definition)
+    m = duty + off * (1 - duty)
+    model = Drive(frequency_hz=1234.56, off_level=off).at(duty)
+    assert model.light().flicker_index() == pytest.approx(duty * (1 - m) / m, rel=1e-12)
+    # the quadrature used for several channels and ripple agrees (two channels in phase)
+    two = Drive(frequency_hz=1234.56, off_level=off, channels=2,
+                phase_offsets_deg=(0.0, 0.0)).at(duty)
+    assert two.light().flicker_index() == pytest.approx(duty * (1 - m) / m, rel=1e-6)
