@@ -346,7 +346,7 @@ def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
             return f, notes
         notes.append(f"{f:.6g} Hz: at {f_bad:.6g} Hz within its band"
                      + (f" level {lv * 100:.3g} % fails {tn}" if lv is not None else
-                        f" the drive's timing fails"))
+                        " the drive's timing fails"))
         f = f_bad / (1.0 - tolerance) * (1 + 1e-6)
     return None, notes
 
