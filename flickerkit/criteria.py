@@ -143,6 +143,10 @@ class Verdict:
         How far inside the limit (positive) or outside (negative) [criterion unit].
     reason : str
         Why, for ``not applicable`` and ``insufficient data``; otherwise how.
+    threshold_form : str
+        SVM criteria only: non-empty when the other threshold form
+        (:data:`flickerkit.svm.OTHER_FORM`) gives the other verdict; it says
+        which form gives what (the reason ends with the same sentence).
     """
 
     criterion: str
@@ -153,11 +157,19 @@ class Verdict:
     limit: float | None
     margin: float | None
     reason: str = ""
+    threshold_form: str = ""
+
+    @property
+    def depends_on_threshold_form(self) -> bool:
+        """Whether the SVM threshold form decides this verdict."""
+        return bool(self.threshold_form)
 
     def to_dict(self) -> dict[str, Any]:
         return {"criterion": self.criterion, "label": self.label, "level": self.level,
                 "status": self.status, "measured": self.measured, "limit": self.limit,
-                "margin": self.margin, "reason": self.reason}
+                "margin": self.margin, "reason": self.reason,
+                "depends_on_threshold_form": self.depends_on_threshold_form,
+                "threshold_form": self.threshold_form or None}
 
 
 def _d(y: int, m: int, d: int) -> _dt.date:
@@ -459,8 +471,26 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
         how += f" (provisional calibration {detail.get('calibration')})"
     if isinstance(detail, Mapping) and detail.get("threshold_status") not in (None, "sourced"):
         how += f" (threshold model {detail.get('threshold')}: {detail.get('threshold_status')})"
+    form = _threshold_form(criterion, detail, ok, limit)
+    if form:
+        how += f"; {form}"
     return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
-                   margin=margin, reason=how)
+                   margin=margin, reason=how, threshold_form=form)
+
+
+def _threshold_form(criterion: Criterion, detail: Any, ok: bool, limit: float) -> str:
+    """For an SVM criterion: a sentence when the other threshold form flips the verdict."""
+    if criterion.metric != "svm" or not isinstance(detail, Mapping):
+        return ""
+    other = detail.get("other_threshold_value")
+    name = detail.get("other_threshold")
+    if not isinstance(other, (int, float)) or not math.isfinite(other) or not name:
+        return ""
+    if _COMPARE[criterion.comparison](float(other), limit) == ok:
+        return ""
+    return (f"depends on the threshold form: the {detail.get('threshold')} form gives "
+            f"{'pass' if ok else 'fail'}, the {name} form SVM {float(other):.3g} "
+            f"({'fail' if ok else 'pass'})")
 
 
 def judge_all(records: Sequence[Mapping[str, Any]], criteria: Sequence[Criterion], *,

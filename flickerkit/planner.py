@@ -37,6 +37,24 @@ FREQUENCY_RTOL = 1e-4
 #: Highest Fourier component the SVM sum uses [Hz] (methods brief §3.3).
 SVM_F_MAX_HZ = 2000.0
 
+#: Default frequency tolerance of the PWM clock, as a fraction [unitless]: a
+#: microcontroller's internal RC oscillator is typically trimmed to about +-1 % at
+#: room temperature and drifts to about +-2 % over temperature and supply; a quartz
+#: crystal holds about +-0.01 % (common practice, no source). A plan is only as
+#: good as the oscillator it runs on; give the real figure with ``tolerance``.
+DEFAULT_TOLERANCE = 0.02
+#: Largest tolerance accepted [unitless].
+MAX_TOLERANCE = 0.25
+#: A target's abrupt change is reported when it lies within this fraction of the
+#: recommended frequency, or within twice the tolerance if that is wider
+#: (project choice).
+NEARBY_FRACTION = 0.05
+#: Interior points (besides the ends and the abrupt points) at which a tolerance
+#: band is checked.
+BAND_POINTS = 5
+#: Relative step either side of an abrupt point at which it is checked.
+_EDGE_STEP = 1e-9
+
 TARGET_HELP = ("ieee1789-low-risk, ieee1789-noel, svm<=VALUE (e.g. svm<=0.4); "
                "several separated by commas")
 
@@ -183,6 +201,193 @@ def _check_at(drive: Drive, f: float, levels: Sequence[float], targets: Sequence
     return True, None, None
 
 
+def check_tolerance(tolerance: float) -> float:
+    """A valid frequency tolerance (fraction, 0 to :data:`MAX_TOLERANCE`), else SettingsError."""
+    try:
+        t = float(tolerance)
+    except (TypeError, ValueError):
+        raise SettingsError(f"frequency tolerance must be a number, got {tolerance!r}") from None
+    if not (math.isfinite(t) and 0.0 <= t <= MAX_TOLERANCE):
+        raise SettingsError(f"frequency tolerance must be 0 to {MAX_TOLERANCE * 100:g} %, got "
+                            f"{t * 100:g} %")
+    return t
+
+
+def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: float
+                  ) -> list[dict]:
+    """PWM frequencies in [f_lo, f_hi] at which a target's figure jumps.
+
+    Parameters
+    ----------
+    drive : Drive
+        The dimming scheme.
+    targets : sequence of Target
+    f_lo, f_hi : float
+        PWM frequencies searched [Hz].
+
+    Returns
+    -------
+    list of dict
+        ``frequency_hz`` (the PWM frequency) [Hz], ``target``, ``cause``; sorted.
+
+    Notes
+    -----
+    SVM sums the components from 80 Hz to 2 kHz, both ends included
+    (:data:`flickerkit.svm.DEFAULT_F_MIN_HZ`, :data:`~flickerkit.svm.DEFAULT_F_MAX_HZ`):
+    it jumps where a line of the light crosses an end. The lines sit at
+    ``(k / P) f + n f_r`` (P the dither pattern's PWM periods, at most 2^m;
+    f_r the ripple frequency, n over its harmonics), so the jumps lie at
+    ``f = (F - n f_r) P / k`` for F = 80 or 2000 Hz. IEEE 1789's low-risk line
+    steps from 2.5 % to 8 % per 100 Hz at 90 Hz (IEEE 1789-2015 clause 8): the
+    fundamental reading jumps where the light's repetition frequency (``c f``
+    for c evenly phased channels) crosses 90 Hz. At most 400 points are kept.
+    """
+    from . import svm
+
+    out: list[dict] = []
+    if any(t.kind == "svm" for t in targets):
+        P = 2 ** int(drive.dither_bits) if drive.dither_bits else 1
+        rip = drive.ripple if drive.ripple is not None and drive.ripple.percent > 0 else None
+        fr = rip.frequency_hz if rip else 0.0
+        nmax = (24 if rip.shape == "rectified" else 1) if rip else 0
+        for F, end in ((svm.DEFAULT_F_MAX_HZ, "upper"), (svm.DEFAULT_F_MIN_HZ, "lower")):
+            for n in range(-nmax, nmax + 1):
+                top = (F - n * fr) * P
+                if top <= 0:
+                    continue
+                k_lo = max(1, math.ceil(top / f_hi - 1e-12))
+                k_hi = math.floor(top / f_lo + 1e-12)
+                for k in range(k_lo, min(k_hi, k_lo + 400) + 1):
+                    what = (f"harmonic {k}" if P == 1 else f"line {k}/{P}") + " of the PWM"
+                    if n:
+                        what += f" {'+' if n > 0 else '-'} {abs(n)} x the ripple frequency"
+                    out.append({"frequency_hz": top / k, "target": "svm",
+                                "cause": f"{what} reaches the {F:g} Hz {end} end of SVM's "
+                                         f"band"})
+    if any(t.kind.startswith("ieee1789") for t in targets):
+        mult = drive.channels if drive.channels > 1 else 1
+        for c in sorted({1, mult}):
+            f = ieee1789.LOW_FREQUENCY_BREAK_HZ / c
+            if f_lo <= f <= f_hi:
+                out.append({"frequency_hz": f, "target": "ieee1789",
+                            "cause": f"the light's repetition frequency reaches "
+                                     f"{ieee1789.LOW_FREQUENCY_BREAK_HZ:g} Hz, where IEEE "
+                                     f"1789's low-risk line steps"})
+    out.sort(key=lambda d: d["frequency_hz"])
+    return out[:400]
+
+
+def band_frequencies(drive: Drive, targets: Sequence[Target], f_hz: float, tolerance: float
+                     ) -> np.ndarray:
+    """Frequencies that stand for the band ``f (1 +- tolerance)`` [Hz].
+
+    Its ends, :data:`BAND_POINTS` log-spaced points between them, and each
+    abrupt point inside (:func:`abrupt_points`) with its neighbours a relative
+    1e-9 either side: between abrupt points the figures change smoothly, so
+    the worst of the band is found among these.
+    """
+    lo, hi = f_hz * (1.0 - tolerance), f_hz * (1.0 + tolerance)
+    if tolerance == 0:
+        return np.array([f_hz])
+    pts = [np.geomspace(lo, hi, BAND_POINTS + 2)]
+    for a in abrupt_points(drive, targets, lo, hi):
+        c = a["frequency_hz"]
+        pts.append(np.array([c * (1 - _EDGE_STEP), c, c * (1 + _EDGE_STEP)]))
+    f = np.unique(np.concatenate(pts))
+    return f[(f >= lo) & (f <= hi)]
+
+
+def check_band(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[float],
+               targets: Sequence[Target]) -> tuple[bool, float | None, float | None, str | None]:
+    """Whether every frequency of ``f (1 +- tolerance)`` meets the targets at every level.
+
+    Returns
+    -------
+    (passed, failing frequency [Hz], failing level, failing target)
+        The lowest failing frequency of the band, or Nones when it passes.
+    """
+    for f in band_frequencies(drive, targets, f_hz, tolerance):
+        if not _valid_frequency(drive, float(f)):
+            return False, float(f), None, "drive timing"
+        ok, lv, tn = _check_at(drive, float(f), levels, targets)
+        if not ok:
+            return False, float(f), lv, tn
+    return True, None, None, None
+
+
+def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
+              lowest_hz: float, tolerance: float, f_max_hz: float
+              ) -> tuple[float | None, list[str]]:
+    """Lowest nominal frequency from ``lowest_hz`` up whose whole tolerance band meets the targets.
+
+    Parameters
+    ----------
+    lowest_hz : float
+        Lowest frequency above which the targets hold (from :func:`lowest_frequency`) [Hz].
+    tolerance : float
+        Frequency tolerance of the clock [unitless fraction].
+    f_max_hz : float
+        Highest frequency searched [Hz].
+
+    Returns
+    -------
+    (frequency [Hz] or None, notes)
+        Starts at ``lowest_hz / (1 - tolerance)`` (the band's lower end at the
+        lowest passing frequency) and moves up past any failing point found in
+        the band.
+    """
+    notes: list[str] = []
+    f = lowest_hz / (1.0 - tolerance) * (1 + 1e-9) if tolerance else lowest_hz
+    for _ in range(50):
+        if f * (1.0 + tolerance) > f_max_hz * (1 + 1e-12) and f > f_max_hz:
+            return None, notes
+        ok, f_bad, lv, tn = check_band(drive, f, tolerance, levels, targets)
+        if ok:
+            return f, notes
+        notes.append(f"{f:.6g} Hz: at {f_bad:.6g} Hz within its band"
+                     + (f" level {lv * 100:.3g} % fails {tn}" if lv is not None else
+                        " the drive's timing fails"))
+        f = f_bad / (1.0 - tolerance) * (1 + 1e-6)
+    return None, notes
+
+
+def abrupt_changes(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
+                   f_hz: float, tolerance: float) -> list[dict]:
+    """Abrupt changes of the targets near ``f_hz``, with the figures either side.
+
+    "Near" is within :data:`NEARBY_FRACTION` of ``f_hz`` or twice the
+    tolerance, whichever is wider. Each entry gives the PWM frequency, the
+    cause, the worst level's figure just below and at/above it (SVM value, or
+    IEEE 1789 region) and whether the recommended band contains it.
+    """
+    w = max(NEARBY_FRACTION, 2 * tolerance)
+    out = []
+    seen = set()
+    for a in abrupt_points(drive, targets, f_hz * (1 - w), f_hz * (1 + w)):
+        c = a["frequency_hz"]
+        key = (a["target"], round(c, 9))
+        if key in seen or not _valid_frequency(drive, c * (1 - 1e-6)):
+            continue
+        seen.add(key)
+        sides = {}
+        for side, f in (("below", c * (1 - 1e-6)), ("at", c), ("above", c * (1 + 1e-6))):
+            d = drive.with_frequency(f)
+            figs = [figures(d.at(lv), lv, need_svm=a["target"] == "svm") for lv in levels]
+            if a["target"] == "svm":
+                sides[side] = max(fg.svm for fg in figs)
+            else:
+                ranks = [ieee1789.REGIONS.index(fg.ieee1789.region) if fg.ieee1789 else 0
+                         for fg in figs]
+                sides[side] = ieee1789.REGIONS[max(ranks)]
+        if sides["below"] == sides["above"] == sides["at"]:
+            continue
+        out.append({**a, "figure_below": sides["below"], "figure_at": sides["at"],
+                    "figure_above": sides["above"],
+                    "inside_band": f_hz * (1 - tolerance) <= c <= f_hz * (1 + tolerance),
+                    "offset_percent": 100.0 * (c / f_hz - 1.0)})
+    return out
+
+
 def _valid_frequency(drive: Drive, f: float) -> bool:
     try:
         drive.with_frequency(f)
@@ -223,10 +428,12 @@ class FrequencyResult:
     limiting_target: str | None
 
     def to_dict(self) -> dict:
+        """JSON object; the limiting level in percent."""
+        lv = None if self.limiting_level is None else 100.0 * self.limiting_level
         return {"targets": [t.name for t in self.targets], "frequency_hz": self.frequency_hz,
                 "holds_at_all_higher_frequencies_checked": self.holds_above,
                 "isolated_passing_below_hz": list(self.passing_below_hz),
-                "limiting_level": self.limiting_level, "limiting_target": self.limiting_target}
+                "limiting_level": lv, "limiting_target": self.limiting_target}
 
 
 def lowest_frequency(
@@ -346,20 +553,20 @@ class Resolution:
 
 
 def _setting_record(s: TimerSetting, drive: Drive, res: Resolution,
-                    targets: Sequence[Target], levels: Sequence[float]) -> dict:
+                    targets: Sequence[Target], levels: Sequence[float],
+                    tolerance: float = 0.0) -> dict:
     rise = drive.edges.rise_s if drive.edges.kind != "ideal" else 0.0
     dmin = minimum_duty(s.frequency_hz, turn_on_delay_s=drive.turn_on_delay_s, rise_s=rise,
                         min_on_time_s=drive.min_on_time_s)
     met = []
-    need_svm = any(t.kind == "svm" for t in targets)
-    d = drive.with_frequency(s.frequency_hz)
-    figs = [figures(d.at(lv), lv, need_svm=need_svm) for lv in levels]
+    # a target is met when it is met over the setting's whole tolerance band
     for t in targets:
-        if all(f.meets(t) for f in figs):
+        if check_band(drive, s.frequency_hz, tolerance, levels, [t])[0]:
             met.append(t.name)
     resolution_ok = s.counts >= res.counts
     pwm_bottom = res.min_level / (drive.crossover if drive.method == "hybrid" else 1.0)
-    reaches_bottom = dmin <= pwm_bottom
+    # a fast clock shortens the period: the fixed shortest pulse is a larger duty there
+    reaches_bottom = dmin * (1.0 + tolerance) <= pwm_bottom
     if resolution_ok and reaches_bottom:
         met.append("resolution")
     rec = s.to_dict()
@@ -426,6 +633,7 @@ def plan(
     timer: Timer | None = None,
     prescalers: tuple[int, ...] | None = None,
     resolution: Resolution | None = None,
+    tolerance: float = DEFAULT_TOLERANCE,
 ) -> dict:
     """Plan a PWM frequency and timer setting for a drive.
 
@@ -446,11 +654,20 @@ def plan(
         Restrict the timer's prescalers (each must be one it has).
     resolution : Resolution, optional
         What the dimming needs; default none.
+    tolerance : float
+        Frequency tolerance of the PWM clock (oscillator and timer clock
+        error), a fraction [unitless]; default :data:`DEFAULT_TOLERANCE`
+        (2 %, an internal RC oscillator; common practice, no source).
 
     Returns
     -------
     dict
         JSON-ready plan (see the ``plan`` command's help for the keys).
+        ``lowest_frequency_hz`` is the lowest frequency meeting the targets
+        on an exact clock; ``recommended_frequency_hz`` the lowest whose whole
+        band ``f (1 +- tolerance)`` meets them, and the timer settings start
+        there; ``abrupt_changes`` lists nearby frequencies where a target's
+        figure jumps (an SVM band end, IEEE 1789's 90 Hz step).
 
     Raises
     ------
@@ -461,6 +678,7 @@ def plan(
     if drive.method == "analogue":
         raise SettingsError("an analogue drive has no PWM frequency to plan; use pwm or hybrid")
     res = resolution or Resolution()
+    tol = check_tolerance(tolerance)
     lv = np.asarray(levels if levels is not None else default_levels(res.min_level), float)
     combined = lowest_frequency(drive, targets, lv, range_hz=range_hz)
     per_target = [lowest_frequency(drive, [t], lv, range_hz=range_hz) for t in targets] \
@@ -475,7 +693,7 @@ def plan(
     out: dict = {
         "drive": drive.describe(),
         "targets": [t.name for t in targets],
-        "levels": [float(x) for x in lv],
+        "levels": [100.0 * float(x) for x in lv],  # percent at the JSON edge
         "range_hz": list(range_hz),
         "lowest_frequency_hz": combined.frequency_hz,
         "frequency": combined.to_dict(),
@@ -484,9 +702,21 @@ def plan(
                        "light_step": res.light_step},
         "timer": None, "settings": [], "feasible": None, "options": [],
     }
+    f_rec, rec_notes = recommend(drive, targets, lv, combined.frequency_hz, tol, range_hz[1])
+    out["tolerance_percent"] = 100.0 * tol
+    out["recommended_frequency_hz"] = f_rec
+    out["recommended_band_hz"] = ([f_rec * (1 - tol), f_rec * (1 + tol)]
+                                  if f_rec is not None else None)
+    out["recommendation_notes"] = rec_notes
+    near = f_rec if f_rec is not None else combined.frequency_hz
+    out["abrupt_changes"] = abrupt_changes(drive, targets, lv, near, tol)
+    if f_rec is None:
+        out["verdict"] = (f"no frequency up to {range_hz[1]:g} Hz keeps its whole "
+                          f"+-{100 * tol:g} % tolerance band within the targets")
+        return out
     if timer is None:
         return out
-    f_req = combined.frequency_hz
+    f_req = f_rec
     settings = timer.settings_at_least(f_req, prescalers=prescalers)
     out["timer"] = {"clock_hz": timer.clock_hz, "prescalers": list(timer.prescalers),
                     "max_top": timer.max_top, "modes": list(timer.modes)}
@@ -496,7 +726,7 @@ def plan(
         out["verdict"] = (f"the timer cannot reach {f_req:.6g} Hz with TOP >= 2; a faster clock "
                           f"is needed")
         return out
-    recs = [_setting_record(s, drive, res, targets, lv) for s in settings]
+    recs = [_setting_record(s, drive, res, targets, lv, tol) for s in settings]
     out["settings"] = recs
     out["feasible"] = any(r["meets_all"] for r in recs)
     best = settings[0]
@@ -549,12 +779,14 @@ def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequ
     need_svm = any(t.kind == "svm" for t in targets)
     figs = [figures(hyb.at(lv), lv, need_svm=need_svm) for lv in levels]
     met = [t.name for t in targets if all(f.meets(t) for f in figs)]
-    return {"option": "hybrid dimming", "possible": True, "crossover": c,
+    return {"option": "hybrid dimming", "possible": True, "crossover_level": 100.0 * c,
             "frequency_hz": s.frequency_hz, "counts_per_period": s.counts, "meets": met,
             "cost": f"analogue (constant-current) dimming from 100 % down to {c * 100:.3g} %, "
                     f"PWM at {c * 100:.3g} % current below: needs a settable current "
                     f"reference over {1 / c:.3g}:1, and LED colour may shift with current"}
 
 
-__all__ = ["FrequencyResult", "LevelFigures", "Resolution", "Target", "default_levels",
-           "figures", "lowest_frequency", "parse_targets", "plan", "svm_of_series"]
+__all__ = ["DEFAULT_TOLERANCE", "FrequencyResult", "LevelFigures", "Resolution", "Target",
+           "abrupt_changes", "abrupt_points", "band_frequencies", "check_band",
+           "check_tolerance", "default_levels", "figures", "lowest_frequency", "parse_targets",
+           "plan", "recommend", "svm_of_series"]

@@ -265,6 +265,7 @@ def step_flicker_from_drive(
     *,
     target_region: str = DEFAULT_TARGET_REGION,
     svm_threshold: str = "power",
+    model_capture_samples: int = 2**15,
 ) -> StepFlicker:
     """Flicker figures of each step through a drive description and :func:`assess`.
 
@@ -278,6 +279,8 @@ def step_flicker_from_drive(
         ``"low-risk"`` (default) or ``"no-observable-effect"``.
     svm_threshold : str
         SVM threshold model (:data:`flickerkit.svm.THRESHOLDS`).
+    model_capture_samples : int
+        Sample budget of each level's capture through ``assess`` [samples].
 
     Returns
     -------
@@ -286,13 +289,16 @@ def step_flicker_from_drive(
     Notes
     -----
     Each distinct non-zero level is modelled once: ``drive.at(level)``, its
-    sampled light (exact interval averages over whole periods), then
-    :func:`flickerkit.assess.assess`. The fundamental amplitude and SVM come
-    from the model's exact Fourier series.
+    sampled light (exact interval averages over whole periods) through
+    :func:`flickerkit.assess.assess`, with the model's exact percent flicker,
+    flicker index and IEEE 1789 fundamental reading at the light's true
+    repetition frequency (:func:`flickerkit.sweep.model_record`, the same
+    figures ``drive`` reports). The fundamental amplitude and SVM come from
+    the model's exact Fourier series.
     """
-    from .assess import assess
     from .ieee1789 import region_of
     from .svm import svm_from_components
+    from .sweep import model_record
 
     target = _check_target(target_region)
     d = np.asarray(duty, dtype=np.float64)
@@ -306,12 +312,13 @@ def step_flicker_from_drive(
         if lv <= 0:
             continue
         model = drive.at(lv)
-        a = assess(model.capture())
+        rec = model_record(model, max_samples=model_capture_samples)
         sel = inverse == j
-        pf[sel] = a.percent_flicker
-        fi[sel] = a.flicker_index
-        region[sel] = (a.ieee1789.region if a.ieee1789 is not None
-                       else region_of(drive.frequency_hz, a.percent_flicker))
+        pf[sel] = rec["percent_flicker"]
+        fi[sel] = rec["flicker_index"]
+        head = rec.get("ieee1789")
+        region[sel] = (head["region"] if head is not None
+                       else region_of(drive.frequency_hz, rec["percent_flicker"]))
         fs = model.fourier_series(max(DEFAULT_F_MAX_HZ, drive.frequency_hz))
         c1[sel] = float(fs.amplitudes[0]) if fs.amplitudes.size else 0.0
         svm[sel] = (svm_from_components(fs.frequencies_hz, fs.amplitudes,

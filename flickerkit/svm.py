@@ -48,6 +48,10 @@ DEFAULT_F_MAX_HZ = 2000.0
 #: keeps the near-DC leakage of a windowed spectrum out of the sum.
 DEFAULT_F_MIN_HZ = 80.0
 
+#: The other threshold form of each built-in one: every SVM result also carries the
+#: value under it, so that a verdict can say when the choice of form decides it.
+OTHER_FORM = {"power": "sigmoid", "sigmoid": "power"}
+
 #: Components listed in :attr:`SvmResult.components` at most.
 MAX_LISTED_COMPONENTS = 10
 
@@ -326,6 +330,11 @@ class SvmResult:
         One sentence on the method, for reports.
     warnings : tuple of str
         Doubts about the figure (also issued as :class:`CaptureWarning`).
+    other_threshold : str or None
+        The other built-in threshold form (:data:`OTHER_FORM`), None for a
+        user-supplied model.
+    other_value : float or None
+        SVM of the same components under ``other_threshold`` [unitless].
     """
 
     value: float
@@ -337,6 +346,8 @@ class SvmResult:
     method: str
     method_note: str
     warnings: tuple[str, ...] = ()
+    other_threshold: str | None = None
+    other_value: float | None = None
 
     def to_dict(self) -> dict:
         """Plain-type dictionary for JSON output."""
@@ -354,7 +365,21 @@ class SvmResult:
                 for c in self.components
             ],
             "warnings": list(self.warnings),
+            "other_threshold": self.other_threshold,
+            "other_threshold_value": self.other_value,
         }
+
+
+def _other_form(model: ThresholdModel, freqs: np.ndarray, amps: np.ndarray, f_min_hz: float,
+                f_max_hz: float) -> tuple[str | None, float | None]:
+    """(name, SVM) of the same components under the other built-in threshold form."""
+    name = OTHER_FORM.get(model.name) if THRESHOLDS.get(model.name) is model else None
+    if name is None:
+        return None, None
+    if np.size(freqs) == 0:
+        return name, 0.0
+    total = float(np.sum(_terms(freqs, amps, THRESHOLDS[name], f_min_hz, f_max_hz)))
+    return name, total ** (1.0 / MINKOWSKI_EXPONENT)
 
 
 def hann_components(spectrum: Spectrum) -> tuple[np.ndarray, np.ndarray]:
@@ -540,6 +565,7 @@ def svm_of_spectrum(
     if model_note:
         warnings.warn(model_note, FlickerkitWarning, stacklevel=2)
         notes.append(model_note)
+    other_name, other_value = _other_form(model, freqs, amps, f_min_hz, f_max_hz)
     return SvmResult(
         value=float(value),
         threshold=model.name,
@@ -550,4 +576,60 @@ def svm_of_spectrum(
         method=method,
         method_note=method_note,
         warnings=tuple(notes),
+        other_threshold=other_name,
+        other_value=other_value,
     )
+
+
+def svm_result_from_components(
+    frequencies_hz: np.ndarray,
+    amplitudes: np.ndarray,
+    *,
+    threshold: str | ThresholdModel = "power",
+    f_min_hz: float = DEFAULT_F_MIN_HZ,
+    f_max_hz: float = DEFAULT_F_MAX_HZ,
+    method: str = "components",
+    method_note: str = "components given directly",
+) -> SvmResult:
+    """A full :class:`SvmResult` from known components (a model's exact Fourier series).
+
+    Parameters
+    ----------
+    frequencies_hz, amplitudes : numpy.ndarray
+        Component frequencies [Hz] and amplitudes relative to the mean [unitless].
+    threshold : str or ThresholdModel
+        Threshold model (see :data:`THRESHOLDS`).
+    f_min_hz, f_max_hz : float
+        Band summed, both ends included [Hz].
+    method, method_note : str
+        How the components were obtained, for reports.
+
+    Returns
+    -------
+    SvmResult
+        The same value as :func:`svm_from_components`, with the contributing
+        components listed as :func:`svm_of_spectrum` lists them.
+
+    References
+    ----------
+    CIE TN 006:2016; IEC TR 63158:2018 + COR1:2018, Annex A.
+    """
+    model = get_threshold(threshold)
+    _check_band(f_min_hz, f_max_hz)
+    f = np.asarray(frequencies_hz, dtype=np.float64).ravel()
+    c = np.asarray(amplitudes, dtype=np.float64).ravel()
+    terms = _terms(f, c, model, f_min_hz, f_max_hz) if f.size else np.zeros(0)
+    total = float(np.sum(terms))
+    order = np.argsort(terms)[::-1][:MAX_LISTED_COMPONENTS]
+    comps = tuple(
+        SvmComponent(frequency_hz=float(f[i]), amplitude=float(c[i]),
+                     threshold=float(model(f[i])), share=float(terms[i] / total))
+        for i in order if total > 0 and terms[i] >= 1e-3 * total)
+    notes = ((f"SVM threshold model {model.name!r} is {model.status}",)
+             if model.status != "sourced" else ())
+    other_name, other_value = _other_form(model, f, c, f_min_hz, f_max_hz)
+    return SvmResult(value=float(total ** (1.0 / MINKOWSKI_EXPONENT)), threshold=model.name,
+                     threshold_status=model.status, f_min_hz=float(f_min_hz),
+                     f_max_hz=float(f_max_hz), components=comps, method=method,
+                     method_note=method_note, warnings=notes, other_threshold=other_name,
+                     other_value=other_value)

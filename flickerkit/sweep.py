@@ -3,8 +3,19 @@
 Each level's light is sampled from the drive model (:mod:`flickerkit.drive`)
 and goes through :func:`flickerkit.assess.assess`, so a level's record has the
 same keys as ``measure``'s, plus ``level``, ``relative_light`` and the
-model's own figures. Where the assessment does not give SVM, it comes from the
-model's exact Fourier series through the shared SVM sum.
+model's own figures.
+
+One truth for modelled and measured light (:func:`model_record`): a sampled
+capture of a budget that keeps 200 levels fast smears fast edges (first-order
+edges of tens of microseconds lose several points of percent flicker) and
+folds PWM harmonics into the SVM band. The headline percent flicker, flicker
+index and SVM of a modelled level are therefore the model's own figures (exact
+extremes, flicker index by quadrature, SVM from the exact Fourier series,
+through the shared SVM sum), and the IEEE 1789 fundamental reading is placed
+on them through the shared :func:`flickerkit.ieee1789.classify` at the light's
+true repetition frequency. They are what ``measure`` gives for a faithful
+(finely sampled) capture of the same light; the sampled capture's own figures
+are kept under ``capture_figures``.
 """
 
 from __future__ import annotations
@@ -29,12 +40,70 @@ CRITERIA = (
 )
 
 
-def _svm_from_model(model) -> float | None:
-    try:
-        from .planner import svm_of_series
-        return svm_of_series(model.fourier_series(2000.0))
-    except ImportError:  # the SVM module is not installed in this tree
-        return None
+def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = "",
+                 settings=None) -> dict[str, Any]:
+    """The assessment record of a model's light, with the model's exact figures at its head.
+
+    Parameters
+    ----------
+    model : flickerkit.drive.LightModel
+        The light at one level.
+    max_samples : int
+        Sample budget of the capture that goes through ``assess``.
+    label : str
+        Label of the capture.
+    settings : flickerkit.assess.AssessSettings, optional
+        Assessment settings (SVM threshold and band are taken from them).
+
+    Returns
+    -------
+    dict
+        ``Assessment.to_dict()`` of the sampled light, in which
+        ``percent_flicker``, ``flicker_index``, ``svm`` and the IEEE 1789
+        fundamental reading are the model's exact figures; the sampled
+        capture's own ones are under ``capture_figures``, and
+        ``figures_source`` says so. Raises InputError when the level makes no
+        light (as ``assess`` does).
+
+    Notes
+    -----
+    Exact figures: percent flicker from the light's extremes
+    (:meth:`flickerkit.drive.Light.modulation_percent`), flicker index by
+    quadrature (:meth:`flickerkit.drive.Light.flicker_index`), SVM from the
+    Fourier series up to the SVM band's upper end
+    (:func:`flickerkit.svm.svm_result_from_components`). Tests compare them
+    with ``measure`` of a capture sampled at megahertz rates.
+    """
+    from dataclasses import replace
+
+    from . import ieee1789, svm
+    from .assess import AssessSettings, assess
+
+    settings = settings or AssessSettings()
+    cap = model.capture(max_samples=max_samples, label=label)
+    a = assess(cap, settings)
+    light = model.light()
+    pf = light.modulation_percent()
+    fi = light.flicker_index()
+    f0 = light.fundamental_hz
+    fs = light.fourier_series(svm.DEFAULT_F_MAX_HZ)
+    sv = svm.svm_result_from_components(
+        fs.frequencies_hz, fs.amplitudes, threshold=settings.svm_threshold,
+        f_min_hz=settings.svm_f_min_hz,
+        method="model series",
+        method_note="components from the drive model's exact Fourier series")
+    captured = {"percent_flicker": a.percent_flicker, "flicker_index": a.flicker_index,
+                "svm": a.svm.value if a.svm else None,
+                "sample_rate_hz": a.sample_rate_hz, "n_samples": a.n_samples}
+    fund = ieee1789.classify(f0, pf) if f0 else a.ieee1789_fundamental
+    a = replace(a, percent_flicker=pf, flicker_index=fi, ieee1789_fundamental=fund, svm=sv)
+    rec = a.to_dict()
+    rec["capture_figures"] = {k: (float(v) if isinstance(v, float) else v)
+                              for k, v in captured.items()}
+    rec["figures_source"] = ("drive model (exact extremes, flicker index by quadrature, SVM "
+                             "from the exact Fourier series); capture_figures: the sampled "
+                             "capture through assess")
+    return rec
 
 
 def _fails(rec: dict[str, Any], name: str) -> bool | None:
@@ -67,10 +136,12 @@ class SweepResult:
         Description of the drive.
     records : tuple of dict
         One per level, in the order given: ``Assessment.to_dict()`` plus
-        ``level``, ``relative_light``, ``model_percent_flicker`` and ``svm``.
+        ``level`` [fraction 0-1 here, percent in :meth:`to_dict`],
+        ``relative_light``, ``model_percent_flicker`` and ``svm``.
     first_failing : dict
         Criterion name -> first level (scanning from the highest level down)
-        that fails it, or None when no level fails it.
+        that fails it, or None when no level fails it [fraction; percent in
+        :meth:`to_dict`].
     not_assessed : tuple of str
         Criteria that no level gives the figure for (e.g. Pst LM, which needs
         more light than a sweep models): their None in ``first_failing``
@@ -83,8 +154,14 @@ class SweepResult:
     not_assessed: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
-        return {"drive": self.drive, "levels": list(self.records),
-                "first_failing_level": self.first_failing,
+        """The JSON object: dimming levels in percent (``level``, ``first_failing_level``),
+        as ``report`` gives them; ``relative_light`` stays a fraction of full output."""
+        def pct(v):
+            return None if v is None else 100.0 * v
+
+        return {"drive": self.drive,
+                "levels": [{**r, "level": pct(r["level"])} for r in self.records],
+                "first_failing_level": {k: pct(v) for k, v in self.first_failing.items()},
                 "not_assessed": list(self.not_assessed)}
 
 
@@ -107,26 +184,21 @@ def sweep(drive: Drive, levels: Sequence[float], *, max_samples: int = SWEEP_MAX
     -------
     SweepResult
     """
-    from .assess import assess
-
     records = []
     it = progress(levels) if progress else levels
     for lv in it:
         lv = float(lv)
         model = drive.at(lv)
-        cap = model.capture(max_samples=max_samples, label=f"level {lv * 100:.4g} %")
+        label = f"level {lv * 100:.4g} %"
         try:
-            rec = assess(cap).to_dict()
+            rec = model_record(model, max_samples=max_samples, label=label)
         except InputError as exc:  # no light at this level (a skipped pulse)
-            rec = {"label": cap.label, "percent_flicker": None, "flicker_index": None,
-                   "frequency_hz": None, "ieee1789": None, "mean": 0.0,
+            rec = {"label": label, "percent_flicker": None, "flicker_index": None,
+                   "frequency_hz": None, "ieee1789": None, "mean": 0.0, "svm": None,
                    "warnings": [f"no light at this level ({exc.message})"], "harmonics": []}
         rec = {"level": lv, "relative_light": model.mean, **rec}
         rec["model_percent_flicker"] = model.modulation_percent()
         rec["model"] = model.light().description
-        if "svm" not in rec:
-            rec["svm"] = _svm_from_model(model) if model.mean > 0 else None
-            rec["svm_source"] = "Fourier series of the drive model"
         records.append(rec)
     order = sorted(range(len(records)), key=lambda i: -records[i]["level"])
     first: dict[str, float | None] = {}
@@ -143,4 +215,4 @@ def sweep(drive: Drive, levels: Sequence[float], *, max_samples: int = SWEEP_MAX
     return SweepResult(drive.describe(), tuple(records), first, tuple(unknown))
 
 
-__all__ = ["CRITERIA", "SWEEP_MAX_SAMPLES", "SweepResult", "sweep"]
+__all__ = ["CRITERIA", "SWEEP_MAX_SAMPLES", "SweepResult", "model_record", "sweep"]

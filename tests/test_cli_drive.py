@@ -15,7 +15,8 @@ def run_json(capsys, argv):
 def test_drive_json_has_measure_keys_and_level(capsys):
     out = run_json(capsys, ["drive", "-f", "1000", "--levels", "100,50,10,1"])
     recs = out["levels"]
-    assert [r["level"] for r in recs] == pytest.approx([1.0, 0.5, 0.1, 0.01])
+    # dimming levels are percent at the JSON edge, as in report's JSON
+    assert [r["level"] for r in recs] == pytest.approx([100.0, 50.0, 10.0, 1.0])
     for r in recs:
         for key in ("frequency_hz", "percent_flicker", "flicker_index", "ieee1789", "warnings",
                     "mean", "sample_rate_hz", "duration_s", "periods", "harmonics", "level",
@@ -24,7 +25,7 @@ def test_drive_json_has_measure_keys_and_level(capsys):
     # analytic: 0/1 PWM at 1 kHz, FI = 1 - D; full depth at 1 kHz is above low risk
     assert recs[2]["flicker_index"] == pytest.approx(0.9, rel=0.01)
     assert recs[1]["ieee1789"]["region"] == "above-low-risk"
-    assert out["first_failing_level"]["ieee1789-low-risk"] == pytest.approx(0.5)
+    assert out["first_failing_level"]["ieee1789-low-risk"] == pytest.approx(50.0)
     # Pst LM needs 15 s of light (IEC 61000-4-15 settling plus observation); a sweep models
     # well under a second per level, so the criterion is unknown, not passed
     assert all(r["pst_lm"] is None for r in recs)
@@ -38,7 +39,7 @@ def test_drive_file_and_workbook(tmp_path, capsys):
                  '[edges]\nkind = "linear"\nrise_s = 1e-6\nfall_s = 1e-6\n')
     x = tmp_path / "s.xlsx"
     out = run_json(capsys, ["drive", "--drive-file", str(f), "--xlsx", str(x)])
-    assert [r["level"] for r in out["levels"]] == pytest.approx([1.0, 0.1, 0.01])
+    assert [r["level"] for r in out["levels"]] == pytest.approx([100.0, 10.0, 1.0])
     # IEEE 1789: above 3 kHz every level is no-observable-effect
     assert out["first_failing_level"]["ieee1789-noel"] is None
     assert "ieee1789-noel" not in out["not_assessed"]  # None here means every level passes
@@ -94,3 +95,20 @@ def test_failed_run_leaves_no_workbook(tmp_path, capsys):
     x = tmp_path / "out.xlsx"
     assert main(["drive", "-f", "-1", "--xlsx", str(x), "-q"]) == 1
     assert not x.exists()
+
+
+def test_levels_are_percent_at_every_edge(capsys):
+    # one name, one unit: 'level' is percent in drive, plan and camera JSON as in report's
+    out = run_json(capsys, ["plan", "-t", "low-risk", "--min-level", "1", "--levels", "3"])
+    assert min(out["levels"]) == pytest.approx(1.0) and max(out["levels"]) == pytest.approx(100)
+    assert out["frequency"]["limiting_level"] == pytest.approx(1.0)
+    cam = run_json(capsys, ["camera", "-f", "1000", "--level", "10", "--fps", "30",
+                            "--exposure", "1/120"])
+    assert cam["level"] == pytest.approx(10.0)
+    hyb = run_json(capsys, ["drive", "--method", "hybrid", "--crossover-level", "20", "-f",
+                            "1250", "--levels", "50,10"])
+    assert "crossover 20 %" in hyb["drive"]
+    # the old fraction option is refused in one line, never read as 0.2 %
+    assert main(["drive", "--method", "hybrid", "--crossover", "0.2", "-q"]) == 1
+    err = capsys.readouterr().err
+    assert "--crossover-level" in err and len(err.strip().splitlines()) == 1

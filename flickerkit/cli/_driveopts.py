@@ -12,7 +12,8 @@ def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> 
                    help="TOML drive description: keys method, frequency_hz, off_level, "
                         "turn_on_delay_s, min_on_time_s, min_on_mode, crossover, channels, "
                         "phase_offsets_deg, counts_per_period, dither_bits; tables [edges] "
-                        "(kind, rise_s, fall_s) and [ripple] (percent, line_frequency_hz, shape)")
+                        "(kind, rise_s, fall_s) and [ripple] (percent, line_frequency_hz, shape); "
+                        "off_level and crossover are fractions 0-1 there, 'levels' percent")
     g.add_argument("--method", choices=("pwm", "analogue", "hybrid"),
                    help="dimming method (default pwm)")
     if frequency:
@@ -35,8 +36,10 @@ def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> 
     g.add_argument("--ripple-shape", choices=("sine", "rectified"), help="ripple shape")
     g.add_argument("--line-hz", type=float, metavar="HZ",
                    help="mains frequency; ripple at twice it (default 50)")
-    g.add_argument("--crossover", type=float, metavar="FRACTION",
-                   help="hybrid: analogue above this level, PWM below (default 0.1)")
+    g.add_argument("--crossover-level", type=float, metavar="PERCENT",
+                   help="hybrid: analogue above this dimming level, PWM below, in percent "
+                        "(default 10)")
+    g.add_argument("--crossover", type=float, help=argparse.SUPPRESS)  # refused: see below
     g.add_argument("--channels", type=int, metavar="N", help="channels driven together")
     g.add_argument("--phases", metavar="DEG,DEG,...",
                    help="channel phase offsets in degrees (default evenly spread)")
@@ -86,7 +89,11 @@ def drive_from_args(args: argparse.Namespace):
     put("min_on_time_s", _us(args.min_on_us))
     put("min_on_mode", args.min_on_mode)
     put("off_level", args.off_level)
-    put("crossover", args.crossover)
+    if getattr(args, "crossover", None) is not None:
+        raise SettingsError("--crossover is now --crossover-level PERCENT (dimming levels are "
+                            "percent on the command line)")
+    if getattr(args, "crossover_level", None) is not None:
+        data["crossover"] = args.crossover_level / 100.0
     put("channels", args.channels)
     put("counts_per_period", args.counts)
     put("dither_bits", args.dither_bits)

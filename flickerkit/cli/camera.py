@@ -94,7 +94,8 @@ def run(args: argparse.Namespace) -> int:
     if not cams:
         raise SettingsError("no exposure fits in any frame period")
     rows = [banding(model, c).to_dict() for c in cams]
-    out = {"drive": drive.describe(), "level": level, "cameras": rows, "suggestions": []}
+    out = {"drive": drive.describe(), "level": 100.0 * level, "cameras": rows,
+           "suggestions": []}  # dimming level in percent at the JSON edge
     if args.suggest:
         try:
             lo, hi = (float(x) for x in args.suggest.split(":"))
@@ -124,7 +125,7 @@ def text(out: dict) -> str:
              fmt(r["beat_hz"], ".4g"), fmt(r["bands_per_frame"], ".4g"),
              fmt(r["rows_per_band"], ".4g"), fmt(r["band_contrast_percent"], ".3g")]
             for r in out["cameras"]]
-    s = f"drive: {out['drive']} at level {100 * out['level']:.4g} %\n\n"
+    s = f"drive: {out['drive']} at level {out['level']:.4g} %\n\n"
     s += render(["Frame rate [fps]", "Exposure [s]", "Beat [Hz]", "Bands per frame",
                  "Rows per band", "Band contrast [%]"], rows)
     if out["suggestions"]:
@@ -153,5 +154,5 @@ def write_workbook(path, out: dict, *, force: bool = False):
     write_rows(ss, ["Frequency [Hz]", "Worst band contrast [%]", "Reason"],
                [[g["frequency_hz"], g["worst_band_contrast_percent"], g["reason"]]
                 for g in out["suggestions"]], widths=[16, 24, 90])
-    set_properties(wb, "flickerkit camera banding", f"{out['drive']} at {out['level']:g}")
+    set_properties(wb, "flickerkit camera banding", f"{out['drive']} at level {out['level']:g} %")
     return write_with(path, lambda tmp: wb.save(tmp), force=force)

@@ -22,7 +22,7 @@ off-level make them differ).
 examples:
   flickerkit drive -f 1000 --levels 100,50,10,1,0.1
   flickerkit drive -f 2000 --edges linear --rise-us 2 --fall-us 1 --levels 100:0.1:200
-  flickerkit drive --method hybrid --crossover 0.2 -f 1250 --ripple 4 --json
+  flickerkit drive --method hybrid --crossover-level 20 -f 1250 --ripple 4 --json
   flickerkit drive --drive-file mydriver.toml --xlsx sweep.xlsx
 """
 
@@ -38,7 +38,8 @@ def add_parser(sub) -> None:
     o = p.add_argument_group("output")
     o.add_argument("--json", action="store_true",
                    help="print JSON: an object with 'levels' (one object per level, the keys "
-                        "of 'measure' plus 'level') and 'first_failing_level'")
+                        "of 'measure' plus 'level' in percent) and 'first_failing_level' "
+                        "(percent)")
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
     o.add_argument("--force", action="store_true", help="replace an existing workbook")
     o.add_argument("-q", "--quiet", action="store_true", help="no progress or cautions on stderr")
@@ -100,7 +101,7 @@ def table(out: dict) -> str:
     rows = []
     for r in out["levels"]:
         ieee = r.get("ieee1789") or {}
-        rows.append([fmt(100 * r["level"], ".4g"), fmt(100 * r["relative_light"], ".4g"),
+        rows.append([fmt(r["level"], ".4g"), fmt(100 * r["relative_light"], ".4g"),
                      fmt(r.get("frequency_hz"), ".5g"), fmt(r.get("percent_flicker"), ".4g"),
                      fmt(r.get("flicker_index"), ".4f"), fmt(r.get("svm"), ".3f"),
                      ieee.get("region") or "–", fmt(ieee.get("low_risk_margin_percent"), ".3g"),
@@ -118,11 +119,11 @@ def table(out: dict) -> str:
 def _first_failing_text(out: dict, name: str, lv, fmt) -> str:
     if name in out.get("not_assessed", ()):
         return "not assessed (no level gives the figure)"
-    return "none" if lv is None else fmt(100 * lv, ".4g") + " %"
+    return "none" if lv is None else fmt(lv, ".4g") + " %"
 
 
 SWEEP_COLUMNS = (
-    ("Level [%]", "level", 100.0),
+    ("Level [%]", "level", None),
     ("Relative light [%]", "relative_light", 100.0),
     ("Fundamental frequency [Hz]", "frequency_hz", None),
     ("Percent flicker [%]", "percent_flicker", None),
@@ -162,13 +163,13 @@ def write_workbook(path, out: dict, *, force: bool = False):
     fs = wb.create_sheet("First failing level")
     write_rows(fs, ["Criterion", "First failing level [%]"],
                [[k, "not assessed" if k in out.get("not_assessed", ()) else
-                 None if v is None else 100 * v] for k, v in out["first_failing_level"].items()],
+                 v] for k, v in out["first_failing_level"].items()],
                widths=[30, 24])
     hs = wb.create_sheet("Harmonics")
     rows = []
     for r in out["levels"]:
         for h in r.get("harmonics") or []:
-            rows.append([100 * r["level"], h["order"], h["frequency_hz"], h["amplitude"],
+            rows.append([r["level"], h["order"], h["frequency_hz"], h["amplitude"],
                          h["phase_deg"]])
     write_rows(hs, ["Level [%]", "Harmonic order", "Frequency [Hz]", "Amplitude / mean [1]",
                     "Phase [deg]"], rows)

@@ -41,6 +41,11 @@ def add_parser(sub) -> None:
                    help="smallest dimming level that must pass and be made (default 0.1)")
     p.add_argument("--levels", type=int, default=25, metavar="N",
                    help="log-spaced levels checked from the smallest to 100 %% (default 25)")
+    p.add_argument("--tolerance", type=float, default=None, metavar="PERCENT",
+                   help="frequency tolerance of the PWM clock (oscillator and timer clock "
+                        "error), +- percent; the recommended frequency meets the targets over "
+                        "its whole band (default 2, an internal RC oscillator over temperature; "
+                        "a quartz crystal is about 0.01; common practice)")
     t = p.add_argument_group("timer")
     t.add_argument("--clock-mhz", type=float, metavar="MHZ", help="timer clock in MHz")
     t.add_argument("--prescalers", default="1", metavar="N,N,...",
@@ -113,8 +118,11 @@ def run(args: argparse.Namespace) -> int:
         raise SettingsError(f"--levels must be at least 2 (the smallest level and 100 %), "
                             f"got {args.levels}")
     levels = default_levels(res.min_level, args.levels)
+    from ..planner import DEFAULT_TOLERANCE, check_tolerance
+
+    tol = DEFAULT_TOLERANCE if args.tolerance is None else check_tolerance(args.tolerance / 100)
     out = plan(drive, targets, levels=levels, range_hz=rng, timer=timer, prescalers=pres,
-               resolution=res)
+               resolution=res, tolerance=tol)
     from ._driveopts import emit
 
     return emit(args, out, text, write_workbook,
@@ -125,12 +133,26 @@ def text(out: dict) -> str:
     from ..export.table import fmt, render
 
     s = [f"drive: {out['drive']}",
-         f"targets: {', '.join(out['targets'])} at levels {100 * min(out['levels']):.3g} % to "
+         f"targets: {', '.join(out['targets'])} at levels {min(out['levels']):.3g} % to "
          f"100 %",
-         f"lowest PWM frequency meeting all targets: {out['lowest_frequency_hz']:.6g} Hz"]
+         f"lowest PWM frequency meeting all targets on an exact clock: "
+         f"{out['lowest_frequency_hz']:.6g} Hz"]
+    tol = out.get("tolerance_percent", 0.0)
+    if out.get("recommended_frequency_hz") is not None:
+        lo, hi = out["recommended_band_hz"]
+        s.append(f"recommended PWM frequency: {out['recommended_frequency_hz']:.6g} Hz (the "
+                 f"whole +-{tol:g} % clock tolerance band, {lo:.6g} to {hi:.6g} Hz, meets "
+                 f"the targets)")
+    for a in out.get("abrupt_changes", ()):
+        fig = ((lambda v: f"SVM {v:.3g}") if a["target"] == "svm" else (lambda v: str(v)))
+        where = ("inside the recommended band" if a["inside_band"] else
+                 f"{a['offset_percent']:+.2g} % from the recommended frequency")
+        s.append(f"  abrupt change at {a['frequency_hz']:.6g} Hz ({where}): {a['cause']}; "
+                 f"worst level {fig(a['figure_below'])} just below, "
+                 f"{fig(a['figure_at'])} at it, {fig(a['figure_above'])} just above")
     f = out["frequency"]
     if f.get("limiting_level") is not None:
-        s.append(f"  (just below it, level {100 * f['limiting_level']:.3g} % fails "
+        s.append(f"  (just below it, level {f['limiting_level']:.3g} % fails "
                  f"{f['limiting_target']})")
     if f.get("isolated_passing_below_hz"):
         s.append(f"  note: some lower frequencies (from {min(f['isolated_passing_below_hz']):.3g} "
@@ -168,8 +190,10 @@ def write_workbook(path, out: dict, *, force: bool = False):
     ws = wb.active
     ws.title = "Plan"
     rows = [["Drive", out["drive"]], ["Targets", ", ".join(out["targets"])],
-            ["Lowest frequency [Hz]", out["lowest_frequency_hz"]],
-            ["Smallest level [%]", 100 * min(out["levels"])],
+            ["Lowest frequency, exact clock [Hz]", out["lowest_frequency_hz"]],
+            ["Clock tolerance [+- %]", out.get("tolerance_percent")],
+            ["Recommended frequency [Hz]", out.get("recommended_frequency_hz")],
+            ["Smallest level [%]", min(out["levels"])],
             ["Resolution needed", out["resolution"]["need"]],
             ["Counts needed", out["resolution"]["counts_needed"]],
             ["Verdict", out.get("verdict")]]
@@ -184,6 +208,12 @@ def write_workbook(path, out: dict, *, force: bool = False):
     ts = wb.create_sheet("Timer settings")
     write_rows(ts, heads, [[", ".join(r[c]) if c == "meets" else r[c] for c in cols]
                            for r in out["settings"]])
+    ab = wb.create_sheet("Abrupt changes")
+    write_rows(ab, ["PWM frequency [Hz]", "Target", "Cause", "Worst just below", "Worst at",
+                    "Worst just above", "Inside recommended band"],
+               [[a["frequency_hz"], a["target"], a["cause"], a["figure_below"], a["figure_at"],
+                 a["figure_above"], "yes" if a["inside_band"] else "no"]
+                for a in out.get("abrupt_changes", ())], widths=[18, 10, 70, 16, 16, 16, 12])
     os_ = wb.create_sheet("Options")
     write_rows(os_, ["Option", "Cost"], [[o["option"], o["cost"]] for o in out["options"]],
                widths=[36, 120])

@@ -229,7 +229,7 @@ def transfer_from_files(args: argparse.Namespace, top: int):
 #: Options of the shared drive description; any of them selects the drive-model path.
 DRIVE_OPTIONS = ("drive_file", "method", "edges", "rise_us", "fall_us", "delay_us", "min_on_us",
                  "min_on_mode", "off_level", "ripple", "ripple_shape", "line_hz", "crossover",
-                 "channels", "phases", "counts", "dither_bits")
+                 "crossover_level", "channels", "phases", "counts", "dither_bits")
 
 
 def drive_of(args: argparse.Namespace):

@@ -124,8 +124,13 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
             v = by_key.get((crit.id, label))
             if v is None:
                 continue
-            _style_status(put(ws, r, j, v.status), v.status)
+            text = f"{v.status} *" if v.depends_on_threshold_form else v.status
+            _style_status(put(ws, r, j, text), v.status)
     ws.freeze_panes = ws.cell(row=header_row + 1, column=2)
+    if any(v.depends_on_threshold_form for v in report.verdicts):
+        r += 1
+        put(ws, r, 1, "* depends on the SVM threshold form: the other form gives the other "
+                      "verdict (see Verdicts)")
     r += 2
     put(ws, r, 1, "Cautions").font = bold
     for text in CAUTIONS:
@@ -146,11 +151,13 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
         c = crit_by_id.get(v.criterion)
         rows.append([v.criterion, c.title if c else "", v.label, v.level, v.status, v.measured,
                      v.limit, v.margin, c.unit if c else "", v.reason,
-                     c.source if c else "", c.confidence if c else ""])
+                     c.source if c else "", c.confidence if c else "",
+                     v.threshold_form or ""])
     last = write_rows(vs, ["Criterion", "Title", "Capture", "Dimming level [%]", "Verdict",
                            "Measured", "Limit", "Margin (positive = inside)", "Unit", "Reason",
-                           "Source", "Confidence in the limit"], rows,
-                      widths=[24, 40, 26, 10, 16, 12, 10, 14, 6, 60, 50, 12])
+                           "Source", "Confidence in the limit",
+                           "Depends on the SVM threshold form"], rows,
+                      widths=[24, 40, 26, 10, 16, 12, 10, 14, 6, 60, 50, 12, 50])
     for i in range(2, last + 1):
         _style_status(vs.cell(row=i, column=5), vs.cell(row=i, column=5).value)
 
