@@ -192,6 +192,7 @@ def _steps_table(project: Project):
             curve_params={"gamma": float(s["gamma"])} if "gamma" in s else None,
             pwm_frequency_hz=s.get("pwm_frequency_hz"),
             target_region=str(s.get("target_region", "low-risk")),
+            **({"visible_step": float(s["visible_step"])} if "visible_step" in s else {}),
         )
     except (TypeError, ValueError, FlickerkitError) as exc:
         raise SettingsError(f"{project.path} [steps]: {exc}") from None
