@@ -403,11 +403,15 @@ def get_curve(method: str = "cie1976", **params) -> Curve:
         Parameters of that curve (``gamma=`` for ``gamma``; ``inputs=``,
         ``outputs=`` for ``user``). Unknown parameters raise.
 
+    Returns
+    -------
+    Curve
+
     Raises
     ------
-    ValueError
-        If the method is unknown (the message lists the valid names), or a
-        parameter does not belong to it.
+    SettingsError
+        (a ValueError) If the method is unknown (the message lists the valid
+        names), or a parameter does not belong to it.
     """
     try:
         factory = CURVES[method]
