@@ -79,7 +79,22 @@ _RENAMED: dict[str, tuple[str, str]] = {
     "CRITERIA": ("criteria", "REGISTRY"),
 }
 
-__all__ = ["__version__", *_API, *_RENAMED]
+__all__ = [
+    "__version__",
+    # captures
+    "Capture", "make_capture", "read_capture", "ReadOptions",
+    # measuring
+    "assess_light", "Assessment", "AssessSettings", "assess_voltage", "percent_flicker",
+    "flicker_index", "fundamental_frequency", "svm_from_components", "pst_lm",
+    # judging
+    "judge", "CRITERIA",
+    # drive models
+    "Drive", "Pwm",
+    # brightness tables
+    "build_table", "StepTable", "get_curve",
+    # errors and warnings
+    "FlickerkitError", "InputError", "SettingsError", "CaptureWarning",
+]
 
 
 def __getattr__(name: str) -> Any:

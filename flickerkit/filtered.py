@@ -181,7 +181,8 @@ def filtered_percent_flicker(
     # and one that keeps the same ones as the previous cut-off gives the same waveform
     significant = np.abs(spec) > _NEGLIGIBLE * abs(spec[0])
     significant[0] = False
-    last_count, last_value, last_fc = None, None, -np.inf
+    last_count: int | None = None
+    last_value, last_fc = float("nan"), -np.inf
     for fc in cutoffs:
         if fc >= nyquist:
             notes.append(f"cut-off {fc:g} Hz is at or above the Nyquist frequency "

@@ -21,6 +21,7 @@ ROOT = Path(__file__).resolve().parent.parent
 
 def test_every_public_name_loads_and_is_documented():
     assert len(fk.__all__) == len(set(fk.__all__))
+    assert set(fk.__all__) == {"__version__", *fk._API, *fk._RENAMED}  # one list, kept whole
     for name in fk.__all__:
         value = getattr(fk, name)
         if name == "__version__" or isinstance(value, dict):
