@@ -337,7 +337,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     fs = capture.sample_rate_hz
     n = capture.n_samples
     where = capture.source or capture.label or None
-    warn: list[str] = []
 
     calibration = settings.light_calibration()
     meter = _pst_meter(capture, calibration)
@@ -480,7 +479,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         harmonics=tuple(harmonics),
         ieee1789_fundamental=fund,
         ieee1789_per_harmonic=per_h,
-        warnings=tuple(warn),
+        warnings=(),  # assess() adds the capture's and the caught warnings
         notes=capture.notes,
         settings=settings,
         meta=dict(capture.meta),

@@ -32,10 +32,6 @@ import numpy as np
 
 from .errors import InputError, SettingsError
 
-#: CIE 1976 constants as exact rationals: epsilon = (6/29)^3, kappa = (29/3)^3.
-CIE1976_EPSILON = 216.0 / 24389.0
-CIE1976_KAPPA = 24389.0 / 27.0
-
 #: IEC 62386-102 arc power levels: 1 (0.1 %) to 254 (100 %); 0 is off.
 IEC62386_LEVELS = 254
 

@@ -29,12 +29,10 @@ CRITERIA = (
 )
 
 
-def _svm_from_model(model) -> float | None:
-    try:
-        from .planner import svm_of_series
-        return svm_of_series(model.fourier_series(2000.0))
-    except ImportError:  # the SVM module is not installed in this tree
-        return None
+def _svm_from_model(model) -> float:
+    from .planner import svm_of_series
+
+    return svm_of_series(model.fourier_series(2000.0))
 
 
 def _fails(rec: dict[str, Any], name: str) -> bool | None:
