@@ -357,7 +357,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     fs = capture.sample_rate_hz
     n = capture.n_samples
     where = capture.source or capture.label or None
-    warn: list[str] = []
 
     calibration = settings.light_calibration()
     meter = _pst_meter(capture, calibration)
@@ -514,7 +513,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         harmonics=tuple(harmonics),
         ieee1789_fundamental=fund,
         ieee1789_per_harmonic=per_h,
-        warnings=tuple(warn),
+        warnings=(),  # assess() adds the capture's and the caught warnings
         notes=capture.notes,
         settings=settings,
         meta=dict(capture.meta),
@@ -734,14 +733,23 @@ def assess_voltage(capture: Capture, settings: AssessSettings | None = None) -> 
     brief section 4.2).
     """
     settings = settings or AssessSettings()
-    x = capture.samples
+    x = capture.samples  # an array or a streamed signal: read in slices only
+    n = capture.n_samples
     where = capture.source or capture.label or None
-    rms = float(np.sqrt(np.mean(x * x)))
+    total = squares = 0.0
+    for off, b in reduce.blocks(x):
+        if not np.isfinite(b).all():
+            bad = off + int(np.flatnonzero(~np.isfinite(b))[0])
+            raise InputError(f"sample {bad} is not a finite number", source=where)
+        total += float(np.sum(b))
+        squares += float(np.dot(b, b))
+    rms = float(np.sqrt(squares / n))
     if rms == 0.0:
         raise InputError("voltage capture is all zero", source=where)
+    head = np.asarray(x[:SEGMENT_SAMPLES], dtype=np.float64)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", FlickerkitWarning)
-        period = fundamental_frequency(x, capture.sample_rate_hz)
+        period = fundamental_frequency(head, capture.sample_rate_hz, mean=total / n, n_total=n)
         cal, lamp = _voltage_calibration(settings, period.frequency_hz, where)
         result = None
         need = flickermeter.SETTLING_S + flickermeter.MIN_OBSERVATION_S
@@ -751,8 +759,10 @@ def assess_voltage(capture: Capture, settings: AssessSettings | None = None) -> 
                 f"{need:g} s, and {cal.observation_s:g} s of observation for a full value; "
                 f"pst is null"))
         else:
-            result = flickermeter.pst(x, capture.sample_rate_hz, calibration=cal,
-                                      observation_s=settings.pst_observation_s)
+            meter = flickermeter.Flickermeter(capture.sample_rate_hz, cal)
+            for _, b in reduce.blocks(x):
+                meter.process(b)
+            result = meter.result(settings.pst_observation_s)
     found = list(capture.warnings)
     found += [str(w.message) for w in caught if issubclass(w.category, FlickerkitWarning)]
     return VoltageAssessment(

@@ -32,10 +32,6 @@ import numpy as np
 
 from .errors import InputError, SettingsError
 
-#: CIE 1976 constants as exact rationals: epsilon = (6/29)^3, kappa = (29/3)^3.
-CIE1976_EPSILON = 216.0 / 24389.0
-CIE1976_KAPPA = 24389.0 / 27.0
-
 #: IEC 62386-102 arc power levels: 1 (0.1 %) to 254 (100 %); 0 is off.
 IEC62386_LEVELS = 254
 
@@ -342,39 +338,43 @@ def read_curve_csv(path: str | Path) -> Curve:
 
 
 def read_two_columns(path: str | Path) -> tuple[np.ndarray, np.ndarray]:
-    """Read two numeric columns from a small CSV (header and ``#`` comments allowed).
+    """Read the two numeric columns of a small table with the capture reader.
+
+    The table is read by :func:`flickerkit.readers.read_capture`, so it takes
+    what a capture table takes: a header, ``#`` comments, comma, semicolon,
+    tab or space separators and decimal commas (``100;0,12``).
+
+    Parameters
+    ----------
+    path : str or Path
+        Text table (``.csv``, ``.txt``, ...) of exactly two columns [any unit].
+
+    Returns
+    -------
+    first, second : numpy.ndarray
+        The two columns, in file order.
 
     Raises
     ------
     InputError
-        If the file cannot be read or a row is not two numbers.
+        If the file cannot be read, a cell is not a number, it holds fewer
+        than two rows, or it has other than two columns.
     """
-    p = Path(path)
+    from .readers import ReadOptions, read_capture
+
+    def column(k: int) -> np.ndarray:
+        # a sample rate is given only so that no column is taken for time
+        cap = read_capture(path, ReadOptions(column=k, sample_rate_hz=1.0))
+        return np.asarray(cap.samples[:], dtype=np.float64)
+
+    second = column(2)  # read first: a bad cell in either column is then located
+    first = column(1)
     try:
-        text = p.read_text(encoding="utf-8-sig")
-    except OSError as exc:
-        raise InputError(f"cannot read ({exc.strerror or exc})", source=str(p)) from None
-    a: list[float] = []
-    b: list[float] = []
-    for number, raw in enumerate(text.splitlines(), start=1):
-        line = raw.split("#", 1)[0].strip()
-        if not line:
-            continue
-        parts = [s.strip() for s in line.replace(";", ",").replace("\t", ",").split(",")]
-        parts = [s for s in parts if s]
-        try:
-            values = [float(s) for s in parts]
-        except ValueError:
-            if not a:  # a header line before the first data row
-                continue
-            raise InputError(f"expected two numbers, got {line!r}", source=str(p),
-                             line=number) from None
-        if len(values) != 2:
-            raise InputError(f"expected two numbers, got {len(values)}", source=str(p),
-                             line=number)
-        a.append(values[0])
-        b.append(values[1])
-    return np.asarray(a), np.asarray(b)
+        column(3)
+    except InputError:
+        return first, second
+    raise InputError("the table has more than two columns; it must hold exactly two",
+                     source=str(path))
 
 
 #: Registry of named curves: name -> factory (keyword parameters of the curve).
@@ -399,11 +399,15 @@ def get_curve(method: str = "cie1976", **params) -> Curve:
         Parameters of that curve (``gamma=`` for ``gamma``; ``inputs=``,
         ``outputs=`` for ``user``). Unknown parameters raise.
 
+    Returns
+    -------
+    Curve
+
     Raises
     ------
-    ValueError
-        If the method is unknown (the message lists the valid names), or a
-        parameter does not belong to it.
+    SettingsError
+        (a ValueError) If the method is unknown (the message lists the valid
+        names), or a parameter does not belong to it.
     """
     try:
         factory = CURVES[method]

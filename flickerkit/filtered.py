@@ -195,7 +195,8 @@ def filtered_percent_flicker(
     significant = np.abs(spec) > _NEGLIGIBLE * abs(spec[0])
     significant[0] = False
     rtol = _AT_CUTOFF_RTOL + 0.5 / max(n, 1)
-    last_count, last_value, last_fc = None, None, -np.inf
+    last_count: int | None = None
+    last_value, last_fc = float("nan"), -np.inf
     for fc in cutoffs:
         if fc >= nyquist:
             notes.append(f"cut-off {fc:g} Hz is at or above the Nyquist frequency "

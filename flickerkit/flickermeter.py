@@ -511,7 +511,7 @@ def pinst_scale(calibration: Calibration) -> float:
     c = calibration
     f = c.reference_frequency_hz
     a = c.reference_modulation / 2.0
-    h = abs(analogue_response(c, f))
+    h = float(abs(analogue_response(c, f)))
     peak = (c.demodulator_gain * a * h) ** 2 / 2.0 * (
         1.0 + 1.0 / math.sqrt(1.0 + (4.0 * math.pi * f * c.smoothing_s) ** 2))
     return 1.0 / peak
@@ -736,8 +736,16 @@ class Flickermeter:
     >>> t = np.arange(int(20 * fs)) / fs
     >>> for chunk in np.array_split(1 + 0.0025 * np.sin(2 * np.pi * 8.8 * t), 7):
     ...     meter.process(chunk)
-    >>> round(meter.result().pinst_max, 2)   # 0.500 % p-p at 8.8 Hz: the reference
+    >>> import warnings
+    >>> with warnings.catch_warnings():
+    ...     warnings.simplefilter("ignore")  # the doubts are kept in result.warnings
+    ...     result = meter.result()
+    >>> round(result.pinst_max, 2)   # 0.500 % p-p at 8.8 Hz: the reference
     1.0
+    >>> for w in result.warnings:
+    ...     print(w[:48])
+    Pst over 15.0 s only, shorter than the 60 s obse
+    Pst LM from the provisional calibration 'light-p
     """
 
     def __init__(

@@ -123,32 +123,6 @@ def period_bounds(periods: int, period_samples: float, n_samples: int) -> np.nda
     return np.minimum(b, n_samples)
 
 
-def per_period_stats(samples: np.ndarray, bounds: np.ndarray) -> PeriodStats:
-    """Percent flicker and flicker index of each period between ``bounds``.
-
-    Parameters
-    ----------
-    samples : numpy.ndarray
-        Light signal [arbitrary linear unit].
-    bounds : numpy.ndarray
-        Period boundaries from :func:`period_bounds`.
-
-    Returns
-    -------
-    PeriodStats
-    """
-    from . import reduce
-
-    bounds = np.asarray(bounds, dtype=np.int64)
-    bounds = np.concatenate([bounds[:1], bounds[1:][np.diff(bounds) > 0]])
-    if bounds.size < 2:
-        nan = float("nan")
-        return PeriodStats(0, nan, nan, nan, nan)
-    _, sums = reduce.first_pass(samples, bounds)
-    above, *_ = reduce.second_pass(samples, bounds, sums.total / sums.lengths, 0.0, np.inf)
-    return stats_from_sums(sums.hi, sums.lo, sums.total, above)
-
-
 def stats_from_sums(hi: np.ndarray, lo: np.ndarray, total: np.ndarray,
                     above: np.ndarray) -> PeriodStats:
     """Per-period statistics from each period's max, min, sum and area above its mean.

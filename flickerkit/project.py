@@ -49,6 +49,7 @@ Layout (every table but ``[product]`` and one of ``[[capture]]``/``[captures]``/
     bits = 12
     min = 0.1                    # lowest lit level [%]
     pwm_frequency_hz = 1200
+    visible_step = 1.0           # step in L* counted as visible (default 2.3)
 """
 
 from __future__ import annotations

@@ -179,7 +179,7 @@ def build_report(project: Project, *, workers: int | None = None,
 
 
 def _steps_table(project: Project):
-    from .steps import build_table
+    from .steps import DEFAULT_VISIBLE_STEP, build_table
 
     s = dict(project.steps)
     try:
@@ -192,6 +192,7 @@ def _steps_table(project: Project):
             curve_params={"gamma": float(s["gamma"])} if "gamma" in s else None,
             pwm_frequency_hz=s.get("pwm_frequency_hz"),
             target_region=str(s.get("target_region", "low-risk")),
+            visible_step=float(s.get("visible_step", DEFAULT_VISIBLE_STEP)),
         )
     except (TypeError, ValueError, FlickerkitError) as exc:
         raise SettingsError(f"{project.path} [steps]: {exc}") from None

@@ -114,6 +114,7 @@ def make_counter(bits: int | None = None, top: int | None = None, min_count: int
     """
     if (bits is None) == (top is None):
         raise SettingsError("give the counter as bits or as TOP, not both or neither")
+    b: int | None
     if bits is not None:
         b = whole_number(bits, "bits")
         if not 1 <= b <= 32:
@@ -630,6 +631,7 @@ class StepTable:
     def _calibration_summary(self) -> dict:
         tr = self.transfer
         assert tr is not None and self.uncalibrated_counts is not None
+        assert self.uncalibrated_light is not None
         shift = self.counts - self.uncalibrated_counts
         un_l = lightness_of(self.uncalibrated_light)
         un_d = np.diff(un_l)
@@ -661,7 +663,7 @@ class StepTable:
             "weber": self.weber,
             "visible": self.visible,
         }
-        if self.uncalibrated_counts is not None:
+        if self.uncalibrated_counts is not None and self.uncalibrated_light is not None:
             cols["uncalibrated_count"] = self.uncalibrated_counts
             cols["uncalibrated_light"] = self.uncalibrated_light
         if self.flicker is not None:

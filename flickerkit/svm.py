@@ -426,7 +426,7 @@ def hann_components(spectrum: Spectrum) -> tuple[np.ndarray, np.ndarray]:
     claimed = np.zeros(power.size, dtype=bool)
     out_f, out_c = [], []
     h = _LOBE_HALF_WIDTH
-    for k in peaks:
+    for k in peaks.tolist():
         if claimed[k]:
             continue
         lo, hi = max(k - h, 0), min(k + h + 1, power.size)

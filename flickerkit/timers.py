@@ -253,7 +253,7 @@ class TimerSetting:
     @property
     def frequency_hz(self) -> float:
         """PWM frequency [Hz]."""
-        return pwm_frequency(self.clock_hz, self.prescaler, self.top, self.mode)
+        return float(pwm_frequency(self.clock_hz, self.prescaler, self.top, self.mode))
 
     @property
     def counts(self) -> int:
