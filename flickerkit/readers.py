@@ -27,10 +27,11 @@ import os
 import struct
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
-from .capture import Capture, make_capture, make_lazy_capture
+from .capture import Capture, ReadRecord, make_capture, make_lazy_capture
 from .errors import InputError
 from .tables import TEXT_CHUNK_ROWS, TIME_UNITS, WIDE_TABLE_COLUMNS, read_table, stream_table  # noqa: F401
 from .timebase import (SAMPLE_RATE_RANGE_HZ, UNIFORM_TOLERANCE,  # noqa: F401
@@ -148,6 +149,10 @@ class ReadOptions:
         (default) streams when the capture holds more than
         :data:`STREAM_ABOVE_SAMPLES` samples (text: more than
         :data:`STREAM_ABOVE_TEXT_BYTES` bytes).
+    require_column : bool
+        Refuse a text table in which several columns could be the light and
+        none is named (``report`` sets it), instead of measuring the first
+        with a warning.
     """
 
     column: str | int | None = None
@@ -160,6 +165,7 @@ class ReadOptions:
     raw_dtype: str | None = None
     channels: int = 1
     stream: bool | None = None
+    require_column: bool = False
 
 
 def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = None) -> Capture:
@@ -204,6 +210,8 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     else:
         samples, fs, notes, warns, meta = read_table(p, options)
     meta = {"file": name, "file_size_bytes": size, **meta}
+    read = _read_record(meta, samples, fs, options, suffix)
+    meta["read"] = read.to_dict()
     if options.dark is not None:
         dark, dark_note = _dark_level(options.dark, options)
         if isinstance(samples, FileSignal):
@@ -216,9 +224,29 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
         meta["streamed"] = True
         return make_lazy_capture(samples, fs, label=p.name, source=name,
                                  quantity=options.quantity, notes=notes, warnings=warns,
-                                 meta=meta)
+                                 meta=meta, read=read)
     return make_capture(samples, fs, label=p.name, source=name, quantity=options.quantity,
-                        notes=notes, warnings=warns, meta=meta)
+                        notes=notes, warnings=warns, meta=meta, read=read)
+
+
+def _read_record(meta: dict[str, Any], samples: Any, fs: float, options: ReadOptions,
+                 suffix: str) -> ReadRecord:
+    """What was read: the text reader's account, or one made for a binary format."""
+    given = options.sample_rate_hz is not None
+    part = dict(meta.pop("read", None) or {})
+    if not part:
+        fmt = str(meta.get("format", suffix))
+        header = {".wav": "the WAV header", ".npy": "column 1 (seconds)"}.get(suffix)
+        part = {"layout": fmt, "column": str(meta.get("column", "")),
+                "time_base": ("given (sample rate option)" if given or header is None
+                              else header),
+                "rows_skipped": None, "unit": None}
+    return ReadRecord(layout=part["layout"], column=part["column"], unit=part.get("unit"),
+                      time_base=part["time_base"], sample_rate_hz=float(fs),
+                      samples=int(getattr(samples, "shape", (len(samples),))[0]),
+                      rows_skipped=part.get("rows_skipped"),
+                      channel_choice=part.get("channel_choice"),
+                      channels=tuple(part.get("channels") or ()))
 
 
 def _streams(n: int, options: ReadOptions) -> bool:
