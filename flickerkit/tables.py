@@ -580,8 +580,7 @@ def table_layout(p: Path, options: ReadOptions) -> tuple[TableLayout, list[str]]
     head = np.array([[_to_float(f, dec) for f in _fields(ln, sep)[:k]] for ln in head_lines],
                     dtype=float)
     first_row = _fields(lines[first], sep)
-    width = max([len(_split(ln.strip(), sep)) for ln in [*lines[top:first], *head_lines]]
-                + [k])
+    width = max([len(_split(ln.strip(), sep)) for ln in head_lines] + [k])
     if names_f:
         names = [names_f[c] if c < len(names_f) and names_f[c] else f"column {c + 1}"
                  for c in range(k)]
@@ -617,6 +616,10 @@ def table_layout(p: Path, options: ReadOptions) -> tuple[TableLayout, list[str]]
     else:
         tb = _stated_base(index_col, label(index_col) if index_col is not None else None,
                           head, stated, name)
+    if tb is not None and tb.per_div_s is not None and "divisions" not in stated:
+        warns.append(f"the file gives time per division but not the number of divisions: "
+                     f"{DEFAULT_DIVISIONS} assumed; frequencies scale with it (give "
+                     f"--sample-rate HZ to be sure)")
     channels = [c for c in range(k) if c != tcol]
     sig, choice = _choose_signal(names, units, channels, tcol, tb, options, label, warns, name)
     if sig == tcol:  # a time-like column asked for as the signal, with a rate given
@@ -833,11 +836,12 @@ def read_table(p: Path, options: ReadOptions):
     cols = lay.used_columns()
     skip = lay.first
     try:
-        # usecols makes pandas' C reader 2.5x slower; only narrow a wide table with it
+        # usecols makes pandas' C reader 2.5x slower; only narrow a wide table with it, or
+        # one with cells after the data (time-base values, trailing separators, blanks)
         frame = pd.read_csv(
             p, sep=r"\s+" if lay.separator == " " else lay.separator, decimal=lay.decimal,
             header=None, names=list(range(lay.width)), skiprows=skip,
-            usecols=cols if lay.width > WIDE_TABLE_COLUMNS else None,
+            usecols=cols if lay.width > WIDE_TABLE_COLUMNS or lay.width > lay.k else None,
             dtype=np.float64, engine="c",
             encoding="utf-8-sig" if lay.encoding == "utf-8-sig" else "latin-1",
             skip_blank_lines=False, na_filter=True, keep_default_na=True,
