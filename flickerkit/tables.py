@@ -783,11 +783,16 @@ def _rate_of(lay: TableLayout, n: int, name: str) -> float | None:
     return tb.per_div_s * tb.divisions / points
 
 
-def _plausible(fs: float, lay: TableLayout, name: str) -> None:
-    """Refuse a rate from a time base without a unit that is too slow for light."""
+def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
+    """Refuse a rate from a time base without a unit that is too slow for light; warn of a
+    slow one with a unit."""
     tb = lay.time
-    if tb is None or not tb.unitless or fs >= MIN_UNITLESS_RATE_HZ:
-        return
+    if tb is None or fs >= MIN_UNITLESS_RATE_HZ:
+        return []
+    if not tb.unitless:
+        return [f"the file's time base ({tb.source}) gives {fs:.6g} Hz, slower than light "
+                f"flicker is usually sampled (at least {MIN_UNITLESS_RATE_HZ:g} Hz): check "
+                f"the time unit"]
     lo, hi = PLAUSIBLE_RATE_HZ
     fits = [(u, fs / s) for u, s in (("ms", 1e-3), ("us", 1e-6), ("ns", 1e-9))
             if lo <= fs / s <= hi]
@@ -893,7 +898,7 @@ def read_table(p: Path, options: ReadOptions):
         notes += tnotes
     else:
         fs = tb.sample_rate_hz or 1.0 / _rate_of(lay, signal.size, name)
-    _plausible(fs, lay, name)
+    warns += _plausible(fs, lay, name)
     return signal, fs, notes, warns, meta
 
 
@@ -967,8 +972,7 @@ def stream_table(p: Path, options: ReadOptions):
         fs = uniform_blocks(tsig, name, lay.first) / scale
     else:
         fs = tb.sample_rate_hz or 1.0 / _rate_of(lay, rows, name)
-    _plausible(fs, lay, name)
-    return signal, fs, notes, list(lay.warnings), meta
+    return signal, fs, notes, [*lay.warnings, *_plausible(fs, lay, name)], meta
 
 
 def _locate_bad_cell(p: Path, lay: TableLayout, cols: list[int], exc: Exception) -> InputError:
