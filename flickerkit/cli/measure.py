@@ -23,14 +23,19 @@ With --signal voltage the captures are mains voltage and the result is the
 supply's Pst (IEC 61000-4-15 voltage flickermeter), not a light metric.
 
 Files: text tables (.csv, .txt, .tsv, .dat; comma, semicolon, tab or space
-separated; decimal comma; comment/metadata lines; a time column with its unit
-in the header, or --sample-rate), .wav, .npy, and raw binary .raw/.bin
-(--raw-dtype, --sample-rate). Captures larger than memory are read block by
-block, with the same results.
+separated; decimal comma; metadata lines; a names row and optionally a units
+row; a time column with its unit, or a sample index with the time base the
+file states, or --sample-rate), .wav, .npy, and raw binary .raw/.bin
+(--raw-dtype, --sample-rate). A column of whole numbers 0, 1, 2... is a sample
+index, never seconds. Each capture's read summary (layout, column and unit,
+time base, rate, samples, lines skipped) goes to stderr; --peek shows it and
+the first rows without measuring. Captures larger than memory are read block
+by block, with the same results.
 
 examples:
   flickerkit measure bench/level_100.csv
   flickerkit measure scope.csv --column CH2 --dark 0.0031
+  flickerkit measure scope.csv --peek
   flickerkit measure logger.txt --sample-rate 50000 --json > result.json
   flickerkit measure caps/*.csv --xlsx record.xlsx
   flickerkit measure long_60s.csv --pst-calibration lab.toml --pst-observation 60
