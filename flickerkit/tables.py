@@ -177,6 +177,9 @@ class TableLayout:
         Where time comes from; None when ``--sample-rate`` is given.
     index_column : int or None
         A sample-index column (also when it is not used for time).
+    lead : int
+        Side columns before the table (empty in most rows, metadata in the first);
+        column numbers above count from the first table column.
     notes, warnings : list of str
         Provenance and doubts found while reading the head.
     """
@@ -196,6 +199,7 @@ class TableLayout:
     channels: list[str]
     time: TimeBase | None
     index_column: int | None = None
+    lead: int = 0
     notes: list[str] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
 
@@ -213,8 +217,10 @@ class TableLayout:
         mark = "comma" if self.decimal == "," else "point"
         parts = [f"{sep}-separated text table", f"decimal {mark}",
                  {"none": "no header"}.get(self.header, self.header)]
+        if self.lead:
+            parts.append(f"{self.lead} side column(s) of metadata before the table")
         if self.metadata:
-            parts.append(f"{len(self.metadata)} metadata line(s)")
+            parts.append(f"{len(self.metadata)} metadata item(s)")
         if self.index_column is not None:
             parts.append(f"sample-index column {self.label(self.index_column)!r}")
         parts.append(f"{self.k} data column(s)")
@@ -262,17 +268,19 @@ def _split(line: str, sep: str) -> list[str]:
     return line.split() if sep == " " else line.split(sep)
 
 
-def _fields(line: str, sep: str) -> list[str]:
-    """Fields of a line, unquoted and stripped, without trailing empty cells."""
-    out = [f.strip().strip('"').strip("'").strip() for f in _split(line.strip(), sep)]
+def _fields(line: str, sep: str, lead: int = 0) -> list[str]:
+    """Fields of a line after the ``lead`` side columns, unquoted and stripped, without
+    trailing empty cells."""
+    raw = line.split() if sep == " " else line.strip(" \r\n").split(sep)
+    out = [f.strip().strip('"').strip("'").strip() for f in raw[lead:]]
     while out and out[-1] == "":
         out.pop()
     return out
 
 
-def _numeric_fields(line: str, sep: str, decimal: str) -> int:
+def _numeric_fields(line: str, sep: str, decimal: str, lead: int = 0) -> int:
     """Number of fields if every field is numeric (trailing empty cells aside), else 0."""
-    fields = _fields(line, sep)
+    fields = _fields(line, sep, lead)
     if not fields:
         return 0
     for f in fields:
@@ -281,53 +289,67 @@ def _numeric_fields(line: str, sep: str, decimal: str) -> int:
     return len(fields)
 
 
-def _row_fits(line: str, sep: str, decimal: str, k: int) -> bool:
+def _row_fits(line: str, sep: str, decimal: str, k: int, lead: int = 0) -> bool:
     """A data row: ``k`` numeric fields, then only numbers or empty cells."""
     if not line.strip() or line.lstrip().startswith(_COMMENT[:3]):
         return False
-    fields = _fields(line, sep)
+    fields = _fields(line, sep, lead)
     if len(fields) < k:
         return False
     return all(_to_float(f, decimal) is not None for f in fields[:k]) and \
         all(f == "" or _to_float(f, decimal) is not None for f in fields[k:])
 
 
-def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int]:
-    """Separator, decimal mark, index of the first data line, numeric columns per row.
+def _leading_empty(line: str, sep: str) -> int:
+    raw = line.strip(" \r\n").split(sep)
+    n = 0
+    while n < len(raw) and not raw[n].strip():
+        n += 1
+    return n if n < len(raw) else 0
+
+
+def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int, int]:
+    """Separator, decimal mark, first data line, numeric columns per row, side columns.
 
     Each candidate (separator, decimal mark) is scored on the last 20
     non-empty lines of the head: the number of lines that split into the same
     count of numeric fields. The best score wins, then the larger field count.
     The table starts at the first line that is such a row (extra numeric
-    cells, e.g. a start and increment in the first row, allowed).
+    cells, e.g. a start and increment in the first row, allowed). When most
+    rows start with the same number of empty cells, the table is taken to the
+    right of them (side columns that hold metadata in the first rows).
     """
     body = [ln for ln in lines if ln.strip()]
     if not body:
         raise InputError("file holds no table", source=name)
     tail = body[-min(len(body), 20):]
-    best: tuple[int, int, str, str] | None = None
+    best: tuple[int, int, str, str, int] | None = None
     for sep, dec in (("\t", "."), ("\t", ","), (";", "."), (";", ","), (",", "."),
                      (" ", "."), (" ", ",")):
-        counts = [_numeric_fields(ln, sep, dec) for ln in tail]
-        nonzero = [c for c in counts if c > 0]
-        if not nonzero:
-            continue
-        k = max(set(nonzero), key=lambda c: (nonzero.count(c), c))
-        score = (nonzero.count(k), k)
-        if best is None or score > best[:2]:
-            best = (score[0], k, sep, dec)
+        leads = [0]
+        if sep != " ":
+            empties = [_leading_empty(ln, sep) for ln in tail]
+            common = max(set(empties), key=empties.count)
+            if common > 0 and empties.count(common) >= max(1, len(tail) // 2):
+                leads.append(common)
+        for lead in leads:
+            counts = [_numeric_fields(ln, sep, dec, lead) for ln in tail]
+            nonzero = [c for c in counts if c > 0]
+            if not nonzero:
+                continue
+            k = max(set(nonzero), key=lambda c: (nonzero.count(c), c))
+            score = (nonzero.count(k), k)
+            if best is None or score > best[:2]:
+                best = (score[0], k, sep, dec, lead)
     if best is None or best[0] < max(1, len(tail) // 2):
-        lead = sum(1 for ln in tail if ln.strip().startswith(("," , ";", "\t")))
-        hint = (" (the rows start with empty cells: remove the leading columns)"
-                if lead > len(tail) // 2 else "")
         raise InputError("no numeric table found: the last lines are not rows of numbers "
-                         "with a common separator (comma, semicolon, tab or space)" + hint,
+                         "with a common separator (comma, semicolon, tab or space)",
                          source=name)
-    _, k, sep, dec = best
+    _, k, sep, dec, lead = best
     for i, ln in enumerate(lines):
-        if _row_fits(ln, sep, dec, k) and (_numeric_fields(ln, sep, dec) == k or any(
-                _numeric_fields(x, sep, dec) == k for x in lines[i + 1 : i + 3])):
-            return sep, dec, i, k
+        if _row_fits(ln, sep, dec, k, lead) and (_numeric_fields(ln, sep, dec, lead) == k or any(
+                _numeric_fields(x, sep, dec, lead) == k for x in lines[i + 1 : i + 3])):
+            return sep, dec, i, k, lead
     raise InputError("no numeric table found", source=name)
 
 
@@ -358,7 +380,7 @@ def _units_row(f: list[str], k: int) -> bool:
     return bool(head) and all(_bare(x) in _UNIT_TOKENS for x in head)
 
 
-def _header_rows(lines: list[str], first: int, sep: str, dec: str, k: int):
+def _header_rows(lines: list[str], first: int, sep: str, dec: str, k: int, lead: int = 0):
     """(names fields, units fields, line index of the top header row) above the data."""
     above: list[tuple[int, list[str]]] = []
     j = first - 1
@@ -371,7 +393,7 @@ def _header_rows(lines: list[str], first: int, sep: str, dec: str, k: int):
             continue
         if ln.lstrip().startswith(_COMMENT):
             break
-        above.append((j, _fields(ln, sep)))
+        above.append((j, _fields(ln, sep, lead)))
         j -= 1
     if not above:
         return None, None, first
@@ -574,13 +596,14 @@ def table_layout(p: Path, options: ReadOptions) -> tuple[TableLayout, list[str]]
     name = str(p)
     text, enc = _decode_head(p)
     lines = text.splitlines()
-    sep, dec, first, k = _sniff(lines, name)
-    names_f, units_f, top = _header_rows(lines, first, sep, dec, k)
-    head_lines = [ln for ln in lines[first : first + 50] if _row_fits(ln, sep, dec, k)]
-    head = np.array([[_to_float(f, dec) for f in _fields(ln, sep)[:k]] for ln in head_lines],
-                    dtype=float)
-    first_row = _fields(lines[first], sep)
-    width = max([len(_split(ln.strip(), sep)) for ln in head_lines] + [k])
+    sep, dec, first, k, lead = _sniff(lines, name)
+    names_f, units_f, top = _header_rows(lines, first, sep, dec, k, lead)
+    head_lines = [ln for ln in lines[first : first + 50] if _row_fits(ln, sep, dec, k, lead)]
+    head = np.array([[_to_float(f, dec) for f in _fields(ln, sep, lead)[:k]]
+                     for ln in head_lines], dtype=float)
+    first_row = _fields(lines[first], sep, lead)
+    width = max([len(_split(ln.strip(" \r\n") if sep != " " else ln, sep))
+                 for ln in head_lines] + [k + lead])
     if names_f:
         names = [names_f[c] if c < len(names_f) and names_f[c] else f"column {c + 1}"
                  for c in range(k)]
@@ -593,6 +616,11 @@ def table_layout(p: Path, options: ReadOptions) -> tuple[TableLayout, list[str]]
         u = units_f[c] if units_f and c < len(units_f) and units_f[c] else None
         units.append(u.strip("()[]{} ") if u else _bracket_unit(names[c]) if names_f else None)
     meta_items = _meta_items(lines[:top])
+    if lead:  # metadata in the side columns of the first rows: key, value[, unit]
+        for ln in lines[top : first + 50]:
+            side = [f.strip().strip('"') for f in ln.strip(" \r\n").split(sep)[:lead]]
+            if side and side[0] and len(side) > 1 and side[1]:
+                meta_items.append((side[0], " ".join(x for x in side[1:] if x)))
     metadata = {key: value for key, value in meta_items}
     stated = _stated([*((a, b, "metadata") for a, b in meta_items),
                       *_extra_items(names_f, units_f, first_row, k)], dec)
@@ -627,7 +655,8 @@ def table_layout(p: Path, options: ReadOptions) -> tuple[TableLayout, list[str]]
     layout = TableLayout(
         encoding=enc, separator=sep, decimal=dec, first=first, width=width, k=k, names=names,
         units=units, header=header, metadata=metadata, signal=sig, choice=choice,
-        channels=[label(c) for c in channels], time=tb, index_column=index_col, notes=notes,
+        channels=[label(c) for c in channels], time=tb, index_column=index_col, lead=lead,
+        notes=notes,
         warnings=warns)
     return layout, lines
 
@@ -741,24 +770,27 @@ def _choose_signal(names, units, channels, tcol, tb, options, label, warns, name
         raise InputError("the table has a time column but no signal column", source=name)
     if len(channels) == 1:
         return channels[0], "the only signal column"
-    text = {c: f"{names[c]} {units[c] or ''}" for c in channels}
-    light = [c for c in channels if _LIGHT.search(text[c])]
-    if len(light) == 1:
-        return light[0], "its name or unit says light"
-    pool = light or [c for c in channels if not _NOT_LIGHT.search(text[c])
-                     and _bare(units[c] or "") not in _NOT_LIGHT_UNITS]
-    if len(pool) == 1:
-        others = ", ".join(label(c) for c in channels if c != pool[0])
-        return pool[0], f"the other columns ({others}) are named as drive, current or mains"
-    pool = pool or channels
+    what = "the light" if options.quantity == "light" else f"the {options.quantity}"
+    pool = channels
+    if options.quantity == "light":  # names and units that say light, or say not light
+        text = {c: f"{names[c]} {units[c] or ''}" for c in channels}
+        light = [c for c in channels if _LIGHT.search(text[c])]
+        if len(light) == 1:
+            return light[0], "its name or unit says light"
+        pool = light or [c for c in channels if not _NOT_LIGHT.search(text[c])
+                         and _bare(units[c] or "") not in _NOT_LIGHT_UNITS]
+        if len(pool) == 1:
+            others = ", ".join(label(c) for c in channels if c != pool[0])
+            return pool[0], f"the other columns ({others}) are named as drive, current or mains"
+        pool = pool or channels
     shown = ", ".join(repr(label(c)) for c in pool)
     if options.require_column:
-        raise InputError(f"{len(pool)} columns could be the light ({shown}) and none is named: "
+        raise InputError(f"{len(pool)} columns could be {what} ({shown}) and none is named: "
                          f"choose one with column = \"NAME\" or a number in the project file",
                          source=name)
-    warns.append(f"{len(pool)} columns could be the light ({shown}); measured "
-                 f"{label(pool[0])!r}, the first: name the light with --column to be sure")
-    return pool[0], f"the first of {len(pool)} that could be the light"
+    warns.append(f"{len(pool)} columns could be {what} ({shown}); measured "
+                 f"{label(pool[0])!r}, the first: name it with --column to be sure")
+    return pool[0], f"the first of {len(pool)} that could be {what}"
 
 
 def _unit_of(name: str) -> float | None:
@@ -846,7 +878,8 @@ def read_table(p: Path, options: ReadOptions):
         frame = pd.read_csv(
             p, sep=r"\s+" if lay.separator == " " else lay.separator, decimal=lay.decimal,
             header=None, names=list(range(lay.width)), skiprows=skip,
-            usecols=cols if lay.width > WIDE_TABLE_COLUMNS or lay.width > lay.k else None,
+            usecols=([c + lay.lead for c in cols]
+                     if lay.width > WIDE_TABLE_COLUMNS or lay.width > lay.k else None),
             dtype=np.float64, engine="c",
             encoding="utf-8-sig" if lay.encoding == "utf-8-sig" else "latin-1",
             skip_blank_lines=False, na_filter=True, keep_default_na=True,
@@ -854,7 +887,7 @@ def read_table(p: Path, options: ReadOptions):
         )
     except (ValueError, pd.errors.ParserError) as exc:
         raise _locate_bad_cell(p, lay, cols, exc) from None
-    data = {c: frame[c].to_numpy() for c in cols}
+    data = {c: frame[c + lay.lead].to_numpy() for c in cols}
     notes: list[str] = list(lay.notes)
     warns: list[str] = list(lay.warnings)
     # trailing blank lines are not gaps
@@ -931,7 +964,8 @@ def stream_table(p: Path, options: ReadOptions):
     try:
         reader = pd.read_csv(p, sep=r"\s+" if lay.separator == " " else lay.separator,
                              decimal=lay.decimal, header=None, names=list(range(lay.width)),
-                             skiprows=lay.first, usecols=cols, dtype=np.float64, engine="c",
+                             skiprows=lay.first, usecols=[c + lay.lead for c in cols],
+                             dtype=np.float64, engine="c",
                              encoding="utf-8-sig" if lay.encoding == "utf-8-sig"
                              else "latin-1", skip_blank_lines=True, index_col=False,
                              chunksize=TEXT_CHUNK_ROWS)
@@ -939,16 +973,16 @@ def stream_table(p: Path, options: ReadOptions):
             try:
                 for chunk in reader:
                     for c in cols:
-                        v = chunk[c].to_numpy()
+                        v = chunk[c + lay.lead].to_numpy()
                         bad = ~np.isfinite(v)
                         if bad.any():
                             i = int(np.flatnonzero(bad)[0])
                             raise InputError(f"blank, NaN or infinite cell in data row "
                                              f"{rows + i + 1}", source=name,
                                              column=lay.label(c))
-                    chunk[sig].to_numpy().tofile(fsig)
+                    chunk[sig + lay.lead].to_numpy().tofile(fsig)
                     if use_time:
-                        chunk[tb.column].to_numpy().tofile(ftime)
+                        chunk[tb.column + lay.lead].to_numpy().tofile(ftime)
                     rows += len(chunk)
             except (ValueError, pd.errors.ParserError) as exc:
                 if isinstance(exc, InputError):
@@ -984,7 +1018,8 @@ def _locate_bad_cell(p: Path, lay: TableLayout, cols: list[int], exc: Exception)
     try:
         frame = pd.read_csv(p, sep=r"\s+" if lay.separator == " " else lay.separator,
                             header=None, names=list(range(lay.width)), skiprows=skip,
-                            usecols=cols, dtype=str, engine="c", keep_default_na=False,
+                            usecols=[c + lay.lead for c in cols], dtype=str, engine="c",
+                            keep_default_na=False,
                             skip_blank_lines=False, encoding="utf-8-sig"
                             if lay.encoding == "utf-8-sig" else "latin-1", index_col=False)
     except (ValueError, pd.errors.ParserError) as exc2:
@@ -994,7 +1029,7 @@ def _locate_bad_cell(p: Path, lay: TableLayout, cols: list[int], exc: Exception)
         return InputError(f"rows do not all have the same number of fields ({msg})",
                           source=name, line=line)
     for c in cols:
-        col = frame[c].to_numpy()
+        col = frame[c + lay.lead].to_numpy()
         for i, v in enumerate(col):
             v = str(v)
             if v.strip() == "" or v.strip().lower() in ("nan", "na", "n/a", "null"):

@@ -143,6 +143,20 @@ def test_time_per_division_with_point_count(tmp_path, light):
     assert any("10 assumed" in w for w in cap.warnings)
 
 
+def test_metadata_in_side_columns_of_the_first_rows(tmp_path, light):
+    """Key, value, unit in three side columns of the first rows, empty below; the table to
+    the right of them without a header; the time column's unit from the stated interval."""
+    t = -0.0123 + np.arange(light.size) * DT
+    side = [("Record Length", f"{light.size}", "Points"), ("Sample Interval", f"{DT:.6e}", "s"),
+            ("Trigger Point", "2460", "Samples"), ("Source", "CH1", ""), ("Units", "V", "")]
+    p = tmp_path / "side.csv"
+    p.write_text("".join(f"{','.join(side[i]) if i < len(side) else ',,'},{a:.9e},{b:.7g},\n"
+                         for i, (a, b) in enumerate(zip(t, light))))
+    cap = read_capture(p)
+    check(cap, light)
+    assert "3 side column(s)" in cap.read.layout and "Sample Interval" in cap.read.time_base
+
+
 def test_trailing_separators_and_empty_trailing_cells_decimal_comma(tmp_path, light):
     t = np.arange(light.size) * DT
     p = tmp_path / "trailing.csv"
