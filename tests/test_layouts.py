@@ -355,7 +355,17 @@ def test_report_requires_the_column_when_ambiguous(tmp_path, light, gate, capsys
     assert "none is named" in err and "project file" in err
     assert not out.exists()
     proj.write_text(proj.read_text() + 'column = "CH2"\n')
-    assert main(["report", str(proj), "-o", str(out), "-q", "--json"]) == 0
-    rec = json.loads(capsys.readouterr().out)["records"][0]
+    assert main(["report", str(proj), "-o", str(out), "--json"]) == 0
+    c = capsys.readouterr()
+    rec = json.loads(c.out)["records"][0]
     assert rec["read"]["column"] == "CH2"
     assert rec["percent_flicker"] == pytest.approx(PF, rel=REL_TOL)
+    assert "read: amb.csv:" in c.err  # the terminal note
+    from openpyxl import load_workbook
+
+    ins = load_workbook(out)["Inputs"]
+    row = dict(zip([x.value for x in ins[1]], next(ins.iter_rows(min_row=2, values_only=True))))
+    assert row["Column measured"] == "CH2" and row["Unit"] == "V"
+    assert row["Time base from"] == "column 'Time' in s (units row)"
+    assert row["Lines skipped"] == 2 and "names + units rows" in row["Layout read"]
+    assert row["Sample rate [Hz]"] == pytest.approx(FS)
