@@ -346,11 +346,29 @@ def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int, int]:
                          "with a common separator (comma, semicolon, tab or space)",
                          source=name)
     _, k, sep, dec, lead = best
+    if (sep, dec, k, lead) == (",", ".", 2, 0) and _one_decimal_comma_column(lines, tail):
+        sep, dec, k = "\t", ",", 1
     for i, ln in enumerate(lines):
         if _row_fits(ln, sep, dec, k, lead) and (_numeric_fields(ln, sep, dec, lead) == k or any(
                 _numeric_fields(x, sep, dec, lead) == k for x in lines[i + 1 : i + 3])):
             return sep, dec, i, k, lead
     raise InputError("no numeric table found", source=name)
+
+
+def _one_decimal_comma_column(lines: list[str], tail: list[str]) -> bool:
+    """Rows like ``0,25`` under a one-name header: one column with a decimal comma, not two.
+
+    Without a header the two readings cannot be told apart and the comma separates.
+    """
+    if not all(_numeric_fields(ln, "\t", ",") == 1 for ln in tail):
+        return False
+    first = next((i for i, ln in enumerate(lines) if _numeric_fields(ln, "\t", ",") == 1), 0)
+    above = [ln for ln in lines[:first] if ln.strip()]
+    if not above or above[-1].lstrip().startswith(_COMMENT) or _is_keyvalue(above[-1]):
+        return False
+    f = _fields(above[-1], ",")
+    return len(f) == 1 and _to_float(f[0], ".") is None and "\t" not in above[-1] \
+        and ";" not in above[-1]
 
 
 def _bare(token: str) -> str:
@@ -689,6 +707,7 @@ def _time_column_base(c: int, label: str, unit_text: str | None, name: str, head
                                              f"inferred from {rate[1]!r})")
         warns.append(f"time column {label!r} has no unit and no unit fits the stated sample "
                      f"rate {rate[0]:.6g} Hz ({rate[1]!r}); read as seconds")
+    notes.append(f"time column {label!r} has no unit; read as seconds")
     return TimeBase(c, 1.0, source=f"column {label!r} without a unit, read as seconds",
                     unitless=True)
 
@@ -982,7 +1001,8 @@ def stream_table(p: Path, options: ReadOptions):
                                              column=lay.label(c))
                     chunk[sig + lay.lead].to_numpy().tofile(fsig)
                     if use_time:
-                        chunk[tb.column + lay.lead].to_numpy().tofile(ftime)
+                        v = chunk[tb.column + lay.lead].to_numpy()
+                        (v if tb.per_div_s is not None else v * tb.scale).tofile(ftime)
                     rows += len(chunk)
             except (ValueError, pd.errors.ParserError) as exc:
                 if isinstance(exc, InputError):
@@ -1001,9 +1021,9 @@ def stream_table(p: Path, options: ReadOptions):
     if options.sample_rate_hz is not None:
         fs = float(options.sample_rate_hz)
     elif use_time:
-        scale = _rate_of(lay, rows, name) or tb.scale
+        # time in seconds, as in memory; an index under time per division is scaled after
         tsig = FileSignal(str(tmp / "time.f64"), np.float64, 0, rows)
-        fs = uniform_blocks(tsig, name, lay.first) / scale
+        fs = uniform_blocks(tsig, name, lay.first) / (_rate_of(lay, rows, name) or 1.0)
     else:
         fs = tb.sample_rate_hz or 1.0 / _rate_of(lay, rows, name)
     return signal, fs, notes, [*lay.warnings, *_plausible(fs, lay, name)], meta
