@@ -40,7 +40,8 @@ def add_parser(sub) -> None:
     p.add_argument("--force", action="store_true", help="replace an existing workbook")
     p.add_argument("--json", action="store_true",
                    help="print the verdicts and figures as JSON instead of the table")
-    p.add_argument("-q", "--quiet", action="store_true", help="no progress bar or read summary on stderr")
+    p.add_argument("-q", "--quiet", action="store_true",
+                   help="no progress bar or read summary on stderr")
     add_batch_options(p)
     p.set_defaults(run=run)
 
