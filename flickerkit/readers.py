@@ -389,6 +389,23 @@ def _read_wav(p: Path, options: ReadOptions):
     return np.asarray(sig, dtype=np.float64), fs, notes, warns, meta
 
 
+def _npy_time_checked(data, fs: float, name: str) -> float:
+    """Column 1 of a 2-D ``.npy`` is seconds by convention, with no unit stated: refuse a
+    sample count (0, 1, 2, ...) or a rate too slow for light, as for a text table."""
+    from .tables import MIN_UNITLESS_RATE_HZ
+
+    head = np.asarray(data[:50, 0], dtype=np.float64)
+    if head.size >= 2 and np.all(np.diff(head) == 1) and np.all(head == np.round(head)):
+        raise InputError("column 1 counts samples (0, 1, 2, ...), it is not time in seconds: "
+                         "give --sample-rate HZ", source=name)
+    if fs < MIN_UNITLESS_RATE_HZ:
+        raise InputError(f"column 1, read as seconds, gives a sample rate of {fs:.6g} Hz, too "
+                         f"slow for light flicker (at least {MIN_UNITLESS_RATE_HZ:g} Hz "
+                         f"expected): save time in seconds or give --sample-rate HZ",
+                         source=name)
+    return fs
+
+
 def _read_npy(p: Path, options: ReadOptions):
     name = str(p)
     try:
@@ -427,11 +444,13 @@ def _read_npy(p: Path, options: ReadOptions):
             if options.resample:
                 raise InputError("--resample needs the capture in memory; it is too long to "
                                  "stream with resampling", source=name)
-            fs = _uniform_blocks(_file_signal(data, p, 0), name, 0)
+            fs = _npy_time_checked(data, _uniform_blocks(_file_signal(data, p, 0), name, 0),
+                                   name)
             return (_file_signal(data, p, col - 1), fs, notes, [],
                     {"format": "NumPy .npy", "column": f"column {col}"})
         t = np.asarray(data[:, 0], dtype=np.float64)
         x, fs, notes = _uniform(t, np.asarray(sig, dtype=np.float64), options.resample, name, 0)
+        fs = _npy_time_checked(data, fs, name)
     if x.dtype != np.float64:
         x = x.astype(np.float64)
     if not np.all(np.isfinite(x)):

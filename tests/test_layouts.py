@@ -369,3 +369,19 @@ def test_report_requires_the_column_when_ambiguous(tmp_path, light, gate, capsys
     assert row["Time base from"] == "column 'Time' in s (units row)"
     assert row["Lines skipped"] == 2 and "names + units rows" in row["Layout read"]
     assert row["Sample rate [Hz]"] == pytest.approx(FS)
+
+
+def test_npy_sample_count_or_slow_column_1_is_refused(tmp_path, light):
+    """A 2-D .npy holds time in seconds in column 1 by convention; no unit is stated."""
+    p = tmp_path / "idx.npy"
+    np.save(p, np.column_stack([np.arange(light.size), light]))
+    with pytest.raises(InputError, match="counts samples"):
+        read_capture(p)
+    q = tmp_path / "ms.npy"
+    np.save(q, np.column_stack([np.arange(light.size) * DT * 1e3, light]))
+    with pytest.raises(InputError, match=r"gives a sample rate of 200 Hz"):
+        read_capture(q)
+    r = tmp_path / "s.npy"
+    np.save(r, np.column_stack([np.arange(light.size) * DT, light]))
+    check(read_capture(r), light)
+    assert read_capture(r).read.time_base == "column 1 (seconds)"
