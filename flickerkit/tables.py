@@ -793,11 +793,12 @@ def _choose_signal(names, units, channels, tcol, tb, options, label, warns, name
     pool = channels
     if options.quantity == "light":  # names and units that say light, or say not light
         text = {c: f"{names[c]} {units[c] or ''}" for c in channels}
-        light = [c for c in channels if _LIGHT.search(text[c])]
+        not_light = {c for c in channels if _NOT_LIGHT.search(text[c])
+                     or _bare(units[c] or "") in _NOT_LIGHT_UNITS}
+        light = [c for c in channels if _LIGHT.search(text[c]) and c not in not_light]
         if len(light) == 1:
             return light[0], "its name or unit says light"
-        pool = light or [c for c in channels if not _NOT_LIGHT.search(text[c])
-                         and _bare(units[c] or "") not in _NOT_LIGHT_UNITS]
+        pool = light or [c for c in channels if c not in not_light]
         if len(pool) == 1:
             others = ", ".join(label(c) for c in channels if c != pool[0])
             return pool[0], f"the other columns ({others}) are named as drive, current or mains"
