@@ -257,6 +257,7 @@ class Assessment:
             "spectrum_window": self.spectrum.window,
             "input": {k: self.meta[k] for k in ("file", "format", "column", "dark_level",
                                                  "file_size_bytes") if k in self.meta},
+            "read": self.meta.get("read"),
             "svm": num(self.svm.value) if self.svm else None,
             "svm_detail": _svm_detail(self.svm),
             "pst_lm": num(self.pst_lm.pst) if self.pst_lm else None,
@@ -684,6 +685,7 @@ class VoltageAssessment:
             "pst": num(self.pst.pst) if self.pst else None,
             "pst_calibration": self.pst_calibration,
             "pst_detail": _pst_detail(self.pst),
+            "read": self.meta.get("read"),
             "warnings": list(self.warnings),
             "notes": list(self.notes),
         }

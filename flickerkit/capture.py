@@ -18,6 +18,63 @@ from .errors import InputError
 QUANTITIES = ("light", "voltage")
 
 
+@dataclass(frozen=True)
+class ReadRecord:
+    """What a reader read: the echo every measurement carries.
+
+    Attributes
+    ----------
+    layout : str
+        The file layout detected (format, separator, header rows, metadata...).
+    column : str
+        The column (channel) measured.
+    unit : str or None
+        Its unit, where the file states one.
+    time_base : str
+        Where the time base came from (a time column and its unit, a sample
+        index times a stated interval, a stated rate, the WAV header, given).
+    sample_rate_hz : float
+        The sample rate [Hz].
+    samples : int
+        Samples read.
+    rows_skipped : int or None
+        Lines before the first data row of a text table (metadata, header,
+        units row, comments); None for binary files.
+    channel_choice : str or None
+        Why this column was measured (named, the only one, its name says light...).
+    channels : tuple of str
+        The signal columns the file holds.
+    """
+
+    layout: str
+    column: str
+    unit: str | None
+    time_base: str
+    sample_rate_hz: float
+    samples: int
+    rows_skipped: int | None = None
+    channel_choice: str | None = None
+    channels: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON ``read`` object."""
+        return {"layout": self.layout, "column": self.column, "unit": self.unit,
+                "time_base": self.time_base, "sample_rate_hz": self.sample_rate_hz,
+                "samples": self.samples, "rows_skipped": self.rows_skipped,
+                "channel_choice": self.channel_choice, "channels": list(self.channels)}
+
+
+def describe_read(read: Mapping[str, Any]) -> str:
+    """One line saying what was read, from a :class:`ReadRecord` or its ``to_dict()``."""
+    d = read.to_dict() if isinstance(read, ReadRecord) else dict(read)
+    unit = f" [{d['unit']}]" if d.get("unit") else ""
+    why = f" ({d['channel_choice']})" if d.get("channel_choice") else ""
+    skipped = (f", {d['rows_skipped']} line(s) before the data skipped"
+               if d.get("rows_skipped") is not None else "")
+    return (f"{d['layout']}; measured {d['column']!r}{unit}{why}; time base: "
+            f"{d['time_base']}; {d['sample_rate_hz']:.6g} Hz, {d['samples']} samples{skipped}")
+
+
 @dataclass(frozen=True, eq=False)
 class Capture:
     """A uniformly sampled signal with its sample rate and provenance.
@@ -47,6 +104,8 @@ class Capture:
         :func:`flickerkit.assess.assess` adds them to its own.
     meta : Mapping
         Free provenance fields (column, dark level, file size, ...).
+    read : ReadRecord or None
+        What a reader read (None for modelled light).
     """
 
     samples: np.ndarray
@@ -57,6 +116,7 @@ class Capture:
     notes: tuple[str, ...] = ()
     warnings: tuple[str, ...] = ()
     meta: Mapping[str, Any] = field(default_factory=dict)
+    read: ReadRecord | None = None
 
     @property
     def n_samples(self) -> int:
@@ -95,6 +155,7 @@ def make_capture(
     notes: tuple[str, ...] | list[str] = (),
     warnings: tuple[str, ...] | list[str] = (),
     meta: Mapping[str, Any] | None = None,
+    read: ReadRecord | None = None,
 ) -> Capture:
     """Validate samples and wrap them in a :class:`Capture`.
 
@@ -137,7 +198,7 @@ def make_capture(
     _check_quantity(quantity, where)
     return Capture(samples=x, sample_rate_hz=rate, label=label, source=source,
                    quantity=quantity, notes=tuple(notes), warnings=tuple(warnings),
-                   meta=dict(meta or {}))
+                   meta=dict(meta or {}), read=read)
 
 
 def make_lazy_capture(
@@ -150,6 +211,7 @@ def make_lazy_capture(
     notes: tuple[str, ...] | list[str] = (),
     warnings: tuple[str, ...] | list[str] = (),
     meta: Mapping[str, Any] | None = None,
+    read: ReadRecord | None = None,
 ) -> Capture:
     """Wrap samples that are read in slices (a file larger than memory) in a :class:`Capture`.
 
@@ -174,4 +236,4 @@ def make_lazy_capture(
     _check_quantity(quantity, where)
     return Capture(samples=samples, sample_rate_hz=rate, label=label, source=source,
                    quantity=quantity, notes=tuple(notes), warnings=tuple(warnings),
-                   meta=dict(meta or {}))
+                   meta=dict(meta or {}), read=read)

@@ -19,13 +19,14 @@ Layout (every table but ``[product]`` and one of ``[[capture]]``/``[captures]``/
 
     [read]                       # how to read every capture (per-capture keys win)
     dark = "dark.csv"            # a level, or a dark capture file
-    column = "photodiode (V)"
+    column = "photodiode (V)"    # name (with or without its bracketed unit) or number
     sample_rate_hz = 50000       # for files without time
 
     [[capture]]
     level = 100                  # dimming level [% of full output]
     file = "level100.csv"
-    column = "CH1"               # optional
+    column = "CH1"               # the light's column: a name or a 1-based number; needed
+                                 # when several columns could be the light
     label = "full output"        # optional
 
     [captures]                   # or: every matching file, level from the name

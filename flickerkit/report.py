@@ -82,7 +82,8 @@ def _read_options(entry_read: dict[str, Any], base: Path):
                        sample_rate_hz=entry_read.get("sample_rate_hz"),
                        time_unit=entry_read.get("time_unit"), dark=dark,
                        resample=bool(entry_read.get("resample", False)),
-                       fill_gaps=bool(entry_read.get("fill_gaps", False)))
+                       fill_gaps=bool(entry_read.get("fill_gaps", False)),
+                       require_column=True)
 
 
 def build_report(project: Project, *, workers: int | None = None,
@@ -143,7 +144,12 @@ def build_report(project: Project, *, workers: int | None = None,
             info.update(status="measured", sample_rate_hz=rec["sample_rate_hz"],
                         duration_s=rec["duration_s"], n_samples=rec["n_samples"],
                         dark_level=(rec.get("input") or {}).get("dark_level"),
-                        column=entry.read.get("column"))
+                        column=(rec.get("input") or {}).get("column",
+                                                            entry.read.get("column")))
+            read = rec.get("read") or {}
+            info.update(layout=read.get("layout"), unit=read.get("unit"),
+                        time_base=read.get("time_base"), rows_skipped=read.get("rows_skipped"),
+                        channel_choice=read.get("channel_choice"))
             records.append(rec)
             levels.append(entry.level)
             inputs.append(info)

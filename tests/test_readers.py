@@ -143,7 +143,7 @@ def test_bad_text_inputs(tmp_path, name, text, message):
 
 
 def test_fill_gaps_interpolates(tmp_path):
-    p = write(tmp_path, "blank.csv", "time,light\n0,1\n0.1,\n0.2,3\n0.3,4\n0.4,5\n")
+    p = write(tmp_path, "blank.csv", "time (s),light\n0,1\n0.1,\n0.2,3\n0.3,4\n0.4,5\n")
     cap = read_capture(p, ReadOptions(fill_gaps=True))
     assert cap.samples[1] == pytest.approx(2.0)  # analytic: linear interpolation of 1 and 3
 
@@ -174,7 +174,7 @@ def test_wav_rail_clipping_is_reported(tmp_path):
 
 
 def test_dark_and_negative_capture_rejected(tmp_path):
-    p = write(tmp_path, "zero.csv", "time,light\n" + "".join(f"{i/10},0\n" for i in range(20)))
+    p = write(tmp_path, "zero.csv", "time (s),light\n" + "".join(f"{i/10},0\n" for i in range(20)))
     from flickerkit.assess import assess as run
 
     with pytest.raises(InputError, match="dark"):

@@ -23,14 +23,19 @@ With --signal voltage the captures are mains voltage and the result is the
 supply's Pst (IEC 61000-4-15 voltage flickermeter), not a light metric.
 
 Files: text tables (.csv, .txt, .tsv, .dat; comma, semicolon, tab or space
-separated; decimal comma; comment/metadata lines; a time column with its unit
-in the header, or --sample-rate), .wav, .npy, and raw binary .raw/.bin
-(--raw-dtype, --sample-rate). Captures larger than memory are read block by
-block, with the same results.
+separated; decimal comma; metadata lines; a names row and optionally a units
+row; a time column with its unit, or a sample index with the time base the
+file states, or --sample-rate), .wav, .npy, and raw binary .raw/.bin
+(--raw-dtype, --sample-rate). A column of whole numbers 0, 1, 2... is a sample
+index, never seconds. Each capture's read summary (layout, column and unit,
+time base, rate, samples, lines skipped) goes to stderr; --peek shows it and
+the first rows without measuring. Captures larger than memory are read block
+by block, with the same results.
 
 examples:
   flickerkit measure bench/level_100.csv
   flickerkit measure scope.csv --column CH2 --dark 0.0031
+  flickerkit measure scope.csv --peek
   flickerkit measure logger.txt --sample-rate 50000 --json > result.json
   flickerkit measure caps/*.csv --xlsx record.xlsx
   flickerkit measure long_60s.csv --pst-calibration lab.toml --pst-observation 60
@@ -127,7 +132,12 @@ def add_parser(sub) -> None:
                    help="print a JSON array (one object per capture) instead of the table")
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
     o.add_argument("--force", action="store_true", help="replace an existing workbook")
-    o.add_argument("-q", "--quiet", action="store_true", help="no progress or cautions on stderr")
+    o.add_argument("-q", "--quiet", action="store_true",
+                   help="no progress, read summary or cautions on stderr")
+    o.add_argument("--peek", action="store_true",
+                   help="only show what would be read from each capture (layout, column and "
+                        "unit, time base, sample rate, samples, lines skipped) and its first "
+                        "rows; measure nothing")
     add_batch_options(p)
     p.set_defaults(run=run)
 
@@ -152,10 +162,14 @@ def run(args: argparse.Namespace) -> int:
         raise SettingsError("--workers must be at least 1")
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
+    if getattr(args, "peek", False):
+        return peek(args.captures, read_options(args, args.signal))
     settings = assess_settings(args)
     outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings)
     records = [o.record for o in outcomes if o.record is not None]
     failed = [o for o in outcomes if o.record is None]
+    if not args.quiet:
+        print_read(records)
     for o in failed:
         print(f"flickerkit: error: {o.error}", file=sys.stderr)
     if failed and len(outcomes) > 1:
@@ -184,6 +198,54 @@ def run(args: argparse.Namespace) -> int:
         from . import _CAUTION
 
         print(_CAUTION, file=sys.stderr, end="")
+    return 1 if failed else 0
+
+
+def print_read(records: list[dict]) -> None:
+    """One line per capture on stderr saying what was read."""
+    from ..capture import describe_read
+
+    for r in records:
+        if r.get("read"):
+            print(f"read: {r['label']}: {describe_read(r['read'])}", file=sys.stderr)
+
+
+#: Rows ``--peek`` shows.
+PEEK_ROWS = 5
+
+
+def peek(paths: list[str], options) -> int:
+    """Print what each capture's reading finds and its first rows, without measuring."""
+    import numpy as np
+
+    from ..capture import describe_read
+    from ..errors import FlickerkitError
+    from ..readers import read_capture
+
+    failed = 0
+    for path in paths:
+        try:
+            cap = read_capture(path, options)
+        except FlickerkitError as exc:
+            print(f"flickerkit: error: {exc}", file=sys.stderr)
+            failed += 1
+            continue
+        read = cap.read.to_dict() if cap.read else {}
+        print(f"{path}: {describe_read(read)}" if read else path)
+        for key in ("layout", "column", "unit", "channel_choice", "channels", "time_base",
+                    "sample_rate_hz", "samples", "rows_skipped"):
+            if read.get(key) not in (None, [], ""):
+                value = read[key]
+                print(f"  {key.replace('_', ' ')}: "
+                      f"{', '.join(value) if isinstance(value, list) else value}")
+        for n in cap.notes:
+            print(f"  note: {n}")
+        for w in cap.warnings:
+            print(f"  warning: {w}")
+        first = np.asarray(cap.samples[:PEEK_ROWS], dtype=float)
+        print(f"  first rows (sample, time from the first sample [s], {read.get('column')}):")
+        for i, v in enumerate(first):
+            print(f"    {i:>6d}  {i / cap.sample_rate_hz:<14.8g}  {v:.8g}")
     return 1 if failed else 0
 
 

@@ -40,7 +40,8 @@ def add_parser(sub) -> None:
     p.add_argument("--force", action="store_true", help="replace an existing workbook")
     p.add_argument("--json", action="store_true",
                    help="print the verdicts and figures as JSON instead of the table")
-    p.add_argument("-q", "--quiet", action="store_true", help="no progress bar on stderr")
+    p.add_argument("-q", "--quiet", action="store_true",
+                   help="no progress bar or read summary on stderr")
     add_batch_options(p)
     p.set_defaults(run=run)
 
@@ -97,6 +98,10 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(dumps(report.to_dict()))
     else:
         sys.stdout.write(verdict_table(report))
+    if not args.quiet:
+        from .measure import print_read
+
+        print_read(list(report.records))
     for _label, err in report.failures:
         print(f"flickerkit: error: {err}", file=sys.stderr)
     print(f"workbook written: {args.output}", file=sys.stderr)

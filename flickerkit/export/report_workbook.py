@@ -189,13 +189,16 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     # ---------------------------------------------------------------- inputs
     ins = wb.create_sheet("Inputs")
     keys = ["label", "level", "file", "status", "size_bytes", "sha256", "sample_rate_hz",
-            "duration_s", "n_samples", "column", "dark_level", "dark_file", "dark_sha256",
+            "duration_s", "n_samples", "column", "unit", "channel_choice", "layout",
+            "time_base", "rows_skipped", "dark_level", "dark_file", "dark_sha256",
             "description"]
     heads = ["Capture", "Dimming level [%]", "File", "Status", "Size [bytes]", "SHA-256",
-             "Sample rate [Hz]", "Duration [s]", "Samples", "Column", "Dark level [input unit]",
-             "Dark capture", "Dark capture SHA-256", "Model"]
+             "Sample rate [Hz]", "Duration [s]", "Samples", "Column measured", "Unit",
+             "Why this column", "Layout read", "Time base from", "Lines skipped",
+             "Dark level [input unit]", "Dark capture", "Dark capture SHA-256", "Model"]
     last = write_rows(ins, heads, ([i.get(k) for k in keys] for i in report.inputs),
-                      widths=[24, 10, 50, 22, 12, 66, 14, 12, 12, 14, 14, 40, 66, 60])
+                      widths=[24, 10, 50, 22, 12, 66, 14, 12, 12, 14, 10, 30, 50, 50, 10, 14,
+                              40, 66, 60])
     r = last + 2
     put(ins, r, 1, "Setting").font = bold
     put(ins, r, 2, "Value").font = bold

@@ -194,7 +194,11 @@ def write_measure_workbook(path: str | Path, records: Sequence[dict[str, Any]],
                                .strftime("%Y-%m-%d %H:%M:%S")]]
     srows += [[k, v if isinstance(v, (int, float, str)) or v is None else str(v)]
               for k, v in settings.items()]
+    from ..capture import describe_read
+
     for r in records:
+        if r.get("read"):
+            srows.append([f"read: {r['label']}", describe_read(r["read"])])
         for n in r.get("notes") or []:
             srows.append([f"note: {r['label']}", n])
     write_rows(ss, ["Setting", "Value"], srows, widths=[36, 90])
