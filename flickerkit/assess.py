@@ -186,6 +186,7 @@ class Assessment:
     below_90hz: modulation.LowFrequencyModulation | None = None
     ieee1789_headline: ieee1789.Ieee1789Result | None = None
     edge_notes: tuple[str, ...] = ()
+    acquisition: modulation.Acquisition | None = None
 
     @property
     def ieee1789(self) -> ieee1789.Ieee1789Result | None:
@@ -268,6 +269,7 @@ class Assessment:
             "modulation": self.modulation.to_dict() if self.modulation else None,
             "below_90hz": self.below_90hz.to_dict() if self.below_90hz else None,
             "edge_notes": list(self.edge_notes),
+            "acquisition": self.acquisition.to_dict() if self.acquisition else None,
             "warnings": list(self.warnings),
             "notes": list(self.notes),
         }
@@ -481,6 +483,11 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         head_ieee = _composite_ieee(reading, modul, filt)
     below = _below_90(modul, filt)
     edges = _edge_notes(modul, settings)
+    acq = modulation.folding(modul, fs, settings.detector_bandwidth_hz)
+    if acq.folding_suspected:
+        warnings.warn(CaptureWarning(f"aliasing: {acq.reason}; verdicts on this capture are "
+                                     f"insufficient data"))
+    _warn_unjudged_aliases(modul, head_ieee)
 
     svm_result = _svm(spec, capture, settings)
     pst_result = None
@@ -526,7 +533,28 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         below_90hz=below,
         ieee1789_headline=head_ieee,
         edge_notes=edges,
+        acquisition=acq,
     )
+
+
+def _warn_unjudged_aliases(modul: modulation.ModulationAnalysis,
+                           head: ieee1789.Ieee1789Result | None) -> None:
+    """Warn when a possible alias, were it real, would change the IEEE 1789 region."""
+    if head is None:
+        return
+    worst = None
+    for c in modul.components:
+        if c.kind != "possible alias":
+            continue
+        r = ieee1789.classify(c.frequency_hz, 100 * c.amplitude, edge_tolerance_hz=c.uncertainty_hz)
+        if ieee1789.REGIONS.index(r.region) > ieee1789.REGIONS.index(head.region):
+            worst = c if worst is None or c.amplitude > worst.amplitude else worst
+    if worst is not None:
+        warnings.warn(CaptureWarning(
+            f"a component at {worst.frequency_hz:.5g} Hz ({100 * worst.amplitude:.2g} %) is "
+            f"not judged: it is no larger than a harmonic above the Nyquist frequency could "
+            f"fold down with ({100 * modul.alias_bound:.2g} %); were it real modulation the "
+            f"IEEE 1789 region would be worse. Sample faster or band-limit the detector to tell"))
 
 
 #: Components smaller than this are not named in edge notes (they cannot move a

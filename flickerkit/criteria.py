@@ -394,6 +394,9 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                        reason=f"not in force on {date.isoformat()} (from "
                               f"{criterion.effective_from.isoformat()})")
     why = _insufficient(record, criterion.requires)
+    acq = record.get("acquisition")
+    if not why and isinstance(acq, Mapping) and acq.get("folding_suspected"):
+        why = f"content above half the sample rate may have folded down: {acq.get('reason')}"
     if why:
         return Verdict(**v, status="insufficient data", measured=None, limit=None, margin=None,
                        reason=why)

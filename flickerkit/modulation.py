@@ -32,8 +32,9 @@ Method (documented rule, chosen here)
    *unrelated*, unless it is no larger than the most a harmonic above the
    Nyquist frequency can fold down with (``V / (pi h_min)``, V the total
    variation of one period relative to the mean, ``h_min`` the first
-   harmonic above Nyquist): it is then a *possible alias* and not judged,
-   except when the detector bandwidth is known to end below Nyquist.
+   harmonic above Nyquist): it is then a *possible alias* and not judged
+   (a detector's bandwidth is a -3 dB corner, not a brick wall, so this holds
+   whatever bandwidth is given).
 5. The repetition frequency is the largest ``F = f_u / m`` (``f_u`` the lowest
    unrelated component, m = 1..8) of which f0 and every unrelated component
    are whole multiples within their uncertainty, with at least
@@ -250,7 +251,7 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     period_samples : float, optional
         The strongest period [samples].
     detector_bandwidth_hz : float, optional
-        Detector bandwidth [Hz]; at or below Nyquist no component can be an alias.
+        Detector bandwidth [Hz]; recorded for :func:`folding`.
 
     Returns
     -------
@@ -343,8 +344,9 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
                 break
     # classify
     alias_bound = 0.0
-    if (template is not None and period_samples is not None and period_samples > 0
-            and not (detector_bandwidth_hz is not None and detector_bandwidth_hz <= nyq)):
+    # a detector's bandwidth is a -3 dB corner, not a brick wall: the bound applies whatever
+    # it is (an interval-averaging or first-order detector still passes some content above it)
+    if template is not None and period_samples is not None and period_samples > 0:
         h_min = int(np.floor(period_samples / 2.0)) + 1
         alias_bound = total_variation(template) / (np.pi * h_min)
     comps: list[Component] = []
@@ -498,3 +500,94 @@ def segment_of(c: Component, segments: tuple[tuple[float, float, str], ...]) -> 
                 continue
             return i
     return None
+
+
+#: Components in the top half of the band at least this large (relative to the mean) are
+#: evidence that the light's content reaches the Nyquist frequency (project choice).
+FOLDING_EVIDENCE = 1e-3
+
+
+@dataclass(frozen=True)
+class Acquisition:
+    """What the acquisition allows: can content above Nyquist have folded down?
+
+    Attributes
+    ----------
+    sample_rate_hz : float
+        [Hz].
+    detector_bandwidth_hz : float or None
+        As given (project ``[setup] bandwidth_hz`` or ``measure --detector-bandwidth``) [Hz].
+    folding_suspected : bool
+        True when the detector passes content above half the sample rate and the
+        capture's own content reaches the top half of its band: what looks like
+        modulation may be folded down from above (20.03 kHz PWM at 10 kS/s reads
+        as 30 Hz). Verdicts are then "insufficient data".
+    reason : str
+        Why, or why not (empty when nothing is known).
+    """
+
+    sample_rate_hz: float
+    detector_bandwidth_hz: float | None
+    folding_suspected: bool
+    reason: str
+
+    def to_dict(self) -> dict:
+        return {"sample_rate_hz": self.sample_rate_hz,
+                "detector_bandwidth_hz": self.detector_bandwidth_hz,
+                "folding_suspected": self.folding_suspected, "reason": self.reason}
+
+
+def folding(analysis: ModulationAnalysis, sample_rate_hz: float,
+            detector_bandwidth_hz: float | None) -> Acquisition:
+    """Whether content above Nyquist may have folded into a capture.
+
+    Parameters
+    ----------
+    analysis : ModulationAnalysis
+        The capture's components.
+    sample_rate_hz : float
+        [Hz].
+    detector_bandwidth_hz : float or None
+        Detector (and amplifier) bandwidth [Hz]; None when unknown.
+
+    Returns
+    -------
+    Acquisition
+
+    Notes
+    -----
+    Rule (project choice): folding is suspected when the bandwidth exceeds
+    ``fs / 2`` and a component of at least :data:`FOLDING_EVIDENCE` lies in
+    the top half of the band (``f > fs / 4``): light whose content reaches the
+    top of the band almost surely continues beyond it, and what a detector
+    passes beyond Nyquist lands at ``|f - m fs|``, indistinguishable from real
+    modulation there. A capture whose top half holds only noise is not
+    flagged. With the bandwidth unknown nothing is claimed here (the
+    samples-per-period check still applies).
+
+    References
+    ----------
+    C. E. Shannon, "Communication in the presence of noise", Proc. IRE 37(1),
+    10-21 (1949) (sampling theorem).
+    """
+    nyq = sample_rate_hz / 2.0
+    bw = detector_bandwidth_hz
+    if bw is None:
+        return Acquisition(sample_rate_hz, None, False, "")
+    if bw <= nyq:
+        return Acquisition(sample_rate_hz, bw, False,
+                           f"detector bandwidth {bw:g} Hz is within half the sample rate "
+                           f"({nyq:g} Hz)")
+    top = [c for c in analysis.components
+           if c.frequency_hz > nyq / 2.0 and c.amplitude >= FOLDING_EVIDENCE]
+    if not top:
+        return Acquisition(sample_rate_hz, bw, False,
+                           f"detector bandwidth {bw:g} Hz exceeds half the sample rate "
+                           f"({nyq:g} Hz), but the top half of the band holds only noise")
+    c = max(top, key=lambda c: c.amplitude)
+    return Acquisition(sample_rate_hz, bw, True,
+                       f"the detector passes up to {bw:g} Hz but the capture is sampled at "
+                       f"{sample_rate_hz:g} Hz: content between {nyq:g} and {bw:g} Hz folds "
+                       f"down, and the capture's content reaches the top of its band "
+                       f"({c.frequency_hz:.5g} Hz, {100 * c.amplitude:.2g} %); sample at "
+                       f"{2 * bw:g} Hz or more, or limit the bandwidth")

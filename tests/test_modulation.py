@@ -187,3 +187,64 @@ def test_components_below_the_noise_are_not_invented():
     a = assess(make_capture(x, 25_000.0))
     assert a.modulation.components == ()
     assert _judge(a.to_dict(), "seizure-screen-below-90hz").status == "not applicable"
+
+
+def _point_pwm(f, duty, fs, d, phase=0.1):
+    """PWM sampled at instants (a detector far wider than the sample rate)."""
+    return (np.mod(f * _t(fs, d) + phase, 1.0) < duty).astype(float)
+
+
+def test_folded_pwm_is_insufficient_data_not_30hz_flicker():
+    # 20.03 kHz PWM sampled at 10 kS/s through a 100 kHz detector: it reads as 30 Hz
+    # (analytic: 20030 - 2 x 10000 = 30 Hz). With the bandwidth known, no verdict is given.
+    from flickerkit.assess import AssessSettings
+
+    fs = 10_000.0
+    x = _point_pwm(20_030.0, 0.5, fs, 1.0)
+    rec = assess(make_capture(x, fs), AssessSettings(detector_bandwidth_hz=100e3)).to_dict()
+    assert rec["frequency_hz"] == pytest.approx(30.0, rel=1e-4)
+    assert rec["acquisition"]["folding_suspected"]
+    for cid in ("seizure-screen-below-90hz", "ieee1789-low-risk", "eu-2019-2020-svm"):
+        v = _judge(rec, cid)
+        assert v.status == "insufficient data" and "folded" in v.reason, cid
+
+
+def test_band_limited_content_is_not_flagged_as_folded():
+    # 100 Hz ripple only (nothing in the top half of the band) with a wide detector: the
+    # samples show no content near Nyquist, so nothing is claimed to have folded
+    from flickerkit.assess import AssessSettings
+
+    fs = 20_000.0
+    x = sine(100.0, 0.05, fs, 1.0)
+    rec = assess(make_capture(x, fs), AssessSettings(detector_bandwidth_hz=100e3)).to_dict()
+    assert not rec["acquisition"]["folding_suspected"]
+    assert _judge(rec, "ieee1789-low-risk").status == "pass"
+
+
+@pytest.mark.parametrize("spp", [5.2, 6.1, 6.9])
+def test_five_to_seven_samples_per_period(spp):
+    # 5-7 samples per period: the frequency is found right (analytic: the PWM's), and the
+    # capture is flagged (fewer than 10 samples per period -> insufficient data)
+    f = 1234.56
+    fs = f * spp
+    x = pwm(f, 0.5, 0.1, fs, 1.0)
+    rec = assess(make_capture(x, fs)).to_dict()
+    assert rec["frequency_hz"] == pytest.approx(f, rel=1e-5)
+    assert _judge(rec, "ieee1789-low-risk").status == "insufficient data"
+    assert any("samples per period" in w for w in rec["warnings"])
+
+
+def test_measure_takes_the_detector_bandwidth(tmp_path, capsys):
+    import json
+
+    from flickerkit.cli import main
+
+    fs = 10_000.0
+    path = tmp_path / "folded.csv"
+    x = _point_pwm(20_030.0, 0.5, fs, 0.5)
+    np.savetxt(path, np.column_stack([_t(fs, 0.5), x]), delimiter=",",
+               header="time_s,light", comments="")
+    assert main(["measure", str(path), "--json", "-q", "--detector-bandwidth", "100000"]) == 0
+    rec = json.loads(capsys.readouterr().out)[0]
+    assert rec["acquisition"]["detector_bandwidth_hz"] == 100000.0
+    assert rec["acquisition"]["folding_suspected"]

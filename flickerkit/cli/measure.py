@@ -119,6 +119,10 @@ def add_parser(sub) -> None:
     g.add_argument("--pst-observation", type=float, metavar="S",
                    help="observation time of one Pst in seconds (default: the "
                         "calibration's, 60 s for light, 600 s for voltage; at least 10)")
+    g.add_argument("--detector-bandwidth", type=float, metavar="HZ", dest="detector_bandwidth",
+                   help="bandwidth of the detector and its amplifier; above half the sample "
+                        "rate, content the capture shows near the top of its band may be "
+                        "folded down from above and verdicts become insufficient data")
     g.add_argument("--lamp", choices=("auto", "230V", "120V"), default="auto",
                    help="--signal voltage: reference lamp constants (default auto: 230V for "
                         "50 Hz mains, 120V for 60 Hz)")
@@ -220,7 +224,8 @@ def assess_settings(args: argparse.Namespace):
     return AssessSettings(
         ieee1789_mode=args.ieee1789_mode, harmonics=args.harmonics,
         svm_threshold=args.svm_threshold, svm_f_min_hz=args.svm_lower,
-        pst_calibration=cal, pst_observation_s=args.pst_observation, lamp=args.lamp)
+        pst_calibration=cal, pst_observation_s=args.pst_observation, lamp=args.lamp,
+        detector_bandwidth_hz=getattr(args, "detector_bandwidth", None))
 
 
 def run_batch(args: argparse.Namespace, paths: list[str], options, settings):
@@ -270,6 +275,7 @@ def settings_record(args: argparse.Namespace, settings=None) -> dict:
         "column": args.column, "sample rate option [Hz]": args.sample_rate,
         "time unit option": args.time_unit, "dark level option": args.dark,
         "resample": args.resample, "fill gaps": args.fill_gaps,
+        "detector bandwidth [Hz]": getattr(args, "detector_bandwidth", None) or "not given",
     }
     if args.signal == "light":
         model = THRESHOLDS[settings.svm_threshold]
