@@ -438,6 +438,13 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     pf = metrics.percent_flicker(np.array([sums.span_hi, sums.span_lo]))
     fi = span_above / sums.span_total if sums.span_total > 0 else float("nan")
     spec = _spectrum(x, fs, period, n)
+    modul = modulation.analyse(spec, fs, template=template,
+                               period_samples=period.period_samples,
+                               detector_bandwidth_hz=settings.detector_bandwidth_hz)
+    if modul.noise_std_relative is not None and mean > 0:
+        # the fold's residual also holds modulation not locked to the period (an envelope,
+        # ripple under PWM); the spectrum's median bin holds only the white noise
+        noise = min(noise, modul.noise_std_relative * mean)
     pf_avg = metrics.percent_flicker(template) if template is not None else None
     noise_pf = metrics.noise_percent_flicker(noise, mean, spp if spp else n)
     real_noise = noise > metrics.NUMERICAL_NOISE * abs(mean)
@@ -490,9 +497,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
                                   float(spec.amplitudes[b]), float(np.degrees(ph))))
 
-    modul = modulation.analyse(spec, fs, template=template,
-                               period_samples=period.period_samples,
-                               detector_bandwidth_hz=settings.detector_bandwidth_hz)
     cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))
     filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
                                     max_samples=cap,

@@ -139,6 +139,10 @@ class ModulationAnalysis:
         Uncertainty of the strongest period's frequency: at least
         :data:`EDGE_RTOL` of it, or twice its offset from the Hann-interpolated
         fundamental [Hz].
+    noise_std_relative : float or None
+        White-noise standard deviation of one sample relative to the mean, from
+        the median bin (``E|Y|^2 = 6 sigma^2 / (N mu^2)`` for the Hann-combined
+        coefficients of N samples); None for a windowed spectrum [unitless].
     """
 
     components: tuple[Component, ...]
@@ -150,6 +154,7 @@ class ModulationAnalysis:
     unrelated_hz: tuple[float, ...]
     statement: str
     fundamental_uncertainty_hz: float = 0.0
+    noise_std_relative: float | None = None
 
     @property
     def multiple_unrelated(self) -> bool:
@@ -310,8 +315,9 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
             top = np.argsort(aa)[::-1][:_MAX_PEAKS]
             cand_k, cand_a = [kk[top]], [aa[top]]
     if not cand_k:
-        return _result([], threshold, 0.0, df, f0, spectrum, noise,
-                       EDGE_RTOL * f0 if f0 else 0.0)
+        out = _result([], threshold, 0.0, df, f0, spectrum, noise,
+                      EDGE_RTOL * f0 if f0 else 0.0)
+        return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
     kk = np.concatenate(cand_k)
     aa = np.concatenate(cand_a)
     top = np.argsort(aa)[::-1][:_MAX_PEAKS]
@@ -373,7 +379,14 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
             u0 = max(u0, 2.0 * abs(f_fit - c.frequency_hz))
     if f0:
         comps = [replace(c, uncertainty_hz=c.harmonic * u0) if c.harmonic else c for c in comps]
-    return _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
+    out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
+    return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
+
+
+def _noise_std(spectrum: Spectrum, sigma2: float) -> float | None:
+    if spectrum.window != "rectangular":
+        return None
+    return float(np.sqrt(sigma2 * spectrum.n_samples / 6.0))
 
 
 def hann_amplitudes_at(spectrum: Spectrum, bins: np.ndarray) -> np.ndarray:

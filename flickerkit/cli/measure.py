@@ -323,9 +323,32 @@ def summary_table(records: list[dict]) -> str:
                                             ".2g")])
     out = render(headers, rows)
     out += _method_lines(records)
+    out += _modulation_lines(records)
     for r in records:
         for w in r["warnings"]:
             out += f"warning: {r['label']}: {w}\n"
+    return out
+
+
+def _modulation_lines(records: list[dict]) -> str:
+    """One line each for what decided IEEE 1789, unrelated modulations and edge figures."""
+    out = ""
+    for r in records:
+        ieee = r.get("ieee1789") or {}
+        by = ieee.get("decided_by") or ""
+        if by.startswith(("component", "band")):
+            out += (f"note: {r['label']}: IEEE 1789 decided by {by}: "
+                    f"{ieee['modulation_percent']:.3g} % against the "
+                    f"{ieee['low_risk_limit_percent']:.3g} % low-risk line "
+                    f"(standard reading: {(ieee.get('fundamental') or {}).get('region', '-')})\n")
+        mod = r.get("modulation") or {}
+        if mod.get("unrelated_hz"):
+            out += f"note: {r['label']}: {mod['statement']}\n"
+        edges = r.get("edge_notes") or []
+        for e in edges[:3]:
+            out += f"note: {r['label']}: on an edge: {e}\n"
+        if len(edges) > 3:
+            out += f"note: {r['label']}: {len(edges) - 3} more edge notes in the JSON\n"
     return out
 
 
