@@ -32,7 +32,9 @@ Method (documented rule, chosen here)
    *unrelated*, unless it is no larger than the most a harmonic above the
    Nyquist frequency can fold down with (``V / (pi h_min)``, V the total
    variation of one period relative to the mean, ``h_min`` the first
-   harmonic above Nyquist): it is then a *possible alias* and not judged
+   harmonic above Nyquist) and some harmonic h above Nyquist that could be that
+   large (``V / (pi h) >= C``) folds onto its frequency (``|h f0 - m fs|``
+   within ``h`` times f0's uncertainty): it is then a *possible alias* and not judged
    (a detector's bandwidth is a -3 dB corner, not a brick wall, so this holds
    whatever bandwidth is given).
 5. The repetition frequency is the largest ``F = f_u / m`` (``f_u`` the lowest
@@ -368,8 +370,6 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
                       and abs(kk[i] - hh * spectrum.whole_periods) <= 1)
             if hh >= 1 and (on_bin or abs(f - hh * f0) <= u + EDGE_RTOL * hh * f0):
                 kind, h, f, u = "harmonic", hh, hh * f0, EDGE_RTOL * hh * f0
-        if kind == "unrelated" and amp[i] <= alias_bound:
-            kind = "possible alias"
         comps.append(Component(f, float(amp[i]), float(u), kind, h, order=None))
         fit.append(float(pos[i] * df))
     # the period estimate's own error shows as the fundamental's offset from h = 1
@@ -379,8 +379,29 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
             u0 = max(u0, 2.0 * abs(f_fit - c.frequency_hz))
     if f0:
         comps = [replace(c, uncertainty_hz=c.harmonic * u0) if c.harmonic else c for c in comps]
+        tv = alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1) if alias_bound else 0.0
+        comps = [replace(c, kind="possible alias")
+                 if c.kind == "unrelated" and c.amplitude <= alias_bound
+                 and _alias_of_harmonic(c, f0, u0, sample_rate_hz, tv) else c for c in comps]
     out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
     return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
+
+
+def _alias_of_harmonic(c: Component, f0: float, u0: float, fs: float, tv: float) -> bool:
+    """Whether a harmonic above Nyquist large enough to give ``c`` folds onto its frequency.
+
+    Harmonic h of a period with total variation V has at most ``V / (pi h)``; it lands at
+    ``|h f0 - m fs|`` (m the nearest whole number), known within ``h u0``.
+    """
+    h_min = int(np.floor(fs / (2.0 * f0))) + 1
+    h_max = int(min(np.floor(tv / (np.pi * c.amplitude)) if c.amplitude > 0 else h_min,
+                    h_min + 200_000))
+    if h_max < h_min:
+        return False
+    h = np.arange(h_min, h_max + 1, dtype=np.float64)
+    fh = h * f0
+    folded = np.abs(fh - np.round(fh / fs) * fs)
+    return bool(np.any(np.abs(folded - c.frequency_hz) <= c.uncertainty_hz + h * u0))
 
 
 def _noise_std(spectrum: Spectrum, sigma2: float) -> float | None:

@@ -294,3 +294,24 @@ def test_clipped_noisy_capture_is_still_flagged():
     x = sine(100.0, 0.3, 20_000.0, 1.0) + 0.01 * rng.standard_normal(20_000)
     a = assess(make_capture(np.minimum(x, 1.2), 20_000.0))
     assert any("clipping suspected" in w for w in a.warnings)
+
+
+@pytest.mark.parametrize("case", ["pwm with 20 Hz envelope", "pwm with 100 Hz ripple"])
+def test_composite_verdicts_are_the_same_on_every_capture(case):
+    # the two safety cases, twelve captures each (random start phase, length and
+    # sample rate, seeded): IEEE 1789 fails every time; the seizure screen fails on the
+    # envelope (10 % > 5 %) and has nothing below 90 Hz to judge under the ripple
+    f_mod, depth, seizure = {"pwm with 20 Hz envelope": (20.0, 0.1, "fail"),
+                             "pwm with 100 Hz ripple": (100.0, 0.2, "not applicable")}[case]
+    rng = np.random.default_rng(zlib.crc32(case.encode()))
+    for _ in range(CAPTURES):
+        fs = float(rng.uniform(30e3, 120e3))
+        d = float(rng.uniform(0.5, 1.5))
+        ph = float(rng.uniform(0, 2 * np.pi))
+        x = pwm(2000.0, 0.5, 0.0, fs, d, phase=float(rng.uniform())) \
+            * (1 + depth * np.sin(2 * np.pi * f_mod * _t(fs, d) + ph))
+        rec = assess(make_capture(x, fs)).to_dict()
+        assert rec["ieee1789"]["region"] == "above-low-risk"
+        assert f"{f_mod:g} Hz" in rec["ieee1789"]["decided_by"]
+        assert _judge(rec, "seizure-screen-below-90hz").status == seizure
+        assert not any("noise limits" in w for w in rec["warnings"])  # noise-free light
