@@ -153,6 +153,17 @@ class Assessment:
     """Every figure of one capture. Read by all reports; never recomputed there.
 
     Light levels (mean, minimum, maximum) are in the capture's own unit.
+
+    ``percent_flicker`` and ``flicker_index`` are the headline figures: the raw
+    min/max and area figures (``percent_flicker_raw``, ``flicker_index_raw``)
+    unless noise would add more than :data:`NOISE_HEADLINE_SHARE` of them, then
+    the period-averaged waveform's (``headline_estimate`` says which, and
+    ``noise_limit_percent`` how far noise may still raise it [percentage
+    points]). ``modulation`` lists every component; ``below_90hz`` is the
+    light low-passed below 90 Hz; ``ieee1789_headline`` the worst IEEE 1789
+    reading (see :func:`flickerkit.ieee1789.judge_modulation`);
+    ``edge_notes`` the figures with a component on an edge; ``acquisition``
+    the aliasing check.
     """
 
     label: str

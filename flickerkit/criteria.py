@@ -7,7 +7,9 @@ same for measured and modelled light) plus the dimming level.
 
 A verdict is ``pass``, ``fail``, ``not applicable`` (with why) or
 ``insufficient data`` -- never ``pass`` when the capture does not meet the
-method's requirements (too short, sample rate too low, no value).
+method's requirements (too short, sample rate too low, no value) or when its
+content above half the sample rate may have folded down (the assessment's
+``acquisition.folding_suspected``, from the detector bandwidth).
 
 Confidence levels:
 
