@@ -37,6 +37,10 @@ MIN_PERIODS = 2
 MIN_SAMPLES_PER_PERIOD = 10
 #: A percent flicker below this many times the noise floor is called noise-limited.
 NOISE_MARGIN = 3.0
+#: When the noise alone would add more than this fraction of the raw (min/max) percent
+#: flicker, the headline figures are taken from the period-averaged waveform (project
+#: choice: below it, noise moves the raw figure by less than 1 %).
+NOISE_HEADLINE_SHARE = 0.01
 #: Filtered percent flicker (JA10.6) uses at most this many samples, or 1 s if that is
 #: more (JA10.5 asks for at least 1 s of data); five inverse FFTs of a whole long
 #: capture would cost more than the rest of the assessment.
@@ -149,6 +153,17 @@ class Assessment:
     """Every figure of one capture. Read by all reports; never recomputed there.
 
     Light levels (mean, minimum, maximum) are in the capture's own unit.
+
+    ``percent_flicker`` and ``flicker_index`` are the headline figures: the raw
+    min/max and area figures (``percent_flicker_raw``, ``flicker_index_raw``)
+    unless noise would add more than :data:`NOISE_HEADLINE_SHARE` of them, then
+    the period-averaged waveform's (``headline_estimate`` says which, and
+    ``noise_limit_percent`` how far noise may still raise it [percentage
+    points]). ``modulation`` lists every component; ``below_90hz`` is the
+    light low-passed below 90 Hz; ``ieee1789_headline`` the worst IEEE 1789
+    reading (see :func:`flickerkit.ieee1789.judge_modulation`);
+    ``edge_notes`` the figures with a component on an edge; ``acquisition``
+    the aliasing check.
     """
 
     label: str
@@ -186,6 +201,11 @@ class Assessment:
     below_90hz: modulation.LowFrequencyModulation | None = None
     ieee1789_headline: ieee1789.Ieee1789Result | None = None
     edge_notes: tuple[str, ...] = ()
+    acquisition: modulation.Acquisition | None = None
+    percent_flicker_raw: float | None = None
+    flicker_index_raw: float | None = None
+    headline_estimate: str = "raw"
+    noise_limit_percent: float = 0.0
 
     @property
     def ieee1789(self) -> ieee1789.Ieee1789Result | None:
@@ -236,6 +256,10 @@ class Assessment:
             "percent_flicker": num(self.percent_flicker),
             "flicker_index": num(self.flicker_index),
             "percent_flicker_averaged": num(self.percent_flicker_averaged),
+            "percent_flicker_raw": num(self.percent_flicker_raw),
+            "flicker_index_raw": num(self.flicker_index_raw),
+            "headline_estimate": self.headline_estimate,
+            "noise_limit_percent": num(self.noise_limit_percent),
             "per_period": {
                 "count": self.per_period.count,
                 "percent_flicker_median": num(self.per_period.percent_flicker_median),
@@ -269,6 +293,7 @@ class Assessment:
             "modulation": self.modulation.to_dict() if self.modulation else None,
             "below_90hz": self.below_90hz.to_dict() if self.below_90hz else None,
             "edge_notes": list(self.edge_notes),
+            "acquisition": self.acquisition.to_dict() if self.acquisition else None,
             "warnings": list(self.warnings),
             "notes": list(self.notes),
         }
@@ -424,11 +449,33 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     pf = metrics.percent_flicker(np.array([sums.span_hi, sums.span_lo]))
     fi = span_above / sums.span_total if sums.span_total > 0 else float("nan")
     spec = _spectrum(x, fs, period, n)
+    modul = modulation.analyse(spec, fs, template=template,
+                               period_samples=period.period_samples,
+                               detector_bandwidth_hz=settings.detector_bandwidth_hz)
+    if modul.noise_std_relative is not None and mean > 0:
+        # the fold's residual also holds modulation not locked to the period (an envelope,
+        # ripple under PWM); the spectrum's median bin holds only the white noise
+        noise = min(noise, modul.noise_std_relative * mean)
     pf_avg = metrics.percent_flicker(template) if template is not None else None
     noise_pf = metrics.noise_percent_flicker(noise, mean, spp if spp else n)
-    if noise > 0 and np.isfinite(noise_pf) and pf < NOISE_MARGIN * noise_pf:
+    real_noise = noise > metrics.NUMERICAL_NOISE * abs(mean)
+    pf_raw, fi_raw = pf, fi
+    headline, noise_limit = "raw", 0.0
+    if template is not None and real_noise and np.isfinite(noise_pf) \
+            and noise_pf > NOISE_HEADLINE_SHARE * pf_raw:
+        used = int(min(n, metrics.NOISE_SAMPLES) // period.period_samples)
+        rob = metrics.robust_flicker(template, noise, used)
+        if np.isfinite(rob.percent_flicker):
+            pf, fi, headline, noise_limit = (rob.percent_flicker, rob.flicker_index, rob.method,
+                                             rob.noise_limit_percent)
+            warnings.warn(CaptureWarning(
+                f"noise limits the raw figures (min/max percent flicker {pf_raw:.3g} %, flicker "
+                f"index {fi_raw:.3g}; noise alone would read {noise_pf:.2g} %): the headline is "
+                f"the {headline} waveform's, {pf:.3g} % and {fi:.3g}, which noise may still "
+                f"raise by up to {noise_limit:.2g} percentage points"))
+    if real_noise and np.isfinite(noise_pf) and pf_raw < NOISE_MARGIN * noise_pf:
         warnings.warn(CaptureWarning(
-            f"percent flicker {pf:.3g} % is within {NOISE_MARGIN:g}x of the noise floor "
+            f"percent flicker {pf_raw:.3g} % is within {NOISE_MARGIN:g}x of the noise floor "
             f"({noise_pf:.2g} %): it is noise-limited, not a measure of modulation"
             + (f"; the period-averaged waveform gives {pf_avg:.3g} %" if pf_avg is not None
                else "")))
@@ -438,15 +485,17 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         warnings.warn(CaptureWarning(
             f"light goes negative (minimum {lo:.4g}, mean {mean:.4g}): the dark level may "
             f"be too high or the detector offset drifted; ratio metrics are biased"))
-    elif pf > 100.0:
+    elif pf_raw > 100.0:
         # noise around a zero off-level (after the dark level) dips below zero: a ratio of
         # (max - min) / (max + min) then exceeds its physical 100 %
         warnings.warn(CaptureWarning(
-            f"percent flicker {pf:.4g} % is above 100 % because the light dips below zero "
+            f"percent flicker {pf_raw:.4g} % is above 100 % because the light dips below zero "
             f"(minimum {lo:.4g}, within the noise of a zero off-level)"
             + (f"; the period-averaged waveform gives {pf_avg:.4g} %" if pf_avg is not None
                else "")))
-    if metrics.clipping_from_counts(n, at_max, at_next, noise):
+    # clipping needs noise that the rail removed: judged with the second-difference noise,
+    # which a noise-free flat top (or edges between samples) does not have
+    if real_noise and metrics.clipping_from_counts(n, at_max, at_next, metrics.noise_rms(head)):
         warnings.warn(CaptureWarning(
             f"clipping suspected: {at_max / n:.1%} of samples sit exactly at "
             f"the maximum {hi:.6g} while the rest is noisy; the recorder's range may be too "
@@ -459,9 +508,6 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
                                   float(spec.amplitudes[b]), float(np.degrees(ph))))
 
-    modul = modulation.analyse(spec, fs, template=template,
-                               period_samples=period.period_samples,
-                               detector_bandwidth_hz=settings.detector_bandwidth_hz)
     cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))
     filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
                                     max_samples=cap,
@@ -481,6 +527,11 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         head_ieee = _composite_ieee(reading, modul, filt)
     below = _below_90(modul, filt)
     edges = _edge_notes(modul, settings)
+    acq = modulation.folding(modul, fs, settings.detector_bandwidth_hz)
+    if acq.folding_suspected:
+        warnings.warn(CaptureWarning(f"aliasing: {acq.reason}; verdicts on this capture are "
+                                     f"insufficient data"))
+    _warn_unjudged_aliases(modul, head_ieee)
 
     svm_result = _svm(spec, capture, settings)
     pst_result = None
@@ -506,6 +557,10 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         samples_per_period=spp,
         percent_flicker=pf,
         flicker_index=fi,
+        percent_flicker_raw=pf_raw,
+        flicker_index_raw=fi_raw,
+        headline_estimate=headline,
+        noise_limit_percent=noise_limit,
         percent_flicker_averaged=pf_avg,
         per_period=per,
         noise_rms=noise,
@@ -526,7 +581,28 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         below_90hz=below,
         ieee1789_headline=head_ieee,
         edge_notes=edges,
+        acquisition=acq,
     )
+
+
+def _warn_unjudged_aliases(modul: modulation.ModulationAnalysis,
+                           head: ieee1789.Ieee1789Result | None) -> None:
+    """Warn when a possible alias, were it real, would change the IEEE 1789 region."""
+    if head is None:
+        return
+    worst = None
+    for c in modul.components:
+        if c.kind != "possible alias":
+            continue
+        r = ieee1789.classify(c.frequency_hz, 100 * c.amplitude, edge_tolerance_hz=c.uncertainty_hz)
+        if ieee1789.REGIONS.index(r.region) > ieee1789.REGIONS.index(head.region):
+            worst = c if worst is None or c.amplitude > worst.amplitude else worst
+    if worst is not None:
+        warnings.warn(CaptureWarning(
+            f"a component at {worst.frequency_hz:.5g} Hz ({100 * worst.amplitude:.2g} %) is "
+            f"not judged: it is no larger than a harmonic above the Nyquist frequency could "
+            f"fold down with ({100 * modul.alias_bound:.2g} %); were it real modulation the "
+            f"IEEE 1789 region would be worse. Sample faster or band-limit the detector to tell"))
 
 
 #: Components smaller than this are not named in edge notes (they cannot move a

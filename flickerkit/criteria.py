@@ -7,7 +7,9 @@ same for measured and modelled light) plus the dimming level.
 
 A verdict is ``pass``, ``fail``, ``not applicable`` (with why) or
 ``insufficient data`` -- never ``pass`` when the capture does not meet the
-method's requirements (too short, sample rate too low, no value).
+method's requirements (too short, sample rate too low, no value) or when its
+content above half the sample rate may have folded down (the assessment's
+``acquisition.folding_suspected``, from the detector bandwidth).
 
 Confidence levels:
 
@@ -406,6 +408,9 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                        reason=f"not in force on {date.isoformat()} (from "
                               f"{criterion.effective_from.isoformat()})")
     why = _insufficient(record, criterion.requires)
+    acq = record.get("acquisition")
+    if not why and isinstance(acq, Mapping) and acq.get("folding_suspected"):
+        why = f"content above half the sample rate may have folded down: {acq.get('reason')}"
     if why:
         return Verdict(**v, status="insufficient data", measured=None, limit=None, margin=None,
                        reason=why)

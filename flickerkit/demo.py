@@ -132,7 +132,7 @@ description = "INVENTED demo product: 12 W LED downlight, hybrid driver, analogu
 
 [setup]
 detector = "silicon photodiode with transimpedance amplifier (invented bench)"
-bandwidth_hz = 100000
+bandwidth_hz = 20000
 distance_m = 0.5
 ambient = "dark room, 23 C"
 operator = "demo"

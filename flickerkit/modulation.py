@@ -32,8 +32,11 @@ Method (documented rule, chosen here)
    *unrelated*, unless it is no larger than the most a harmonic above the
    Nyquist frequency can fold down with (``V / (pi h_min)``, V the total
    variation of one period relative to the mean, ``h_min`` the first
-   harmonic above Nyquist): it is then a *possible alias* and not judged,
-   except when the detector bandwidth is known to end below Nyquist.
+   harmonic above Nyquist) and some harmonic h above Nyquist that could be that
+   large (``V / (pi h) >= C``) folds onto its frequency (``|h f0 - m fs|``
+   within ``h`` times f0's uncertainty): it is then a *possible alias* and not judged
+   (a detector's bandwidth is a -3 dB corner, not a brick wall, so this holds
+   whatever bandwidth is given).
 5. The repetition frequency is the largest ``F = f_u / m`` (``f_u`` the lowest
    unrelated component, m = 1..8) of which f0 and every unrelated component
    are whole multiples within their uncertainty, with at least
@@ -138,6 +141,10 @@ class ModulationAnalysis:
         Uncertainty of the strongest period's frequency: at least
         :data:`EDGE_RTOL` of it, or twice its offset from the Hann-interpolated
         fundamental [Hz].
+    noise_std_relative : float or None
+        White-noise standard deviation of one sample relative to the mean, from
+        the median bin (``E|Y|^2 = 6 sigma^2 / (N mu^2)`` for the Hann-combined
+        coefficients of N samples); None for a windowed spectrum [unitless].
     """
 
     components: tuple[Component, ...]
@@ -149,6 +156,7 @@ class ModulationAnalysis:
     unrelated_hz: tuple[float, ...]
     statement: str
     fundamental_uncertainty_hz: float = 0.0
+    noise_std_relative: float | None = None
 
     @property
     def multiple_unrelated(self) -> bool:
@@ -250,7 +258,7 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     period_samples : float, optional
         The strongest period [samples].
     detector_bandwidth_hz : float, optional
-        Detector bandwidth [Hz]; at or below Nyquist no component can be an alias.
+        Detector bandwidth [Hz]; recorded for :func:`folding`.
 
     Returns
     -------
@@ -309,8 +317,9 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
             top = np.argsort(aa)[::-1][:_MAX_PEAKS]
             cand_k, cand_a = [kk[top]], [aa[top]]
     if not cand_k:
-        return _result([], threshold, 0.0, df, f0, spectrum, noise,
-                       EDGE_RTOL * f0 if f0 else 0.0)
+        out = _result([], threshold, 0.0, df, f0, spectrum, noise,
+                      EDGE_RTOL * f0 if f0 else 0.0)
+        return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
     kk = np.concatenate(cand_k)
     aa = np.concatenate(cand_a)
     top = np.argsort(aa)[::-1][:_MAX_PEAKS]
@@ -343,8 +352,9 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
                 break
     # classify
     alias_bound = 0.0
-    if (template is not None and period_samples is not None and period_samples > 0
-            and not (detector_bandwidth_hz is not None and detector_bandwidth_hz <= nyq)):
+    # a detector's bandwidth is a -3 dB corner, not a brick wall: the bound applies whatever
+    # it is (an interval-averaging or first-order detector still passes some content above it)
+    if template is not None and period_samples is not None and period_samples > 0:
         h_min = int(np.floor(period_samples / 2.0)) + 1
         alias_bound = total_variation(template) / (np.pi * h_min)
     comps: list[Component] = []
@@ -360,8 +370,6 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
                       and abs(kk[i] - hh * spectrum.whole_periods) <= 1)
             if hh >= 1 and (on_bin or abs(f - hh * f0) <= u + EDGE_RTOL * hh * f0):
                 kind, h, f, u = "harmonic", hh, hh * f0, EDGE_RTOL * hh * f0
-        if kind == "unrelated" and amp[i] <= alias_bound:
-            kind = "possible alias"
         comps.append(Component(f, float(amp[i]), float(u), kind, h, order=None))
         fit.append(float(pos[i] * df))
     # the period estimate's own error shows as the fundamental's offset from h = 1
@@ -371,7 +379,35 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
             u0 = max(u0, 2.0 * abs(f_fit - c.frequency_hz))
     if f0:
         comps = [replace(c, uncertainty_hz=c.harmonic * u0) if c.harmonic else c for c in comps]
-    return _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
+        tv = alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1) if alias_bound else 0.0
+        comps = [replace(c, kind="possible alias")
+                 if c.kind == "unrelated" and c.amplitude <= alias_bound
+                 and _alias_of_harmonic(c, f0, u0, sample_rate_hz, tv) else c for c in comps]
+    out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
+    return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
+
+
+def _alias_of_harmonic(c: Component, f0: float, u0: float, fs: float, tv: float) -> bool:
+    """Whether a harmonic above Nyquist large enough to give ``c`` folds onto its frequency.
+
+    Harmonic h of a period with total variation V has at most ``V / (pi h)``; it lands at
+    ``|h f0 - m fs|`` (m the nearest whole number), known within ``h u0``.
+    """
+    h_min = int(np.floor(fs / (2.0 * f0))) + 1
+    h_max = int(min(np.floor(tv / (np.pi * c.amplitude)) if c.amplitude > 0 else h_min,
+                    h_min + 200_000))
+    if h_max < h_min:
+        return False
+    h = np.arange(h_min, h_max + 1, dtype=np.float64)
+    fh = h * f0
+    folded = np.abs(fh - np.round(fh / fs) * fs)
+    return bool(np.any(np.abs(folded - c.frequency_hz) <= c.uncertainty_hz + h * u0))
+
+
+def _noise_std(spectrum: Spectrum, sigma2: float) -> float | None:
+    if spectrum.window != "rectangular":
+        return None
+    return float(np.sqrt(sigma2 * spectrum.n_samples / 6.0))
 
 
 def hann_amplitudes_at(spectrum: Spectrum, bins: np.ndarray) -> np.ndarray:
@@ -498,3 +534,94 @@ def segment_of(c: Component, segments: tuple[tuple[float, float, str], ...]) -> 
                 continue
             return i
     return None
+
+
+#: Components in the top half of the band at least this large (relative to the mean) are
+#: evidence that the light's content reaches the Nyquist frequency (project choice).
+FOLDING_EVIDENCE = 1e-3
+
+
+@dataclass(frozen=True)
+class Acquisition:
+    """What the acquisition allows: can content above Nyquist have folded down?
+
+    Attributes
+    ----------
+    sample_rate_hz : float
+        [Hz].
+    detector_bandwidth_hz : float or None
+        As given (project ``[setup] bandwidth_hz`` or ``measure --detector-bandwidth``) [Hz].
+    folding_suspected : bool
+        True when the detector passes content above half the sample rate and the
+        capture's own content reaches the top half of its band: what looks like
+        modulation may be folded down from above (20.03 kHz PWM at 10 kS/s reads
+        as 30 Hz). Verdicts are then "insufficient data".
+    reason : str
+        Why, or why not (empty when nothing is known).
+    """
+
+    sample_rate_hz: float
+    detector_bandwidth_hz: float | None
+    folding_suspected: bool
+    reason: str
+
+    def to_dict(self) -> dict:
+        return {"sample_rate_hz": self.sample_rate_hz,
+                "detector_bandwidth_hz": self.detector_bandwidth_hz,
+                "folding_suspected": self.folding_suspected, "reason": self.reason}
+
+
+def folding(analysis: ModulationAnalysis, sample_rate_hz: float,
+            detector_bandwidth_hz: float | None) -> Acquisition:
+    """Whether content above Nyquist may have folded into a capture.
+
+    Parameters
+    ----------
+    analysis : ModulationAnalysis
+        The capture's components.
+    sample_rate_hz : float
+        [Hz].
+    detector_bandwidth_hz : float or None
+        Detector (and amplifier) bandwidth [Hz]; None when unknown.
+
+    Returns
+    -------
+    Acquisition
+
+    Notes
+    -----
+    Rule (project choice): folding is suspected when the bandwidth exceeds
+    ``fs / 2`` and a component of at least :data:`FOLDING_EVIDENCE` lies in
+    the top half of the band (``f > fs / 4``): light whose content reaches the
+    top of the band almost surely continues beyond it, and what a detector
+    passes beyond Nyquist lands at ``|f - m fs|``, indistinguishable from real
+    modulation there. A capture whose top half holds only noise is not
+    flagged. With the bandwidth unknown nothing is claimed here (the
+    samples-per-period check still applies).
+
+    References
+    ----------
+    C. E. Shannon, "Communication in the presence of noise", Proc. IRE 37(1),
+    10-21 (1949) (sampling theorem).
+    """
+    nyq = sample_rate_hz / 2.0
+    bw = detector_bandwidth_hz
+    if bw is None:
+        return Acquisition(sample_rate_hz, None, False, "")
+    if bw <= nyq:
+        return Acquisition(sample_rate_hz, bw, False,
+                           f"detector bandwidth {bw:g} Hz is within half the sample rate "
+                           f"({nyq:g} Hz)")
+    top = [c for c in analysis.components
+           if c.frequency_hz > nyq / 2.0 and c.amplitude >= FOLDING_EVIDENCE]
+    if not top:
+        return Acquisition(sample_rate_hz, bw, False,
+                           f"detector bandwidth {bw:g} Hz exceeds half the sample rate "
+                           f"({nyq:g} Hz), but the top half of the band holds only noise")
+    c = max(top, key=lambda c: c.amplitude)
+    return Acquisition(sample_rate_hz, bw, True,
+                       f"the detector passes up to {bw:g} Hz but the capture is sampled at "
+                       f"{sample_rate_hz:g} Hz: content between {nyq:g} and {bw:g} Hz folds "
+                       f"down, and the capture's content reaches the top of its band "
+                       f"({c.frequency_hz:.5g} Hz, {100 * c.amplitude:.2g} %); sample at "
+                       f"{2 * bw:g} Hz or more, or limit the bandwidth")

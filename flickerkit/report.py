@@ -104,10 +104,19 @@ def build_report(project: Project, *, workers: int | None = None,
     from .assess import AssessSettings
     from .batch import measure_many
 
+    bw = project.setup.get("bandwidth_hz")
+    try:
+        bw = None if bw is None else float(bw)
+        if bw is not None and not (bw > 0 and bw < float("inf")):
+            raise ValueError
+    except (TypeError, ValueError):
+        raise SettingsError(f"{project.path} [setup]: bandwidth_hz must be a positive number "
+                            f"of Hz, got {bw!r}") from None
     try:
         settings = AssessSettings(
             ieee1789_mode=project.analysis.get("ieee1789_mode", "fundamental"),
-            harmonics=int(project.analysis.get("harmonics", 20)))
+            harmonics=int(project.analysis.get("harmonics", 20)),
+            detector_bandwidth_hz=bw)
     except (TypeError, ValueError) as exc:
         raise SettingsError(f"{project.path} [analysis]: {exc}") from None
     base = project.path.parent if project.path.is_file() else project.path

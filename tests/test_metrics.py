@@ -98,8 +98,10 @@ def test_period_averaged_percent_flicker_recovers_truth_under_noise():
     rng = np.random.default_rng(11)
     x = sine(100.0, 0.3, FS, 2.0) + 0.02 * rng.standard_normal(int(2 * FS))
     a = assess(make_capture(x, FS))
-    assert a.percent_flicker > 33.0
+    assert a.percent_flicker_raw > 33.0  # the raw min/max figure, kept beside the headline
     assert a.percent_flicker_averaged == pytest.approx(30.0, rel=0.02)
+    # the headline no longer grows with noise (issue 10): it is the period-averaged figure
+    assert a.percent_flicker == pytest.approx(30.0, rel=0.01)
 
 
 def test_clipping_heuristic():

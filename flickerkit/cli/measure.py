@@ -124,6 +124,10 @@ def add_parser(sub) -> None:
     g.add_argument("--pst-observation", type=float, metavar="S",
                    help="observation time of one Pst in seconds (default: the "
                         "calibration's, 60 s for light, 600 s for voltage; at least 10)")
+    g.add_argument("--detector-bandwidth", type=float, metavar="HZ", dest="detector_bandwidth",
+                   help="bandwidth of the detector and its amplifier; above half the sample "
+                        "rate, content the capture shows near the top of its band may be "
+                        "folded down from above and verdicts become insufficient data")
     g.add_argument("--lamp", choices=("auto", "230V", "120V"), default="auto",
                    help="--signal voltage: reference lamp constants (default auto: 230V for "
                         "50 Hz mains, 120V for 60 Hz)")
@@ -282,7 +286,8 @@ def assess_settings(args: argparse.Namespace):
     return AssessSettings(
         ieee1789_mode=args.ieee1789_mode, harmonics=args.harmonics,
         svm_threshold=args.svm_threshold, svm_f_min_hz=args.svm_lower,
-        pst_calibration=cal, pst_observation_s=args.pst_observation, lamp=args.lamp)
+        pst_calibration=cal, pst_observation_s=args.pst_observation, lamp=args.lamp,
+        detector_bandwidth_hz=getattr(args, "detector_bandwidth", None))
 
 
 def run_batch(args: argparse.Namespace, paths: list[str], options, settings):
@@ -332,6 +337,7 @@ def settings_record(args: argparse.Namespace, settings=None) -> dict:
         "column": args.column, "sample rate option [Hz]": args.sample_rate,
         "time unit option": args.time_unit, "dark level option": args.dark,
         "resample": args.resample, "fill gaps": args.fill_gaps,
+        "detector bandwidth [Hz]": getattr(args, "detector_bandwidth", None) or "not given",
     }
     if args.signal == "light":
         model = THRESHOLDS[settings.svm_threshold]
@@ -379,9 +385,32 @@ def summary_table(records: list[dict]) -> str:
                                             ".2g")])
     out = render(headers, rows)
     out += _method_lines(records)
+    out += _modulation_lines(records)
     for r in records:
         for w in r["warnings"]:
             out += f"warning: {r['label']}: {w}\n"
+    return out
+
+
+def _modulation_lines(records: list[dict]) -> str:
+    """One line each for what decided IEEE 1789, unrelated modulations and edge figures."""
+    out = ""
+    for r in records:
+        ieee = r.get("ieee1789") or {}
+        by = ieee.get("decided_by") or ""
+        if by.startswith(("component", "band")):
+            out += (f"note: {r['label']}: IEEE 1789 decided by {by}: "
+                    f"{ieee['modulation_percent']:.3g} % against the "
+                    f"{ieee['low_risk_limit_percent']:.3g} % low-risk line "
+                    f"(standard reading: {(ieee.get('fundamental') or {}).get('region', '-')})\n")
+        mod = r.get("modulation") or {}
+        if mod.get("unrelated_hz"):
+            out += f"note: {r['label']}: {mod['statement']}\n"
+        edges = r.get("edge_notes") or []
+        for e in edges[:3]:
+            out += f"note: {r['label']}: on an edge: {e}\n"
+        if len(edges) > 3:
+            out += f"note: {r['label']}: {len(edges) - 3} more edge notes in the JSON\n"
     return out
 
 
