@@ -116,6 +116,7 @@ def measure_many(
     if len(per_path) != len(paths):
         raise ValueError("give one ReadOptions, or one per path")
     jobs = [(str(p), o, settings) for p, o in zip(paths, per_path)]
+    _note_inputs(jobs)
     if scheduler:
         return _on_dask(jobs, scheduler, on_result)
     n = workers if workers is not None else default_workers()
@@ -132,6 +133,16 @@ def measure_many(
         raise
     pool.shutdown()
     return out
+
+
+def _note_inputs(jobs) -> None:
+    """Record the captures and dark captures (read by workers) as inputs of this run."""
+    from .fileio import note_input
+
+    for path, opt, _ in jobs:
+        note_input(path)
+        if isinstance(opt.dark, str):
+            note_input(opt.dark)
 
 
 def _each(results: Iterable[Outcome], on_result) -> Iterable[Outcome]:

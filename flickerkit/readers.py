@@ -34,6 +34,7 @@ import numpy as np
 
 from .capture import Capture, make_capture, make_lazy_capture
 from .errors import InputError
+from .fileio import note_input
 
 #: Time units recognised in headers and options [s].
 TIME_UNITS = {"s": 1.0, "sec": 1.0, "second": 1.0, "seconds": 1.0, "ms": 1e-3,
@@ -199,6 +200,7 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     options = options or ReadOptions()
     p = Path(path)
     name = str(path)
+    note_input(p)
     if not p.exists():
         raise InputError("no such file", source=name)
     if p.is_dir():
