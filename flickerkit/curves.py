@@ -337,11 +337,12 @@ def read_curve_csv(path: str | Path) -> Curve:
     path : str or Path
         CSV file: perceptual coordinate, relative light [any unit, unitless].
     """
-    inputs, outputs = read_two_columns(path)
+    inputs, outputs = read_two_columns(path, "curve file")
     return user_curve(inputs, outputs, source=str(path))
 
 
-def read_two_columns(path: str | Path) -> tuple[np.ndarray, np.ndarray]:
+def read_two_columns(path: str | Path, what: str = "two-column file"
+                     ) -> tuple[np.ndarray, np.ndarray]:
     """Read two numeric columns from a small CSV (header and ``#`` comments allowed).
 
     Raises
@@ -349,11 +350,10 @@ def read_two_columns(path: str | Path) -> tuple[np.ndarray, np.ndarray]:
     InputError
         If the file cannot be read or a row is not two numbers.
     """
+    from .sidefile import read_text
+
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except OSError as exc:
-        raise InputError(f"cannot read ({exc.strerror or exc})", source=str(p)) from None
+    text = read_text(p, what)
     a: list[float] = []
     b: list[float] = []
     for number, raw in enumerate(text.splitlines(), start=1):

@@ -366,16 +366,10 @@ def load_calibration(path: str | Path) -> Calibration:
         Path("lab.toml").write_text(LIGHT_PROVISIONAL_230V.to_toml())
         cal = load_calibration("lab.toml")
     """
+    from .sidefile import load_toml
+
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise SettingsError(f"{p}: cannot read calibration file ({exc.strerror or exc})") \
-            from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise SettingsError(f"{p}: not a valid TOML file ({exc})") from None
+    data = load_toml(p, "calibration file")
     return calibration_from_mapping(data, source=str(p))
 
 

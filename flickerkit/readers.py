@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import os
 import re
+import stat
 import struct
 from dataclasses import dataclass
 from pathlib import Path
@@ -213,13 +214,22 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     p = Path(path)
     name = str(path)
     note_input(p)
-    if not p.exists():
-        raise InputError("no such file", source=name)
-    if p.is_dir():
+    try:
+        st = os.stat(p)
+    except FileNotFoundError:
+        raise InputError("no such file", source=name) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the capture ({exc.strerror or exc})", source=name) \
+            from None
+    if stat.S_ISDIR(st.st_mode):
         raise InputError("is a folder, not a capture file", source=name)
+    if not stat.S_ISREG(st.st_mode):
+        kind = "a FIFO (named pipe)" if stat.S_ISFIFO(st.st_mode) else "a device or socket"
+        raise InputError(f"cannot read the capture: it is {kind}, not a regular file",
+                         source=name)
     if not os.access(p, os.R_OK):
-        raise InputError("cannot be read (permission denied)", source=name)
-    size = p.stat().st_size
+        raise InputError("cannot read the capture (permission denied)", source=name)
+    size = st.st_size
     if size == 0:
         raise InputError("file is empty", source=name)
     suffix = p.suffix.lower()

@@ -107,7 +107,11 @@ def main(argv: list[str] | None = None) -> int:
         if exc.errno is None:
             raise
         _silence_stdout()
-        print(f"flickerkit: error: cannot write the output ({exc.strerror})", file=sys.stderr)
+        if exc.filename:  # a file opened below: name it, and do not guess read or write
+            print(f"flickerkit: error: {exc.filename}: {exc.strerror}", file=sys.stderr)
+        else:
+            print(f"flickerkit: error: cannot write the output ({exc.strerror})",
+                  file=sys.stderr)
         return 1
 
 

@@ -57,17 +57,9 @@ def drive_from_args(args: argparse.Namespace):
 
     data: dict = {}
     if getattr(args, "drive_file", None):
-        import tomllib
+        from ..sidefile import load_toml
 
-        try:
-            with open(args.drive_file, "rb") as fh:
-                data = tomllib.load(fh)
-        except FileNotFoundError:
-            raise SettingsError(f"{args.drive_file}: no such drive file") from None
-        except tomllib.TOMLDecodeError as exc:
-            raise SettingsError(f"{args.drive_file}: not valid TOML ({exc})") from None
-        except OSError as exc:
-            raise SettingsError(f"{args.drive_file}: cannot be read ({exc.strerror})") from None
+        data = load_toml(args.drive_file, "drive file")
         if isinstance(data.get("drive"), dict):
             data = dict(data["drive"])
         data.pop("levels", None)
@@ -124,11 +116,9 @@ def file_levels(args: argparse.Namespace):
     """Levels listed in the drive file (key ``levels``), or None."""
     if not getattr(args, "drive_file", None):
         return None
-    import tomllib
+    from ..sidefile import load_toml
 
-    with open(args.drive_file, "rb") as fh:
-        data = tomllib.load(fh)
-    return data.get("levels")
+    return load_toml(args.drive_file, "drive file").get("levels")
 
 
 def parse_levels(text: str):

@@ -154,7 +154,10 @@ def run(args: argparse.Namespace) -> int:
         check_writable(args.xlsx, force=args.force)
     settings = assess_settings(args)
     outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings)
-    records = [o.record for o in outcomes if o.record is not None]
+    records, label_notes = distinct_records(outcomes)
+    if not args.quiet:
+        for note in label_notes:
+            print(f"flickerkit: note: {note}", file=sys.stderr)
     failed = [o for o in outcomes if o.record is None]
     for o in failed:
         print(f"flickerkit: error: {o.error}", file=sys.stderr)
@@ -185,6 +188,23 @@ def run(args: argparse.Namespace) -> int:
 
         print(_CAUTION, file=sys.stderr, end="")
     return 1 if failed else 0
+
+
+def distinct_records(outcomes) -> tuple[list[dict], list[str]]:
+    """The measured records, each with a label of its own (folders tell equal names apart),
+    and the notes saying which labels were changed and why."""
+    from ..labels import unique_labels
+
+    done = [o for o in outcomes if o.record is not None]
+    labels, notes = unique_labels([o.record["label"] for o in done], [o.path for o in done])
+    records = []
+    for o, lab, note in zip(done, labels, notes):
+        r = dict(o.record)
+        if note:
+            r["label"] = lab
+            r["notes"] = [*r.get("notes", []), note]
+        records.append(r)
+    return records, [n for n in notes if n]
 
 
 def calibration_option(value: str | None):

@@ -180,7 +180,7 @@ def build(args: argparse.Namespace):
     if args.curve_file:
         from ..curves import read_two_columns
 
-        xs, ys = read_two_columns(args.curve_file)
+        xs, ys = read_two_columns(args.curve_file, "curve file")
         curve, params = "user", {"inputs": xs, "outputs": ys, "source": args.curve_file}
     if args.gamma is not None:
         if curve != "gamma":
