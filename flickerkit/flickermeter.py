@@ -107,6 +107,13 @@ _PERCENT_POINTS = (0.1, 0.7, 1.0, 1.5, 2.2, 3.0, 4.0, 6.0, 8.0, 10.0, 13.0, 17.0
 # calibrations
 
 
+#: Upper ends of the calibration constants (see Calibration.__post_init__).
+_CALIBRATION_MAX = {**{f: 1000.0 for f in ("lambda_hz", "f1_hz", "f2_hz", "f3_hz", "f4_hz",
+                                           "lowpass_hz", "reference_frequency_hz",
+                                           "highpass_hz")},
+                    "observation_s": 86_400.0, "smoothing_s": 60.0, "k": 1e6}
+
+
 @dataclass(frozen=True)
 class Calibration:
     """Constants of the flickermeter's weighting, scaling and observation.
@@ -178,6 +185,9 @@ class Calibration:
     smoothing_s: float = 0.3
 
     def __post_init__(self) -> None:
+        # ranges: every constant above 0; filter frequencies at most 1 kHz (the chain runs at
+        # 2-4 kHz after decimation, so a corner above its Nyquist frequency cannot be
+        # realised), observation at most one day, smoothing at most 60 s, k at most 1e6
         where = f"flickermeter calibration {self.name!r}"
         if not isinstance(self.name, str) or not self.name.strip():
             raise SettingsError("flickermeter calibration needs a non-empty name")
@@ -190,6 +200,9 @@ class Calibration:
             if isinstance(v, bool) or not isinstance(v, (int, float)) \
                     or not math.isfinite(v) or v <= 0:
                 raise SettingsError(f"{where}: {f} must be a positive number, got {v!r}")
+            high = _CALIBRATION_MAX.get(f)
+            if high is not None and v > high:
+                raise SettingsError(f"{where}: {f} must be at most {high:g}, got {v:g}")
         if isinstance(self.lowpass_order, bool) or not isinstance(self.lowpass_order, int) \
                 or not 1 <= self.lowpass_order <= 12:
             raise SettingsError(f"{where}: lowpass_order must be an integer 1..12, "

@@ -242,6 +242,9 @@ def load_project(path: str | Path) -> Project:
         if not isinstance(drive, Mapping):
             raise SettingsError(f"{where}: [drive] must be a table")
         drive = dict(drive)
+        from .validate import check_drive
+
+        check_drive(drive, source=where, name="drive")
         raw_levels = drive.pop("levels", [100, 50, 20, 10, 5, 1])
         if not isinstance(raw_levels, list) or not raw_levels:
             raise SettingsError(f"{where} [drive]: levels must be a list of percentages")

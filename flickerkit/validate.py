@@ -18,8 +18,16 @@ from typing import Any, Mapping
 from .errors import SettingsError
 
 # ---------------------------------------------------------------------------- limits
-#: Largest count of levels a drive sweep or a plan evaluates (each is a full assessment).
-MAX_LEVELS = 10_000
+#: Largest count of levels a drive sweep assesses (each level is a full assessment, a few ms).
+MAX_LEVELS = 1_000
+#: Largest count of levels a plan checks (each level is checked at every candidate frequency).
+MAX_PLAN_LEVELS = 200
+#: Largest timer count per PWM period (a 32-bit counter).
+MAX_COUNTS = 2 ** 32
+#: Most sigma-delta dither bits.
+MAX_DITHER_BITS = 16
+#: Most harmonics reported.
+MAX_HARMONICS = 1_000
 #: Largest channel count of a multi-channel drive.
 MAX_CHANNELS = 64
 #: Largest brightness-table length (a 16-bit counter has 65,536 values).
@@ -212,6 +220,44 @@ def check_number(value: float | None, what: str, *, low: float | None = None,
     return value
 
 
-__all__ = ["Spec", "check_value", "check_table", "check_count", "check_number", "MAX_LEVELS",
+def drive_specs() -> dict[str, Spec]:
+    """Ranges of the numbers of a drive description (file, project [drive] or options).
+
+    Only the counts and frequencies that decide how much work a model takes are bounded
+    here; :func:`flickerkit.drive.drive_from_mapping` checks the physics (fractions, times).
+    """
+    return {
+        "frequency_hz": Spec("number", 0, MAX_FREQUENCY_HZ, open_low=True),
+        "channels": Spec("integer", 1, MAX_CHANNELS),
+        "counts_per_period": Spec("integer", 1, MAX_COUNTS),
+        "dither_bits": Spec("integer", 0, MAX_DITHER_BITS),
+        "phase_offsets_deg": Spec("numbers", -3600, 3600),
+    }
+
+
+def check_drive(data: Mapping[str, Any], *, source: str, name: str | None = None) -> None:
+    """Refuse at once a drive whose counts or frequency are absurd (see :func:`drive_specs`).
+
+    Other keys are left to the drive model, which names them.
+    """
+    specs = drive_specs()
+    for key, spec in specs.items():
+        if key in data and data[key] is not None:
+            if spec.kind == "numbers" and not isinstance(data[key], list):
+                continue  # the model says what a phase list must be
+            check_value(data[key], spec, source=source, table=name, key=key)
+    ripple = data.get("ripple")
+    if isinstance(ripple, Mapping) and ripple.get("line_frequency_hz") is not None:
+        check_value(ripple["line_frequency_hz"], Spec("number", 0, 1e4, open_low=True),
+                    source=source, table="ripple" if name is None else f"{name}.ripple",
+                    key="line_frequency_hz")
+    levels = data.get("levels")
+    if isinstance(levels, list) and len(levels) > MAX_LEVELS:
+        raise SettingsError(f"{source}{f' [{name}]' if name else ''}: levels: {len(levels)} "
+                            f"levels is above the limit of {MAX_LEVELS}")
+
+
+__all__ = ["Spec", "drive_specs", "check_drive", "MAX_PLAN_LEVELS", "MAX_COUNTS",
+           "MAX_DITHER_BITS", "MAX_HARMONICS", "check_value", "check_table", "check_count", "check_number", "MAX_LEVELS",
            "MAX_CHANNELS", "MAX_STEPS", "MAX_SAMPLE_RATE_HZ", "MAX_FREQUENCY_HZ",
            "MAX_SIDE_FILE_BYTES"]
