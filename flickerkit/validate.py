@@ -223,14 +223,15 @@ def check_number(value: float | None, what: str, *, low: float | None = None,
 def drive_specs() -> dict[str, Spec]:
     """Ranges of the numbers of a drive description (file, project [drive] or options).
 
-    Only the counts and frequencies that decide how much work a model takes are bounded
-    here; :func:`flickerkit.drive.drive_from_mapping` checks the physics (fractions, times).
+    Only the upper ends of the counts and frequencies that decide how much work a model
+    takes are checked here; :func:`flickerkit.drive.drive_from_mapping` checks the lower
+    ends and the physics (fractions, times) with its own messages.
     """
     return {
-        "frequency_hz": Spec("number", 0, MAX_FREQUENCY_HZ, open_low=True),
-        "channels": Spec("integer", 1, MAX_CHANNELS),
-        "counts_per_period": Spec("integer", 1, MAX_COUNTS),
-        "dither_bits": Spec("integer", 0, MAX_DITHER_BITS),
+        "frequency_hz": Spec("number", None, MAX_FREQUENCY_HZ),
+        "channels": Spec("integer", None, MAX_CHANNELS),
+        "counts_per_period": Spec("integer", None, MAX_COUNTS),
+        "dither_bits": Spec("integer", None, MAX_DITHER_BITS),
         "phase_offsets_deg": Spec("numbers", -3600, 3600),
     }
 
@@ -248,7 +249,7 @@ def check_drive(data: Mapping[str, Any], *, source: str, name: str | None = None
             check_value(data[key], spec, source=source, table=name, key=key)
     ripple = data.get("ripple")
     if isinstance(ripple, Mapping) and ripple.get("line_frequency_hz") is not None:
-        check_value(ripple["line_frequency_hz"], Spec("number", 0, 1e4, open_low=True),
+        check_value(ripple["line_frequency_hz"], Spec("number", None, 1e4),
                     source=source, table="ripple" if name is None else f"{name}.ripple",
                     key="line_frequency_hz")
     levels = data.get("levels")

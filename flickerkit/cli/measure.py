@@ -245,8 +245,9 @@ def assess_settings(args: argparse.Namespace):
 
     from ..validate import check_number
 
-    check_number(args.svm_lower, "--svm-lower", low=0, high=2000, open_low=True)
-    check_number(args.pst_observation, "--pst-observation", low=10, high=86_400)
+    # upper ends here; the lower ends are checked where the values are used
+    check_number(args.svm_lower, "--svm-lower", high=2000)
+    check_number(args.pst_observation, "--pst-observation", high=86_400)
     cal = calibration_option(args.pst_calibration)
     if cal is not None and get_calibration(cal).signal != args.signal:
         name = get_calibration(cal).name
