@@ -23,6 +23,7 @@ sample rate is given.
 
 from __future__ import annotations
 
+import io
 import os
 import re
 import stat
@@ -240,8 +241,10 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     elif suffix == ".npy":
         samples, fs, notes, warns, meta = _read_npy(p, options)
     elif options.stream or (options.stream is None and size > STREAM_ABOVE_TEXT_BYTES):
+        _first_line_bounded(p, size)
         samples, fs, notes, warns, meta = _stream_table(p, options)
     else:
+        _first_line_bounded(p, size)
         samples, fs, notes, warns, meta = _read_table(p, options)
     meta = {"file": name, "file_size_bytes": size, **meta}
     if options.dark is not None:
@@ -338,6 +341,68 @@ def _dark_level(dark: float | str, options: ReadOptions) -> tuple[float, str]:
 
 
 # --------------------------------------------------------------------------- text
+
+
+#: Longest line of a text table [bytes]; a capture holds one sample (a few fields) per line.
+MAX_LINE_BYTES = 1 << 20
+
+
+def _first_line_bounded(p: Path, size: int) -> None:
+    """Refuse at once a text table whose first line is longer than :data:`MAX_LINE_BYTES`
+    (a file of one long line would be parsed into memory as one row of millions of fields)."""
+    if size <= MAX_LINE_BYTES:
+        return
+    with p.open("rb") as fh:
+        head = fh.read(MAX_LINE_BYTES + 1)
+    if b"\n" not in head and b"\r" not in head:
+        raise InputError(f"line 1 is longer than {MAX_LINE_BYTES >> 20} MiB; a text capture "
+                         f"holds one sample per line", source=str(p), line=1)
+
+
+class _LineBounded(io.RawIOBase):
+    """A binary file that refuses a line longer than :data:`MAX_LINE_BYTES` as it is read.
+
+    Handed to the table parser in place of the path: blocks are at most ``MAX_LINE_BYTES``
+    long, so only the run of bytes since the last newline needs counting (two ``find`` calls
+    per block), and a long line is refused before the parser holds it in memory.
+    """
+
+    def __init__(self, path: Path) -> None:
+        super().__init__()
+        self.path = path
+        self._fh = open(path, "rb", buffering=0)
+        self._run = 0  # bytes since the last line end
+        self._line = 1
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer) -> int:
+        view = memoryview(buffer)[:MAX_LINE_BYTES]
+        n = self._fh.readinto(view)
+        if not n:
+            return 0
+        block = bytes(view[:n])
+        first = block.find(b"\n")
+        if first < 0:
+            self._run += n
+        else:
+            if self._run + first > MAX_LINE_BYTES:
+                self._refuse()
+            self._line += block.count(b"\n")
+            self._run = n - block.rfind(b"\n") - 1
+        if self._run > MAX_LINE_BYTES:
+            self._refuse()
+        return n
+
+    def _refuse(self) -> None:
+        raise InputError(f"a line is longer than {MAX_LINE_BYTES >> 20} MiB (near line "
+                         f"{self._line}); a text capture holds one sample per line",
+                         source=str(self.path))
+
+    def close(self) -> None:
+        self._fh.close()
+        super().close()
 
 
 def _decode_head(p: Path) -> tuple[str, str]:
@@ -632,7 +697,6 @@ def _time_unit(options: ReadOptions, header, time_name: str, notes: list[str]) -
 def _stream_table(p: Path, options: ReadOptions):
     """Convert a large text table in chunks to temporary binary columns, read as FileSignals."""
     import shutil
-    import tempfile
     import weakref
 
     import pandas as pd
@@ -649,10 +713,11 @@ def _stream_table(p: Path, options: ReadOptions):
     notes: list[str] = [f"streamed in chunks of {TEXT_CHUNK_ROWS} rows (blank lines skipped)"]
     unit = _time_unit(options, header, names[time_col], notes) if use_time else 1.0
     cols = [time_col, sig] if use_time else [sig]
-    tmp = Path(tempfile.mkdtemp(prefix="flickerkit-stream-"))
+    tmp = _stream_folder(p)
     rows = 0
+    source = io.BufferedReader(_LineBounded(p), buffer_size=1 << 16)
     try:
-        reader = pd.read_csv(p, sep=r"\s+" if sep == " " else sep, decimal=dec, header=None,
+        reader = pd.read_csv(source, sep=r"\s+" if sep == " " else sep, decimal=dec, header=None,
                              skiprows=first, usecols=cols, dtype=np.float64, engine="c",
                              encoding="utf-8-sig" if enc == "utf-8-sig" else "latin-1",
                              skip_blank_lines=True, index_col=False,
@@ -679,6 +744,8 @@ def _stream_table(p: Path, options: ReadOptions):
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
+    finally:
+        source.close()
     if rows < 2:
         shutil.rmtree(tmp, ignore_errors=True)
         raise InputError(f"the table holds {rows} row(s); at least 2 are needed", source=name)
@@ -702,6 +769,45 @@ def _stream_table(p: Path, options: ReadOptions):
                              source=name)
         notes.append(f"sample rate {fs:g} Hz from the file's metadata ({key!r})")
     return signal, fs, notes, [], meta_out
+
+
+#: Temporary folders of streamed text captures: ``flickerkit-stream-<pid>-<capture>-*`` in
+#: the system's temporary folder (which the system cleans); one left by a killed run is
+#: removed by the next streamed read once its process is gone.
+STREAM_FOLDER_PREFIX = "flickerkit-stream-"
+
+
+def _stream_folder(p: Path) -> Path:
+    """A new temporary folder for a streamed capture, named for the run and the capture."""
+    import tempfile
+
+    _remove_stale_stream_folders()
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "_", p.stem)[:40] or "capture"
+    return Path(tempfile.mkdtemp(prefix=f"{STREAM_FOLDER_PREFIX}{os.getpid()}-{stem}-"))
+
+
+def _remove_stale_stream_folders() -> None:
+    """Remove stream folders whose process no longer runs (left by a killed run)."""
+    import shutil
+    import tempfile
+
+    root = Path(tempfile.gettempdir())
+    try:
+        entries = list(root.glob(f"{STREAM_FOLDER_PREFIX}*"))
+    except OSError:
+        return
+    for d in entries:
+        m = re.match(rf"{STREAM_FOLDER_PREFIX}(\d+)-", d.name)
+        if not m or not d.is_dir() or int(m.group(1)) == os.getpid():
+            continue
+        try:
+            os.kill(int(m.group(1)), 0)
+            continue  # still running
+        except ProcessLookupError:
+            pass
+        except (PermissionError, OSError):
+            continue  # someone else's live process
+        shutil.rmtree(d, ignore_errors=True)
 
 
 def _locate_bad_cell(p: Path, sep: str, dec: str, skip: int, cols: list[int], names: list[str],
