@@ -50,7 +50,6 @@ immunity test method" (light flickermeter; its constants not used here).
 from __future__ import annotations
 
 import math
-import tomllib
 import warnings
 from dataclasses import asdict, dataclass, fields, replace
 from pathlib import Path

@@ -12,7 +12,8 @@ from pathlib import PurePath
 from typing import Sequence
 
 
-def unique_labels(labels: Sequence[str], paths: Sequence[str]) -> tuple[list[str], list[str | None]]:
+def unique_labels(labels: Sequence[str], paths: Sequence[str]
+                  ) -> tuple[list[str], list[str | None]]:
     """Make every label distinct, using the folders of the files behind them.
 
     Parameters

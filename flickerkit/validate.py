@@ -259,6 +259,7 @@ def check_drive(data: Mapping[str, Any], *, source: str, name: str | None = None
 
 
 __all__ = ["Spec", "drive_specs", "check_drive", "MAX_PLAN_LEVELS", "MAX_COUNTS",
-           "MAX_DITHER_BITS", "MAX_HARMONICS", "check_value", "check_table", "check_count", "check_number", "MAX_LEVELS",
+           "MAX_DITHER_BITS", "MAX_HARMONICS", "check_value", "check_table", "check_count",
+           "check_number", "MAX_LEVELS",
            "MAX_CHANNELS", "MAX_STEPS", "MAX_SAMPLE_RATE_HZ", "MAX_FREQUENCY_HZ",
            "MAX_SIDE_FILE_BYTES"]

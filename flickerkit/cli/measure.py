@@ -153,7 +153,6 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..errors import SettingsError
     from ..fileio import check_writable
 
     from ..validate import MAX_HARMONICS, check_count
