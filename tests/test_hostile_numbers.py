@@ -104,3 +104,20 @@ def test_calibration_constants_bounded(cap, tmp_path, capsys, key, value):
     cal = tmp_path / "lab.toml"
     cal.write_text(text)
     _refused(capsys, ["measure", cap, "--pst-calibration", cal, "-q"], key)
+
+
+@pytest.mark.parametrize("argv,match", [
+    (["camera", "--fps", "1e-308"], "--fps must be 0.01 to 1e+06"),
+    (["camera", "--rows", "1000000000"], "--rows 1000000000 is above the limit of 100000"),
+    (["camera", "--exposure", "1e308"], "--exposure must be above 0 and at most 100"),
+    (["steps", "-n", "64", "--bits", "12", "--pwm-frequency", "1e308"],
+     "--pwm-frequency must be at most 1e+08"),
+    (["steps", "-n", "64", "--bits", "12", "--visible-step", "1e308"], "--visible-step must be"),
+])
+def test_camera_and_steps_options_bounded(capsys, argv, match):
+    _refused(capsys, argv + ["-q"], match)
+
+
+def test_steps_output_and_workbook_spelled_differently_are_one_file(tmp_path, capsys):
+    _refused(capsys, ["steps", "-n", "8", "--bits", "10", "-o", tmp_path / "s.csv", "--xlsx",
+                      f"{tmp_path}/./s.csv", "-q"], "name the same file")
