@@ -339,6 +339,13 @@ def calibration_from_mapping(data: dict[str, Any], *, source: str = "") -> Calib
     missing = sorted(known - optional - set(data))
     if missing:
         raise SettingsError(f"{where}calibration lacks key(s) {', '.join(missing)}")
+    from .validate import Spec, check_table
+
+    # types with the shared validator (file and key named); ranges in Calibration itself
+    specs = {k: Spec("number") for k in known}
+    specs.update({k: Spec("string") for k in ("name", "signal", "status", "origin")})
+    specs["lowpass_order"] = Spec("integer")
+    check_table(data, specs, source=source or "calibration")
     kwargs = dict(data)
     pct = kwargs.pop("reference_modulation_percent")
     if isinstance(pct, bool) or not isinstance(pct, (int, float)):
