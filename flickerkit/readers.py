@@ -245,6 +245,7 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
         samples, fs, notes, warns, meta = _stream_table(p, options)
     else:
         _first_line_bounded(p, size)
+        _lines_bounded(p, size)
         samples, fs, notes, warns, meta = _read_table(p, options)
     meta = {"file": name, "file_size_bytes": size, **meta}
     if options.dark is not None:
@@ -345,6 +346,8 @@ def _dark_level(dark: float | str, options: ReadOptions) -> tuple[float, str]:
 
 #: Longest line of a text table [bytes]; a capture holds one sample (a few fields) per line.
 MAX_LINE_BYTES = 1 << 20
+#: Text tables read into memory are scanned for long lines above this size [bytes].
+SCAN_LINES_ABOVE_BYTES = 64 << 20
 
 
 def _first_line_bounded(p: Path, size: int) -> None:
@@ -357,6 +360,25 @@ def _first_line_bounded(p: Path, size: int) -> None:
     if b"\n" not in head and b"\r" not in head:
         raise InputError(f"line 1 is longer than {MAX_LINE_BYTES >> 20} MiB; a text capture "
                          f"holds one sample per line", source=str(p), line=1)
+
+
+def _lines_bounded(p: Path, size: int) -> None:
+    """Refuse a text table read into memory if any line is longer than :data:`MAX_LINE_BYTES`.
+
+    One pass of ``find``/``rfind`` per 1 MiB block (no parsing), so that a long line in the
+    middle of a file is refused before the parser holds it in memory several times over.
+    Files up to :data:`SCAN_LINES_ABOVE_BYTES` are not scanned: the parser's peak for them
+    stays a few times their size whatever their lines.
+    """
+    if size <= max(MAX_LINE_BYTES, SCAN_LINES_ABOVE_BYTES):
+        return
+    raw = _LineBounded(p)
+    buf = bytearray(MAX_LINE_BYTES)
+    try:
+        while raw.readinto(buf):
+            pass
+    finally:
+        raw.close()
 
 
 class _LineBounded(io.RawIOBase):
@@ -372,7 +394,7 @@ class _LineBounded(io.RawIOBase):
         self.path = path
         self._fh = open(path, "rb", buffering=0)
         self._run = 0  # bytes since the last line end
-        self._line = 1
+        self._offset = 0  # bytes read
 
     def readable(self) -> bool:
         return True
@@ -382,23 +404,23 @@ class _LineBounded(io.RawIOBase):
         n = self._fh.readinto(view)
         if not n:
             return 0
-        block = bytes(view[:n])
-        first = block.find(b"\n")
+        block = view[:n].tobytes() if not isinstance(buffer, bytearray) else buffer
+        first = block.find(b"\n", 0, n)
         if first < 0:
             self._run += n
         else:
             if self._run + first > MAX_LINE_BYTES:
                 self._refuse()
-            self._line += block.count(b"\n")
-            self._run = n - block.rfind(b"\n") - 1
+            self._run = n - block.rfind(b"\n", 0, n) - 1
+        self._offset += n
         if self._run > MAX_LINE_BYTES:
             self._refuse()
         return n
 
     def _refuse(self) -> None:
-        raise InputError(f"a line is longer than {MAX_LINE_BYTES >> 20} MiB (near line "
-                         f"{self._line}); a text capture holds one sample per line",
-                         source=str(self.path))
+        at = max(0, self._offset - self._run)
+        raise InputError(f"a line is longer than {MAX_LINE_BYTES >> 20} MiB (from byte {at}); "
+                         f"a text capture holds one sample per line", source=str(self.path))
 
     def close(self) -> None:
         self._fh.close()

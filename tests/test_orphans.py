@@ -114,3 +114,14 @@ def test_lines_just_below_the_bound_still_read(tmp_path):
     a = read_capture(p, ReadOptions(sample_rate_hz=1000.0, stream=True))
     b = read_capture(p, ReadOptions(sample_rate_hz=1000.0, stream=False))
     assert np.allclose(np.asarray(a.samples), b.samples, atol=1e-12)
+
+
+def test_long_line_inside_an_in_memory_table_is_refused(tmp_path, monkeypatch):
+    from flickerkit import readers
+
+    monkeypatch.setattr(readers, "SCAN_LINES_ABOVE_BYTES", 0)  # scan this small file too
+    p = tmp_path / "mid.csv"
+    p.write_bytes(b"light\n" + b"1.5\n" * 20000 + b"1" * (MAX_LINE_BYTES + 10) + b"\n"
+                  + b"1.5\n" * 20000)
+    with pytest.raises(InputError, match="longer than 1 MiB"):
+        read_capture(p, ReadOptions(sample_rate_hz=1000.0, stream=False))
