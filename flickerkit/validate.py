@@ -150,7 +150,7 @@ def check_value(value: Any, spec: Spec, *, source: str, table: str | None, key: 
         raise SettingsError(f"{w} must be a table")
     names = {"number": "a number", "integer": "a whole number", "string": "a string",
              "bool": "true or false (without quotes)", "table": "a table"}
-    want = " or ".join(names.get(k, k) for k in kinds)
+    want = spec.describe() if spec.choices else " or ".join(names.get(k, k) for k in kinds)
     raise SettingsError(f"{w} must be {want}, got {value!r}")
 
 
