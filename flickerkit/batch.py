@@ -61,6 +61,58 @@ def _ignore_sigint() -> None:  # worker initialiser: the parent handles Ctrl-C
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
+def _worker_init(parent_pid: int) -> None:
+    """Worker initialiser: the parent handles Ctrl-C, and the worker dies with its parent."""
+    _ignore_sigint()
+    die_with_parent(parent_pid)
+
+
+def die_with_parent(parent_pid: int, *, poll_s: float = 0.5) -> None:
+    """End this process when ``parent_pid`` ends, even by SIGKILL (no orphaned workers).
+
+    On Linux the kernel sends SIGTERM at the parent's death (``prctl(PR_SET_PDEATHSIG)``
+    through ctypes) when the worker was forked by it; everywhere, a daemon thread also
+    checks every ``poll_s`` seconds that ``parent_pid`` still runs (and, when it is the
+    direct parent, that it still is) and exits otherwise.
+    """
+    import sys
+    import threading
+
+    direct = os.getppid() == parent_pid
+    if direct and sys.platform.startswith("linux"):
+        try:
+            import ctypes
+
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(1, signal.SIGTERM, 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
+        except (OSError, AttributeError):
+            pass
+
+    def parent_gone() -> bool:
+        if direct:
+            return os.getppid() != parent_pid
+        try:
+            os.kill(parent_pid, 0)
+        except ProcessLookupError:
+            return True
+        except OSError:
+            return False
+        return False
+
+    if parent_gone():  # the parent died before the signal was armed
+        os._exit(1)
+
+    def watch() -> None:
+        import time
+
+        while True:
+            time.sleep(poll_s)
+            if parent_gone():
+                os._exit(1)
+
+    threading.Thread(target=watch, name="flickerkit-parent-watch", daemon=True).start()
+
+
 def _star(job: tuple[str, ReadOptions, AssessSettings]) -> Outcome:
     return measure_one(*job)
 
@@ -116,6 +168,7 @@ def measure_many(
     if len(per_path) != len(paths):
         raise ValueError("give one ReadOptions, or one per path")
     jobs = [(str(p), o, settings) for p, o in zip(paths, per_path)]
+    _note_inputs(jobs)
     if scheduler:
         return _on_dask(jobs, scheduler, on_result)
     n = workers if workers is not None else default_workers()
@@ -124,7 +177,8 @@ def measure_many(
     from concurrent.futures import ProcessPoolExecutor
 
     chunk = max(1, min(32, len(jobs) // (4 * n)))
-    pool = ProcessPoolExecutor(max_workers=min(n, len(jobs)), initializer=_ignore_sigint)
+    pool = ProcessPoolExecutor(max_workers=min(n, len(jobs)), initializer=_worker_init,
+                               initargs=(os.getpid(),))
     try:
         out = list(_each(pool.map(_star, jobs, chunksize=chunk), on_result))
     except BaseException:
@@ -132,6 +186,16 @@ def measure_many(
         raise
     pool.shutdown()
     return out
+
+
+def _note_inputs(jobs) -> None:
+    """Record the captures and dark captures (read by workers) as inputs of this run."""
+    from .fileio import note_input
+
+    for path, opt, _ in jobs:
+        note_input(path)
+        if isinstance(opt.dark, str):
+            note_input(opt.dark)
 
 
 def _each(results: Iterable[Outcome], on_result) -> Iterable[Outcome]:

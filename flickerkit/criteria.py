@@ -289,6 +289,10 @@ def get(ids: Sequence[str] | None = None,
     SettingsError
         For an unknown id, listing the known ones.
     """
+    clash = sorted(set(REGISTRY) & set(extra or {}))
+    if clash:
+        raise SettingsError(f"criterion id {clash[0]!r} is built in and cannot be redefined; "
+                            f"use your own id")
     known = {**REGISTRY, **(extra or {})}
     out = []
     for i in ids or DEFAULT_CRITERIA:
@@ -466,6 +470,10 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
         return Verdict(**v, status="insufficient data", measured=None, limit=limit, margin=None,
                        reason=f"no {criterion.metric} value (capture too short or the "
                               f"method's requirements not met; see the capture's warnings)")
+    if isinstance(measured, bool) or not isinstance(measured, (int, float)):
+        kind = "a list" if isinstance(measured, (list, tuple)) else "text"
+        raise SettingsError(f"criterion {criterion.id!r}: metric {criterion.metric!r} is {kind}, "
+                            f"not a number; a criterion compares a number with its limit")
     measured = float(measured)
     ok = _COMPARE[criterion.comparison](measured, limit)
     margin = limit - measured if criterion.comparison in ("<", "<=") else measured - limit
@@ -528,28 +536,21 @@ def from_mapping(data: Mapping[str, Any], *, where: str = "") -> Criterion:
     percent), ``effective_from`` (date), ``confidence`` (default
     ``recalled`` unless ``sourced``/``secondary`` is given), ``note``.
     """
+    from .validate import check_table
+
     here = f"{where}: " if where else ""
-    for key in ("id", "metric", "limit"):
-        if key not in data:
-            raise SettingsError(f"{here}criterion needs '{key}'")
-    try:
-        limit = float(data["limit"])
-    except (TypeError, ValueError):
-        raise SettingsError(f"{here}criterion {data['id']!r}: limit must be a number") from None
+    source, _, name = where.partition(" criterion ")
+    data = check_table(data, _USER_KEYS, source=source or "criteria",
+                       name=f"criterion {name}" if name else "criterion",
+                       required=("id", "metric", "limit"))
+    if data["id"] in REGISTRY:
+        raise SettingsError(f"{here}id {data['id']!r} is a built-in criterion, which a user "
+                            f"file cannot redefine; use your own id")
+    limit = float(data["limit"])
     start = data.get("effective_from")
-    if isinstance(start, str):
-        try:
-            start = _dt.date.fromisoformat(start)
-        except ValueError:
-            raise SettingsError(f"{here}criterion {data['id']!r}: effective_from must be a "
-                                f"date (YYYY-MM-DD)") from None
     levels = data.get("levels")
     if levels is not None:
-        try:
-            levels = tuple(float(x) for x in levels)
-        except (TypeError, ValueError):
-            raise SettingsError(f"{here}criterion {data['id']!r}: levels must be a list of "
-                                f"percentages") from None
+        levels = tuple(float(x) for x in levels)
     crit = Criterion(
         id=str(data["id"]), title=str(data.get("title", data["id"])),
         source=str(data.get("source", "user-supplied")),
@@ -563,20 +564,48 @@ def from_mapping(data: Mapping[str, Any], *, where: str = "") -> Criterion:
     return crit
 
 
+def _user_keys():
+    from .validate import Spec
+
+    text = Spec("string")
+    return {
+        "id": text, "metric": text, "limit": Spec("number"),
+        "comparison": Spec("string", choices=tuple(_COMPARE)),
+        "title": text, "source": text, "applies_to": text, "unit": text, "note": text,
+        "levels": Spec("numbers", 0.0, 100.0, open_low=True),
+        "effective_from": Spec("date"),
+        "confidence": Spec("string", choices=CONFIDENCES),
+        "requires": Spec("strings"),
+    }
+
+
+_USER_KEYS = _user_keys()
+
+
 def load_user_criteria(path: str | Path) -> dict[str, Criterion]:
-    """User criteria from a TOML file with ``[[criterion]]`` tables."""
-    import tomllib
+    """User criteria from a TOML file with ``[[criterion]]`` tables.
+
+    Raises
+    ------
+    SettingsError
+        If the file cannot be read, a table holds an unknown key, a wrong
+        type or an out-of-range value, an id repeats, or an id is a built-in
+        criterion's (a user file may add criteria, never redefine one).
+    """
+    from .sidefile import load_toml
+    from .validate import check_table, Spec
 
     p = Path(path)
-    try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise SettingsError(f"{p}: no such file") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise SettingsError(f"{p}: not valid TOML ({exc})") from None
+    data = load_toml(p, "criteria file")
+    check_table(data, {"criterion": Spec("any")}, source=str(p))
+    tables = data.get("criterion", [])
+    if not isinstance(tables, list):
+        raise SettingsError(f"{p}: criteria are [[criterion]] tables")
     out = {}
-    for i, table in enumerate(data.get("criterion", []), start=1):
+    for i, table in enumerate(tables, start=1):
         c = from_mapping(table, where=f"{p} criterion {i}")
+        if c.id in out:
+            raise SettingsError(f"{p} criterion {i}: id {c.id!r} is defined twice")
         out[c.id] = c
     if not out:
         raise SettingsError(f"{p}: holds no [[criterion]] tables")

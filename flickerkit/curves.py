@@ -333,11 +333,12 @@ def read_curve_csv(path: str | Path) -> Curve:
     path : str or Path
         CSV file: perceptual coordinate, relative light [any unit, unitless].
     """
-    inputs, outputs = read_two_columns(path)
+    inputs, outputs = read_two_columns(path, "curve file")
     return user_curve(inputs, outputs, source=str(path))
 
 
-def read_two_columns(path: str | Path) -> tuple[np.ndarray, np.ndarray]:
+def read_two_columns(path: str | Path, what: str = "two-column file"
+                     ) -> tuple[np.ndarray, np.ndarray]:
     """Read the two numeric columns of a small table with the capture reader.
 
     The table is read by :func:`flickerkit.readers.read_capture`, so it takes
@@ -348,6 +349,8 @@ def read_two_columns(path: str | Path) -> tuple[np.ndarray, np.ndarray]:
     ----------
     path : str or Path
         Text table (``.csv``, ``.txt``, ...) of exactly two columns [any unit].
+    what : str
+        What the file is (``"calibration file"``), for messages.
 
     Returns
     -------
@@ -373,7 +376,7 @@ def read_two_columns(path: str | Path) -> tuple[np.ndarray, np.ndarray]:
         column(3)
     except InputError:
         return first, second
-    raise InputError("the table has more than two columns; it must hold exactly two",
+    raise InputError(f"the {what} has more than two columns; it must hold exactly two",
                      source=str(path))
 
 

@@ -10,12 +10,78 @@ import contextlib
 import os
 import tempfile
 from pathlib import Path
-from typing import Callable, Iterator
+from typing import Callable, Iterable, Iterator
 
 from .errors import OutputError
 
+#: Files this run reads, keyed by (device, inode) and by resolved path: an output may never
+#: be one of them (see :func:`note_input`).
+_INPUTS: dict[object, str] = {}
 
-def check_writable(path: str | os.PathLike[str], *, force: bool = False) -> Path:
+
+def note_input(path: str | os.PathLike[str]) -> None:
+    """Record ``path`` as an input of this run; no output may then replace it.
+
+    Readers call this for every file they open (captures, dark captures,
+    project, drive, criteria, calibration and curve files), and the command
+    line for every input it is given, before anything is written. The file is
+    known by its resolved path and, when it exists, by its device and inode, so
+    a relative spelling, ``./``, a symbolic link or a hard link is the same
+    file.
+    """
+    text = os.fspath(path)
+    if not text:
+        return
+    p = Path(text)
+    try:
+        _INPUTS.setdefault(("path", str(p.resolve())), text)
+    except (OSError, RuntimeError):
+        pass
+    try:
+        st = os.stat(p)
+    except (OSError, ValueError):
+        return
+    _INPUTS.setdefault(("inode", st.st_dev, st.st_ino), text)
+
+
+def forget_inputs() -> None:
+    """Start a new run: forget the inputs recorded so far."""
+    _INPUTS.clear()
+
+
+def input_named_by(path: str | os.PathLike[str],
+                   inputs: "Iterable[str | os.PathLike[str]]" = ()) -> str | None:
+    """The input (as it was given) that ``path`` names, or None.
+
+    Compares resolved paths, and device and inode numbers when the output
+    already exists, with every recorded input and with ``inputs``.
+    """
+    for extra in inputs:
+        note_input(extra)
+    p = Path(os.fspath(path))
+    try:
+        hit = _INPUTS.get(("path", str(p.resolve())))
+    except (OSError, RuntimeError):
+        hit = None
+    if hit is not None:
+        return hit
+    try:
+        st = os.stat(p)
+    except (OSError, ValueError):
+        return None
+    return _INPUTS.get(("inode", st.st_dev, st.st_ino))
+
+
+def _refuse_input(p: Path, inputs=()) -> None:
+    hit = input_named_by(p, inputs)
+    if hit is not None:
+        same = "" if os.fspath(hit) == str(p) else f" ({hit})"
+        raise OutputError(f"{p}: is an input of this run{same}; an input is never replaced, "
+                          f"even with --force; choose another output name")
+
+
+def check_writable(path: str | os.PathLike[str], *, force: bool = False,
+                   inputs: Iterable[str | os.PathLike[str]] = ()) -> Path:
     """Check, before any work is done, that ``path`` can be created.
 
     Parameters
@@ -23,7 +89,9 @@ def check_writable(path: str | os.PathLike[str], *, force: bool = False) -> Path
     path : str or path-like
         Output file.
     force : bool
-        Allow replacing an existing file.
+        Allow replacing an existing file (never an input: see :func:`note_input`).
+    inputs : iterable of paths
+        Further inputs of the run, recorded before the check.
 
     Returns
     -------
@@ -33,9 +101,11 @@ def check_writable(path: str | os.PathLike[str], *, force: bool = False) -> Path
     ------
     OutputError
         If the folder does not exist or is not writable, the path is a folder,
-        or the file exists and ``force`` is false.
+        the file exists and ``force`` is false, or the file is an input of
+        the run (whatever the spelling, with or without ``force``).
     """
     p = Path(path)
+    _refuse_input(p, inputs)
     folder = p.parent if str(p.parent) else Path(".")
     if p.is_dir():
         raise OutputError(f"{p}: is a folder; give a file name")
@@ -66,6 +136,7 @@ def atomic_path(path: str | os.PathLike[str], *, force: bool = False) -> Iterato
         yield tmp_path
         if p.exists() and not force:
             raise OutputError(f"{p}: appeared while writing; use --force to replace it")
+        _refuse_input(p)
         # mkstemp makes the file private (0600); give it the mode of the file it replaces,
         # or what a plain open() would have given under the user's umask
         os.chmod(tmp_path, _replaced_mode(p))

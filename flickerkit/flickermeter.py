@@ -50,7 +50,6 @@ immunity test method" (light flickermeter; its constants not used here).
 from __future__ import annotations
 
 import math
-import tomllib
 import warnings
 from dataclasses import asdict, dataclass, fields, replace
 from pathlib import Path
@@ -105,6 +104,13 @@ _PERCENT_POINTS = (0.1, 0.7, 1.0, 1.5, 2.2, 3.0, 4.0, 6.0, 8.0, 10.0, 13.0, 17.0
 
 # ---------------------------------------------------------------------------
 # calibrations
+
+
+#: Upper ends of the calibration constants (see Calibration.__post_init__).
+_CALIBRATION_MAX = {**{f: 1000.0 for f in ("lambda_hz", "f1_hz", "f2_hz", "f3_hz", "f4_hz",
+                                           "lowpass_hz", "reference_frequency_hz",
+                                           "highpass_hz")},
+                    "observation_s": 86_400.0, "smoothing_s": 60.0, "k": 1e6}
 
 
 @dataclass(frozen=True)
@@ -178,6 +184,9 @@ class Calibration:
     smoothing_s: float = 0.3
 
     def __post_init__(self) -> None:
+        # ranges: every constant above 0; filter frequencies at most 1 kHz (the chain runs at
+        # 2-4 kHz after decimation, so a corner above its Nyquist frequency cannot be
+        # realised), observation at most one day, smoothing at most 60 s, k at most 1e6
         where = f"flickermeter calibration {self.name!r}"
         if not isinstance(self.name, str) or not self.name.strip():
             raise SettingsError("flickermeter calibration needs a non-empty name")
@@ -190,6 +199,9 @@ class Calibration:
             if isinstance(v, bool) or not isinstance(v, (int, float)) \
                     or not math.isfinite(v) or v <= 0:
                 raise SettingsError(f"{where}: {f} must be a positive number, got {v!r}")
+            high = _CALIBRATION_MAX.get(f)
+            if high is not None and v > high:
+                raise SettingsError(f"{where}: {f} must be at most {high:g}, got {v:g}")
         if isinstance(self.lowpass_order, bool) or not isinstance(self.lowpass_order, int) \
                 or not 1 <= self.lowpass_order <= 12:
             raise SettingsError(f"{where}: lowpass_order must be an integer 1..12, "
@@ -327,6 +339,13 @@ def calibration_from_mapping(data: dict[str, Any], *, source: str = "") -> Calib
     missing = sorted(known - optional - set(data))
     if missing:
         raise SettingsError(f"{where}calibration lacks key(s) {', '.join(missing)}")
+    from .validate import Spec, check_table
+
+    # types with the shared validator (file and key named); ranges in Calibration itself
+    specs = {k: Spec("number") for k in known}
+    specs.update({k: Spec("string") for k in ("name", "signal", "status", "origin")})
+    specs["lowpass_order"] = Spec("integer")
+    check_table(data, specs, source=source or "calibration")
     kwargs = dict(data)
     pct = kwargs.pop("reference_modulation_percent")
     if isinstance(pct, bool) or not isinstance(pct, (int, float)):
@@ -366,16 +385,10 @@ def load_calibration(path: str | Path) -> Calibration:
         Path("lab.toml").write_text(LIGHT_PROVISIONAL_230V.to_toml())
         cal = load_calibration("lab.toml")
     """
+    from .sidefile import load_toml
+
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise SettingsError(f"{p}: cannot read calibration file ({exc.strerror or exc})") \
-            from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise SettingsError(f"{p}: not a valid TOML file ({exc})") from None
+    data = load_toml(p, "calibration file")
     return calibration_from_mapping(data, source=str(p))
 
 

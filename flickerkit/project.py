@@ -62,6 +62,7 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from .errors import SettingsError
+from .validate import Spec, check_table, check_value
 
 _TOP_KEYS = {"product", "setup", "read", "capture", "captures", "drive", "criteria", "analysis",
              "steps"}
@@ -72,6 +73,40 @@ _CRITERIA_KEYS = {"apply", "file"}
 _ANALYSIS_KEYS = {"ieee1789_mode", "harmonics"}
 _STEPS_KEYS = {"steps", "curve", "bits", "top", "min", "max", "off", "gamma", "min_count",
                "pwm_frequency_hz", "rounding", "visible_step", "target_region"}
+
+
+def _specs():
+    from .validate import MAX_SAMPLE_RATE_HZ, MAX_STEPS, MAX_FREQUENCY_HZ, Spec
+
+    text = Spec("string")
+    read = {"dark": Spec("number|string"), "column": Spec("integer|string", 1, 10_000),
+            "sample_rate_hz": Spec("number", 0, MAX_SAMPLE_RATE_HZ, open_low=True),
+            "time_unit": Spec("string", choices=("s", "ms", "us", "µs", "ns")),
+            "resample": Spec("bool"), "fill_gaps": Spec("bool")}
+    return {
+        "product": {k: text for k in _PRODUCT_KEYS},
+        "read": read,
+        "capture": {**read, "level": Spec("number"), "file": text,  # range: _level
+                    "label": text},
+        "captures": {"glob": text},
+        "criteria": {"apply": Spec("strings"), "file": text},
+        "analysis": {"ieee1789_mode": Spec("string", choices=("fundamental", "per-harmonic")),
+                     "harmonics": Spec("integer", 1, 1000)},
+        "steps": {"steps": Spec("integer", 2, MAX_STEPS), "curve": text,
+                  "bits": Spec("integer", 1, 32), "top": Spec("integer", 1, 2 ** 32 - 1),
+                  "min": Spec("number", 0, 100), "max": Spec("number", 0, 100, open_low=True),
+                  "off": Spec("bool"), "gamma": Spec("number", 0, 10, open_low=True),
+                  "min_count": Spec("integer", 0, 2 ** 32 - 1),
+                  "pwm_frequency_hz": Spec("number", 0, MAX_FREQUENCY_HZ, open_low=True),
+                  "rounding": Spec("string", choices=("distinct", "nearest")),
+                  "visible_step": Spec("number", 0, 100, open_low=True),
+                  "target_region": Spec("string", choices=("low-risk",
+                                                           "no-observable-effect"))},
+    }
+
+
+#: What each project table's keys may hold (types and documented ranges).
+SPECS = _specs()
 CAPTURE_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".wav", ".npy")
 _LEVEL_IN_NAME = (re.compile(r"(?:level|lvl|dim)[ _-]?(\d+(?:[.p]\d+)?)", re.I),
                   re.compile(r"(\d+(?:[.p]\d+)?)\s*(?:%|pct|percent)", re.I))
@@ -85,6 +120,8 @@ class CaptureEntry:
     level: float | None
     label: str
     read: dict[str, Any]
+    #: why the label differs from the one given (two captures shared it), if it does
+    label_note: str | None = None
 
 
 @dataclass(frozen=True)
@@ -146,40 +183,27 @@ def load_project(path: str | Path) -> Project:
     SettingsError
         Naming the file, the table and the key that is wrong.
     """
-    import tomllib
+    from .sidefile import load_toml
 
     p = Path(path)
     where = str(p)
-    try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise SettingsError(f"{where}: no such file") from None
-    except IsADirectoryError:
+    if p.is_dir():
         return project_from_folder(p)
-    except UnicodeDecodeError:
-        raise SettingsError(f"{where}: not a text (TOML) file") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise SettingsError(f"{where}: not valid TOML ({exc})") from None
+    data = load_toml(p, "project file")
     _unknown(data, _TOP_KEYS, where)
     base = p.parent
     product = _table(data, "product", where)
     _unknown(product, _PRODUCT_KEYS, f"{where} [product]")
+    product = check_table(product, SPECS["product"], source=where, name="product")
     if not str(product.get("name", "")).strip():
         raise SettingsError(f"{where}: [product] needs a name")
     product = {k: str(v) for k, v in product.items()}
     setup = _table(data, "setup", where)
     judged = setup.get("judged_on", _dt.date.today())
-    if isinstance(judged, str):
-        try:
-            judged = _dt.date.fromisoformat(judged)
-        except ValueError:
-            raise SettingsError(f"{where} [setup]: judged_on must be a date (YYYY-MM-DD)") from None
-    if isinstance(judged, _dt.datetime):
-        judged = judged.date()
-    if not isinstance(judged, _dt.date):
-        raise SettingsError(f"{where} [setup]: judged_on must be a date (YYYY-MM-DD)")
+    judged = check_value(judged, Spec("date"), source=where, table="setup", key="judged_on")
     read = _table(data, "read", where)
     _unknown(read, _READ_KEYS, f"{where} [read]")
+    read = check_table(read, SPECS["read"], source=where, name="read")
 
     entries: list[CaptureEntry] = []
     listed = data.get("capture", [])
@@ -190,6 +214,7 @@ def load_project(path: str | Path) -> Project:
         if not isinstance(c, Mapping):
             raise SettingsError(f"{w}: must be a table")
         _unknown(c, _CAPTURE_KEYS, w)
+        c = check_table(c, SPECS["capture"], source=where, name=f"[capture] {i}")
         if "file" not in c:
             raise SettingsError(f"{w}: needs 'file'")
         f = base / str(c["file"])
@@ -199,6 +224,11 @@ def load_project(path: str | Path) -> Project:
     glob = _table(data, "captures", where)
     if glob:
         _unknown(glob, {"glob"}, f"{where} [captures]")
+        check_table(glob, SPECS["captures"], source=where, name="captures")
+        pattern = str(glob.get("glob", "*"))
+        if not pattern.strip() or Path(pattern).is_absolute():
+            raise SettingsError(f"{where} [captures] glob: {pattern!r} must be a non-empty "
+                                f"pattern relative to the project's folder")
         files = sorted(x for x in base.glob(str(glob.get("glob", "*")))
                        if x.suffix.lower() in CAPTURE_SUFFIXES and x.is_file())
         if not files:
@@ -206,12 +236,17 @@ def load_project(path: str | Path) -> Project:
                                 f"capture files in {base}")
         entries += [CaptureEntry(x, level_from_name(x.name), x.name, dict(read)) for x in files]
 
+    entries = _distinct(entries)
+
     drive = data.get("drive")
     levels: tuple[float, ...] = ()
     if drive is not None:
         if not isinstance(drive, Mapping):
             raise SettingsError(f"{where}: [drive] must be a table")
         drive = dict(drive)
+        from .validate import check_drive
+
+        check_drive(drive, source=where, name="drive")
         raw_levels = drive.pop("levels", [100, 50, 20, 10, 5, 1])
         if not isinstance(raw_levels, list) or not raw_levels:
             raise SettingsError(f"{where} [drive]: levels must be a list of percentages")
@@ -224,23 +259,37 @@ def load_project(path: str | Path) -> Project:
 
     crit = _table(data, "criteria", where)
     _unknown(crit, _CRITERIA_KEYS, f"{where} [criteria]")
+    crit = check_table(crit, SPECS["criteria"], source=where, name="criteria")
     ids = crit.get("apply")
     if ids is not None and (not isinstance(ids, list) or not all(isinstance(x, str) for x in ids)):
         raise SettingsError(f"{where} [criteria]: apply must be a list of criterion ids")
     analysis = _table(data, "analysis", where)
     _unknown(analysis, _ANALYSIS_KEYS, f"{where} [analysis]")
+    analysis = check_table(analysis, SPECS["analysis"], source=where, name="analysis")
     steps = data.get("steps")
     if steps is not None:
         if not isinstance(steps, Mapping):
             raise SettingsError(f"{where}: [steps] must be a table")
         _unknown(steps, _STEPS_KEYS, f"{where} [steps]")
-        steps = dict(steps)
+        steps = check_table(steps, SPECS["steps"], source=where, name="steps")
     return Project(
         path=p, product=product, setup=setup, captures=tuple(entries), drive=drive,
         drive_levels=levels, criteria_ids=tuple(ids) if ids else None,
         criteria_file=(base / str(crit["file"])) if "file" in crit else None,
         analysis=analysis, steps=steps, judged_on=judged, raw=data,
     )
+
+
+def _distinct(entries: list[CaptureEntry]) -> list[CaptureEntry]:
+    """Give captures that share a label (same name in two folders, a file listed twice) labels
+    of their own, so that none hides another in the record."""
+    from dataclasses import replace
+
+    from .labels import unique_labels
+
+    labels, notes = unique_labels([e.label for e in entries], [str(e.file) for e in entries])
+    return [e if note is None else replace(e, label=lab, label_note=note)
+            for e, lab, note in zip(entries, labels, notes)]
 
 
 def project_from_folder(folder: Path) -> Project:

@@ -24,6 +24,7 @@ sample rate is given.
 from __future__ import annotations
 
 import os
+import stat
 import struct
 from dataclasses import dataclass
 from pathlib import Path
@@ -33,7 +34,10 @@ import numpy as np
 
 from .capture import Capture, ReadRecord, make_capture, make_lazy_capture
 from .errors import InputError
-from .tables import TEXT_CHUNK_ROWS, TIME_UNITS, WIDE_TABLE_COLUMNS, read_table, stream_table  # noqa: F401
+from .fileio import note_input
+from .tables import (MAX_LINE_BYTES, STREAM_FOLDER_PREFIX, TEXT_CHUNK_ROWS,  # noqa: F401
+                     TIME_UNITS, WIDE_TABLE_COLUMNS, first_line_bounded, lines_bounded,
+                     read_table, stream_table)
 from .timebase import (SAMPLE_RATE_RANGE_HZ, UNIFORM_TOLERANCE,  # noqa: F401
                        uniform as _uniform, uniform_blocks as _uniform_blocks)
 
@@ -66,16 +70,23 @@ class FileSignal:
         Interleaved channels, and the 0-based one to read.
     dark : float
         Subtracted from every sample [input unit].
+    zero, scale : float
+        Stored value of zero and the unit of one stored step: a sample is
+        ``(stored - zero) * scale - dark`` (PCM: 128 and 1/128 for unsigned
+        8-bit; default 0 and 1).
     """
 
     def __init__(self, path: str, dtype, offset: int, n: int, *, channels: int = 1,
-                 channel: int = 0, dark: float = 0.0) -> None:
+                 channel: int = 0, dark: float = 0.0, zero: float = 0.0,
+                 scale: float = 1.0) -> None:
         self.path = str(path)
         self.stored = np.dtype(dtype)
         self.offset = int(offset)
         self.channels = int(channels)
         self.channel = int(channel)
         self.dark = float(dark)
+        self.zero = float(zero)
+        self.scale = float(scale)
         self.shape = (int(n),)
         self.dtype = np.dtype(np.float64)
         self.ndim = 1
@@ -85,7 +96,8 @@ class FileSignal:
 
     def with_dark(self, dark: float) -> "FileSignal":
         out = FileSignal(self.path, self.stored, self.offset, self.shape[0],
-                         channels=self.channels, channel=self.channel, dark=self.dark + dark)
+                         channels=self.channels, channel=self.channel, dark=self.dark + dark,
+                         zero=self.zero, scale=self.scale)
         out._owner = self  # keeps a temporary file alive as long as any view of it
         return out
 
@@ -105,6 +117,10 @@ class FileSignal:
             raise InputError(f"file ends early: expected {(b - a) * self.channels} values at "
                              f"sample {a}, found {raw.size}", source=self.path)
         out = raw.reshape(-1, self.channels)[:, self.channel].astype(np.float64)
+        if self.zero:
+            out -= self.zero
+        if self.scale != 1.0:
+            out *= self.scale
         if self.dark:
             out -= self.dark
         return out
@@ -189,13 +205,23 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     options = options or ReadOptions()
     p = Path(path)
     name = str(path)
-    if not p.exists():
-        raise InputError("no such file", source=name)
-    if p.is_dir():
+    note_input(p)
+    try:
+        st = os.stat(p)
+    except FileNotFoundError:
+        raise InputError("no such file", source=name) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the capture ({exc.strerror or exc})", source=name) \
+            from None
+    if stat.S_ISDIR(st.st_mode):
         raise InputError("is a folder, not a capture file", source=name)
+    if not stat.S_ISREG(st.st_mode):
+        kind = "a FIFO (named pipe)" if stat.S_ISFIFO(st.st_mode) else "a device or socket"
+        raise InputError(f"cannot read the capture: it is {kind}, not a regular file",
+                         source=name)
     if not os.access(p, os.R_OK):
-        raise InputError("cannot be read (permission denied)", source=name)
-    size = p.stat().st_size
+        raise InputError("cannot read the capture (permission denied)", source=name)
+    size = st.st_size
     if size == 0:
         raise InputError("file is empty", source=name)
     suffix = p.suffix.lower()
@@ -206,8 +232,11 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     elif suffix == ".npy":
         samples, fs, notes, warns, meta = _read_npy(p, options)
     elif options.stream or (options.stream is None and size > STREAM_ABOVE_TEXT_BYTES):
+        first_line_bounded(p, size)
         samples, fs, notes, warns, meta = stream_table(p, options)
     else:
+        first_line_bounded(p, size)
+        lines_bounded(p, size)
         samples, fs, notes, warns, meta = read_table(p, options)
     meta = {"file": name, "file_size_bytes": size, **meta}
     read = _read_record(meta, samples, fs, options, suffix)
@@ -352,6 +381,10 @@ def _column_number(column, k: int, what: str, name: str) -> int:
     return col
 
 
+#: 24-bit WAV samples cannot be memory-mapped; up to this size they are read into memory.
+_WAV24_IN_MEMORY_BYTES = 1 << 30
+
+
 def _read_wav(p: Path, options: ReadOptions):
     from scipy.io import wavfile
 
@@ -361,13 +394,26 @@ def _read_wav(p: Path, options: ReadOptions):
     with _warnings.catch_warnings(record=True) as caught:
         _warnings.simplefilter("always")
         try:
-            rate, data = wavfile.read(name, mmap=p.stat().st_size >= 64 << 20
-                                      or bool(options.stream))
+            mmap = p.stat().st_size >= 64 << 20 or bool(options.stream)
+            try:
+                rate, data = wavfile.read(name, mmap=mmap)
+            except ValueError as exc:  # 24-bit samples cannot be memory-mapped
+                if not (mmap and "container size" in str(exc)):
+                    raise
+                if p.stat().st_size > _WAV24_IN_MEMORY_BYTES:
+                    raise InputError(f"a 24-bit WAV file above {_WAV24_IN_MEMORY_BYTES >> 20} "
+                                     f"MiB cannot be read block by block; convert it to 16- "
+                                     f"or 32-bit PCM", source=name) from None
+                rate, data = wavfile.read(name, mmap=False)
+        except ZeroDivisionError:  # a header declaring 0 channels
+            raise InputError("not a readable WAV file (the header declares 0 channels or a "
+                             "block align of 0)", source=name) from None
         except (ValueError, EOFError, OSError, IndexError, TypeError, struct.error) as exc:
             raise InputError(f"not a readable WAV file ({exc})", source=name) from None
     header_doubts = [f"WAV file: {w.message}" for w in caught]
     if data.size == 0:
         raise InputError("WAV file holds no samples", source=name)
+    zero, scale, pcm_note = _pcm_level(data.dtype)
     sig, ch = _channel(data, options, name, "WAV file")
     warns: list[str] = header_doubts
     lazy = _streams(int(data.shape[0]), options) and isinstance(data, np.memmap)
@@ -383,10 +429,38 @@ def _read_wav(p: Path, options: ReadOptions):
     fs = float(options.sample_rate_hz) if options.sample_rate_hz else float(rate)
     notes = [f"sample rate {fs:g} Hz from the WAV header" if not options.sample_rate_hz
              else f"sample rate {fs:g} Hz given (WAV header says {rate} Hz)"]
+    if pcm_note:
+        notes.append(pcm_note)
     meta = {"format": "WAV", "column": f"channel {ch}"}
     if lazy:
-        return _file_signal(data, p, ch - 1), fs, notes, warns, meta
-    return np.asarray(sig, dtype=np.float64), fs, notes, warns, meta
+        f = _file_signal(data, p, ch - 1)
+        return (FileSignal(f.path, f.stored, f.offset, f.shape[0], channels=f.channels,
+                           channel=f.channel, zero=zero, scale=scale), fs, notes, warns, meta)
+    x = np.asarray(sig, dtype=np.float64)
+    if zero or scale != 1.0:
+        x = (x - zero) * scale
+    return x, fs, notes, warns, meta
+
+
+def _pcm_level(dtype: np.dtype) -> tuple[float, float, str]:
+    """Zero and step of integer PCM samples as scipy returns them, to full scale (±1).
+
+    Unsigned 8-bit PCM stores zero as 128 (WAVE format: 8-bit samples are
+    unsigned, wider ones two's complement); scipy returns 24-bit samples
+    left-justified in int32, so every signed width divides by 2**(bits - 1).
+    Float samples are kept as stored.
+    """
+    if not np.issubdtype(dtype, np.integer):
+        return 0.0, 1.0, ""
+    bits = 8 * np.dtype(dtype).itemsize
+    if np.issubdtype(dtype, np.unsignedinteger):
+        zero = float(2 ** (bits - 1))
+        how = f"unsigned {bits}-bit PCM: {zero:g} is zero"
+    else:
+        zero = 0.0
+        how = f"{bits}-bit PCM"
+    return zero, 2.0 ** -(bits - 1), (f"{how}; samples scaled to full scale = 1 (a --dark "
+                                      f"level is in that unit)")
 
 
 def _npy_time_checked(data, fs: float, name: str) -> float:

@@ -69,6 +69,15 @@ def sha256(path: Path) -> str:
     return h.hexdigest()
 
 
+def _sha256_or_reason(path: Path) -> str:
+    """The file's SHA-256, or why it could not be read (the capture is then reported as not
+    measured by its own outcome; one unreadable file never stops the report)."""
+    try:
+        return sha256(path)
+    except OSError as exc:
+        return f"not computed: cannot read {path} ({exc.strerror or exc})"
+
+
 def _read_options(entry_read: dict[str, Any], base: Path):
     from .readers import ReadOptions
 
@@ -140,16 +149,18 @@ def build_report(project: Project, *, workers: int | None = None,
             info = {"label": entry.label, "file": str(entry.file), "level": entry.level}
             if entry.file.is_file():
                 info["size_bytes"] = entry.file.stat().st_size
-                info["sha256"] = sha256(entry.file)
+                info["sha256"] = _sha256_or_reason(entry.file)
             if isinstance(opt.dark, str) and Path(opt.dark).is_file():
                 info["dark_file"] = opt.dark
-                info["dark_sha256"] = sha256(Path(opt.dark))
+                info["dark_sha256"] = _sha256_or_reason(Path(opt.dark))
             if out.record is None:
                 failures.append((entry.label, out.error or "not measured"))
                 info["status"] = f"not measured: {out.error}"
                 inputs.append(info)
                 continue
             rec = {**out.record, "label": entry.label, "level": entry.level}
+            if entry.label_note:
+                rec["notes"] = [*rec.get("notes", []), entry.label_note]
             info.update(status="measured", sample_rate_hz=rec["sample_rate_hz"],
                         duration_s=rec["duration_s"], n_samples=rec["n_samples"],
                         dark_level=(rec.get("input") or {}).get("dark_level"),

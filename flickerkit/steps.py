@@ -318,7 +318,7 @@ def read_transfer_csv(path: str | Path, *, top: int) -> Transfer:
     """
     from .curves import read_two_columns
 
-    c, y = read_two_columns(path)
+    c, y = read_two_columns(path, "calibration file")
     return fit_transfer(c, y, top=top, source=str(path))
 
 

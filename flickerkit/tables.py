@@ -29,6 +29,8 @@ large one in chunks to temporary binary columns read block by block.
 
 from __future__ import annotations
 
+import io
+import os
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -958,7 +960,6 @@ def read_table(p: Path, options: ReadOptions):
 def stream_table(p: Path, options: ReadOptions):
     """Convert a large text table in chunks to temporary binary columns, read as FileSignals."""
     import shutil
-    import tempfile
     import weakref
 
     import pandas as pd
@@ -979,10 +980,11 @@ def stream_table(p: Path, options: ReadOptions):
                         f"streamed in chunks of {TEXT_CHUNK_ROWS} rows (blank lines skipped)"]
     cols = lay.used_columns()
     sig = lay.signal
-    tmp = Path(tempfile.mkdtemp(prefix="flickerkit-stream-"))
+    tmp = _stream_folder(p)
     rows = 0
+    source = io.BufferedReader(_LineBounded(p), buffer_size=1 << 16)
     try:
-        reader = pd.read_csv(p, sep=r"\s+" if lay.separator == " " else lay.separator,
+        reader = pd.read_csv(source, sep=r"\s+" if lay.separator == " " else lay.separator,
                              decimal=lay.decimal, header=None, names=list(range(lay.width)),
                              skiprows=lay.first, usecols=[c + lay.lead for c in cols],
                              dtype=np.float64, engine="c",
@@ -1013,6 +1015,8 @@ def stream_table(p: Path, options: ReadOptions):
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
+    finally:
+        source.close()
     if rows < 2:
         shutil.rmtree(tmp, ignore_errors=True)
         raise InputError(f"the table holds {rows} row(s); at least 2 are needed", source=name)
@@ -1059,3 +1063,128 @@ def _locate_bad_cell(p: Path, lay: TableLayout, cols: list[int], exc: Exception)
                 return InputError(f"cell {v.strip()!r} is not a number", source=name,
                                   line=skip + i + 1, column=lay.label(c))
     return InputError(f"cannot read the table ({str(exc).splitlines()[0]})", source=name)
+
+
+# --------------------------------------------------------------------------- bounds
+
+
+#: Longest line of a text table [bytes]; a capture holds one sample (a few fields) per line.
+MAX_LINE_BYTES = 1 << 20
+#: Text tables read into memory are scanned for long lines above this size [bytes].
+SCAN_LINES_ABOVE_BYTES = 64 << 20
+
+
+def first_line_bounded(p: Path, size: int) -> None:
+    """Refuse at once a text table whose first line is longer than :data:`MAX_LINE_BYTES`
+    (a file of one long line would be parsed into memory as one row of millions of fields)."""
+    if size <= MAX_LINE_BYTES:
+        return
+    with p.open("rb") as fh:
+        head = fh.read(MAX_LINE_BYTES + 1)
+    if b"\n" not in head and b"\r" not in head:
+        raise InputError(f"line 1 is longer than {MAX_LINE_BYTES >> 20} MiB; a text capture "
+                         f"holds one sample per line", source=str(p), line=1)
+
+
+def lines_bounded(p: Path, size: int) -> None:
+    """Refuse a text table read into memory if any line is longer than :data:`MAX_LINE_BYTES`.
+
+    One pass of ``find``/``rfind`` per 1 MiB block (no parsing), so that a long line in the
+    middle of a file is refused before the parser holds it in memory several times over.
+    Files up to :data:`SCAN_LINES_ABOVE_BYTES` are not scanned: the parser's peak for them
+    stays a few times their size whatever their lines.
+    """
+    if size <= max(MAX_LINE_BYTES, SCAN_LINES_ABOVE_BYTES):
+        return
+    raw = _LineBounded(p)
+    buf = bytearray(MAX_LINE_BYTES)
+    try:
+        while raw.readinto(buf):
+            pass
+    finally:
+        raw.close()
+
+
+class _LineBounded(io.RawIOBase):
+    """A binary file that refuses a line longer than :data:`MAX_LINE_BYTES` as it is read.
+
+    Handed to the table parser in place of the path: blocks are at most ``MAX_LINE_BYTES``
+    long, so only the run of bytes since the last newline needs counting (two ``find`` calls
+    per block), and a long line is refused before the parser holds it in memory.
+    """
+
+    def __init__(self, path: Path) -> None:
+        super().__init__()
+        self.path = path
+        self._fh = open(path, "rb", buffering=0)
+        self._run = 0  # bytes since the last line end
+        self._offset = 0  # bytes read
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer) -> int:
+        view = memoryview(buffer)[:MAX_LINE_BYTES]
+        n = self._fh.readinto(view)
+        if not n:
+            return 0
+        block = view[:n].tobytes() if not isinstance(buffer, bytearray) else buffer
+        first = block.find(b"\n", 0, n)
+        if first < 0:
+            self._run += n
+        else:
+            if self._run + first > MAX_LINE_BYTES:
+                self._refuse()
+            self._run = n - block.rfind(b"\n", 0, n) - 1
+        self._offset += n
+        if self._run > MAX_LINE_BYTES:
+            self._refuse()
+        return n
+
+    def _refuse(self) -> None:
+        at = max(0, self._offset - self._run)
+        raise InputError(f"a line is longer than {MAX_LINE_BYTES >> 20} MiB (from byte {at}); "
+                         f"a text capture holds one sample per line", source=str(self.path))
+
+    def close(self) -> None:
+        self._fh.close()
+        super().close()
+
+
+#: Temporary folders of streamed text captures: ``flickerkit-stream-<pid>-<capture>-*`` in
+#: the system's temporary folder (which the system cleans); one left by a killed run is
+#: removed by the next streamed read once its process is gone.
+STREAM_FOLDER_PREFIX = "flickerkit-stream-"
+
+
+def _stream_folder(p: Path) -> Path:
+    """A new temporary folder for a streamed capture, named for the run and the capture."""
+    import tempfile
+
+    _remove_stale_stream_folders()
+    stem = re.sub(r"[^A-Za-z0-9._-]+", "_", p.stem)[:40] or "capture"
+    return Path(tempfile.mkdtemp(prefix=f"{STREAM_FOLDER_PREFIX}{os.getpid()}-{stem}-"))
+
+
+def _remove_stale_stream_folders() -> None:
+    """Remove stream folders whose process no longer runs (left by a killed run)."""
+    import shutil
+    import tempfile
+
+    root = Path(tempfile.gettempdir())
+    try:
+        entries = list(root.glob(f"{STREAM_FOLDER_PREFIX}*"))
+    except OSError:
+        return
+    for d in entries:
+        m = re.match(rf"{STREAM_FOLDER_PREFIX}(\d+)-", d.name)
+        if not m or not d.is_dir() or int(m.group(1)) == os.getpid():
+            continue
+        try:
+            os.kill(int(m.group(1)), 0)
+            continue  # still running
+        except ProcessLookupError:
+            pass
+        except (PermissionError, OSError):
+            continue  # someone else's live process
+        shutil.rmtree(d, ignore_errors=True)

@@ -72,7 +72,7 @@ def test_camera_json(capsys):
     (["drive", "-f", "-5"], "PWM frequency"),
     (["drive", "--levels", "150"], "outside"),
     (["drive", "-f", "1000", "--rise-us", "2000"], "not shorter than the PWM period"),
-    (["drive", "--drive-file", "/nonexistent.toml"], "no such drive file"),
+    (["drive", "--drive-file", "/nonexistent.toml"], "cannot read drive file: no such file"),
     (["plan", "-t", "svm<=0.4", "--clock-mhz", "16", "--prescalers", "1,8", "--prescaler", "3"],
      "no prescaler 3"),
     (["plan", "-t", "low-risk", "--range", "10:1000"], "no PWM frequency"),

@@ -326,7 +326,7 @@ def test_calibration_toml_round_trip(tmp_path):
      "lacks key.*f4_hz"),
     (lambda s: s.replace("k = 1.74802", "k = -1.0"), "k must be a positive number"),
     (lambda s: s.replace('signal = "light"', 'signal = "sound"'), "signal must be one of"),
-    (lambda s: s + "[[", "not a valid TOML"),
+    (lambda s: s + "[[", "not valid TOML"),
 ])
 def test_bad_calibration_files(tmp_path, edit, message):
     path = tmp_path / "bad.toml"

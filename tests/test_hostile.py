@@ -186,3 +186,118 @@ def test_disk_full_while_saving_leaves_nothing(small_capture, tmp_path, monkeypa
     assert main(["measure", str(small_capture), "-r", "1000", "-q", "--xlsx", str(out)]) == 1
     assert "No space left on device" in capsys.readouterr().err
     assert not out.exists() and not list(tmp_path.glob(".*part"))
+
+
+# ---------------------------------------------------------------- side files (issue 12)
+
+from flickerkit.validate import MAX_SIDE_FILE_BYTES  # noqa: E402
+
+#: Per-example time bound: a side file is small, and a device or FIFO is refused before a
+#: byte is read, so each example ends well within it (or the reader hangs or reads forever).
+SIDE_FUZZ = settings(max_examples=40, deadline=3000,
+                     suppress_health_check=[HealthCheck.function_scoped_fixture,
+                                            HealthCheck.too_slow])
+
+
+def _side_readers():
+    from flickerkit.criteria import load_user_criteria
+    from flickerkit.curves import read_two_columns
+    from flickerkit.drive import drive_from_mapping
+    from flickerkit.flickermeter import load_calibration
+    from flickerkit.project import load_project
+    from flickerkit.sidefile import load_toml
+    from flickerkit.steps import read_transfer_csv
+    from flickerkit.validate import check_drive
+
+    def drive(p):
+        data = load_toml(p, "drive file")
+        check_drive(data, source=str(p))
+        return drive_from_mapping(data, source=str(p))
+
+    return {"project": load_project, "criteria": load_user_criteria,
+            "calibration": load_calibration, "curve": read_two_columns,
+            "transfer": lambda p: read_transfer_csv(p, top=1023), "drive": drive}
+
+
+SIDE_KINDS = sorted(_side_readers())
+
+
+def side_outcome(kind, path):
+    """Read a side file; 'ok' or 'error' (one line). Anything else fails the test."""
+    try:
+        _side_readers()[kind](path)
+    except FlickerkitError as exc:
+        text = str(exc).strip()
+        assert text and "\n" not in text, repr(text)
+        return "error"
+    return "ok"
+
+
+@SIDE_FUZZ
+@given(kind=st.sampled_from(SIDE_KINDS), data=st.binary(max_size=1500))
+def test_side_files_random_bytes(tmp_path_factory, kind, data):
+    p = tmp_path_factory.mktemp("side") / ("f.csv" if kind in ("curve", "transfer")
+                                           else "f.toml")
+    p.write_bytes(data)
+    assert side_outcome(kind, p) in OUTCOMES
+
+
+_TOML_SNIPPETS = [
+    '[product]\nname = "{t}"\n[[capture]]\nlevel = 100\nfile = "{t}.csv"\n',
+    '[[criterion]]\nid = "{t}"\nmetric = "svm"\nlimit = 1\ntitle = "{t}"\n',
+    'method = "pwm"\nfrequency_hz = 1234.5\n# {t}\n',
+    "count,light\n0,0\n# {t}\n512,0.4\n1023,1\n",
+    "0,0\n0.5,0.2\n1,1\n# {t}\n",
+]
+
+
+@SIDE_FUZZ
+@given(kind=st.sampled_from(SIDE_KINDS), snippet=st.sampled_from(_TOML_SNIPPETS),
+       text=st.text(max_size=30),
+       encoding=st.sampled_from(["utf-8", "utf-8-sig", "utf-16", "utf-16-le", "utf-16-be",
+                                 "utf-32", "latin-1", "cp1252"]))
+def test_side_files_in_every_encoding(tmp_path_factory, kind, snippet, text, encoding):
+    body = snippet.replace("{t}", text.replace('"', "").replace("\\", ""))
+    try:
+        raw = body.encode(encoding)
+    except UnicodeEncodeError:
+        raw = body.encode("utf-8", "surrogatepass")
+    p = tmp_path_factory.mktemp("enc") / ("f.csv" if kind in ("curve", "transfer")
+                                          else "f.toml")
+    p.write_bytes(raw)
+    got = side_outcome(kind, p)
+    assert got in OUTCOMES
+    if encoding in ("utf-16", "utf-32", "utf-8-sig") and got == "error":
+        # a byte-order mark is always understood: any refusal is about the content
+        try:
+            _side_readers()[kind](p)
+        except FlickerkitError as exc:
+            assert "UTF" not in str(exc) and "NUL" not in str(exc), str(exc)
+
+
+@pytest.mark.parametrize("kind", SIDE_KINDS)
+@pytest.mark.parametrize("special", ["/dev/zero", "/dev/urandom", "/dev/null", "fifo", "dir",
+                                     "sparse"])
+def test_side_files_special(tmp_path, kind, special):
+    import os
+    import threading
+
+    if special == "fifo":
+        special = tmp_path / "pipe"
+        os.mkfifo(special)
+    elif special == "dir":
+        special = tmp_path / "folder.toml"
+        special.mkdir()
+    elif special == "sparse":
+        special = tmp_path / "huge.toml"
+        with open(special, "wb") as fh:
+            fh.truncate(MAX_SIDE_FILE_BYTES + 1)
+    if kind == "project" and str(special).endswith("folder.toml"):
+        pytest.skip("a folder is a valid project (every capture in it)")
+    box = {}
+    t = threading.Thread(target=lambda: box.setdefault("r", side_outcome(kind, special)),
+                         daemon=True)
+    t.start()
+    t.join(20)
+    assert not t.is_alive(), f"{kind} reader hangs on {special}"
+    assert box["r"] == "error"

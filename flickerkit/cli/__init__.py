@@ -85,7 +85,10 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help(sys.stderr)
         return 2
     from ..errors import FlickerkitError
+    from ..fileio import forget_inputs
 
+    forget_inputs()
+    _note_inputs(args)
     try:
         status = int(args.run(args) or 0)
         sys.stdout.flush()
@@ -104,8 +107,34 @@ def main(argv: list[str] | None = None) -> int:
         if exc.errno is None:
             raise
         _silence_stdout()
-        print(f"flickerkit: error: cannot write the output ({exc.strerror})", file=sys.stderr)
+        if exc.filename:  # a file opened below: name it, and do not guess read or write
+            print(f"flickerkit: error: {exc.filename}: {exc.strerror}", file=sys.stderr)
+        else:
+            print(f"flickerkit: error: cannot write the output ({exc.strerror})",
+                  file=sys.stderr)
         return 1
+
+
+#: Options that name input files (a list, or ``COUNT=PATH`` items for calibration captures).
+_INPUT_OPTIONS = ("captures", "project", "dark", "pst_calibration", "drive_file", "calibration",
+                  "curve_file", "calibration_capture")
+
+
+def _note_inputs(args: argparse.Namespace) -> None:
+    """Record every input file the options name, so that no output can replace one."""
+    import os
+
+    from ..fileio import note_input
+
+    for name in _INPUT_OPTIONS:
+        value = getattr(args, name, None)
+        for item in value if isinstance(value, list) else [value]:
+            if not isinstance(item, str):
+                continue
+            if name == "calibration_capture" and "=" in item:
+                item = item.split("=", 1)[1]
+            if name in ("captures", "project") or os.path.lexists(item):
+                note_input(item)
 
 
 def _silence_stdout() -> None:

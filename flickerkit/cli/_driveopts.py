@@ -18,7 +18,7 @@ def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> 
                    help="dimming method (default pwm)")
     if frequency:
         g.add_argument("-f", "--frequency", type=float, metavar="HZ",
-                       help="PWM frequency in Hz (default 1000)")
+                       help="PWM frequency in Hz (default 1000; above 0, at most 1e8)")
     g.add_argument("--edges", choices=("ideal", "first-order", "linear"),
                    help="edge model: ideal, first-order (time constants) or linear (slew "
                         "time of a full swing)")
@@ -40,13 +40,15 @@ def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> 
                    help="hybrid: analogue above this dimming level, PWM below, in percent "
                         "(default 10)")
     g.add_argument("--crossover", type=float, help=argparse.SUPPRESS)  # refused: see below
-    g.add_argument("--channels", type=int, metavar="N", help="channels driven together")
+    g.add_argument("--channels", type=int, metavar="N",
+                   help="channels driven together (1 to 64)")
     g.add_argument("--phases", metavar="DEG,DEG,...",
                    help="channel phase offsets in degrees (default evenly spread)")
     g.add_argument("--counts", type=int, metavar="N",
-                   help="timer counts per PWM period; duty rounds to whole counts")
+                   help="timer counts per PWM period; duty rounds to whole counts (1 to 2^32)")
     g.add_argument("--dither-bits", type=int, metavar="M",
-                   help="first-order sigma-delta dither bits across PWM periods (needs --counts)")
+                   help="first-order sigma-delta dither bits across PWM periods (needs "
+                        "--counts; 0 to 16)")
 
 
 def _us(v):
@@ -60,17 +62,9 @@ def drive_from_args(args: argparse.Namespace):
 
     data: dict = {}
     if getattr(args, "drive_file", None):
-        import tomllib
+        from ..sidefile import load_toml
 
-        try:
-            with open(args.drive_file, "rb") as fh:
-                data = tomllib.load(fh)
-        except FileNotFoundError:
-            raise SettingsError(f"{args.drive_file}: no such drive file") from None
-        except tomllib.TOMLDecodeError as exc:
-            raise SettingsError(f"{args.drive_file}: not valid TOML ({exc})") from None
-        except OSError as exc:
-            raise SettingsError(f"{args.drive_file}: cannot be read ({exc.strerror})") from None
+        data = load_toml(args.drive_file, "drive file")
         if isinstance(data.get("drive"), dict):
             data = dict(data["drive"])
         data.pop("levels", None)
@@ -124,6 +118,9 @@ def drive_from_args(args: argparse.Namespace):
             raise SettingsError("--ripple-shape/--line-hz need --ripple PERCENT")
     if ripple:
         data["ripple"] = ripple
+    from ..validate import check_drive
+
+    check_drive(data, source=args.drive_file or "drive options")
     return drive_from_mapping(data, source=args.drive_file or "drive options")
 
 
@@ -131,11 +128,9 @@ def file_levels(args: argparse.Namespace):
     """Levels listed in the drive file (key ``levels``), or None."""
     if not getattr(args, "drive_file", None):
         return None
-    import tomllib
+    from ..sidefile import load_toml
 
-    with open(args.drive_file, "rb") as fh:
-        data = tomllib.load(fh)
-    return data.get("levels")
+    return load_toml(args.drive_file, "drive file").get("levels")
 
 
 def parse_levels(text: str):
@@ -146,6 +141,7 @@ def parse_levels(text: str):
     import numpy as np
 
     from ..errors import SettingsError
+    from ..validate import MAX_LEVELS
 
     t = str(text).strip()
     try:
@@ -157,16 +153,23 @@ def parse_levels(text: str):
             n = int(parts[2]) if len(parts) == 3 else 25
             if n < 2:
                 raise SettingsError("--levels range needs at least 2 points")
+            if n > MAX_LEVELS:
+                raise SettingsError(f"--levels range: {n} points is above the limit of "
+                                    f"{MAX_LEVELS}")
             if a <= 0 or b <= 0:
                 raise SettingsError("--levels range ends must be above 0 %")
             vals = np.geomspace(a, b, n)
         else:
             vals = np.array([float(x) for x in t.split(",") if x.strip()])
+    except SettingsError:
+        raise
     except ValueError:
         raise SettingsError(f"--levels: {text!r} is not a list of percents (100,50,1) or a "
                             f"range (100:0.1:200)") from None
     if vals.size == 0:
         raise SettingsError("--levels: no level given")
+    if vals.size > MAX_LEVELS:
+        raise SettingsError(f"--levels: {vals.size} levels is above the limit of {MAX_LEVELS}")
     bad = vals[(vals <= 0) | (vals > 100)]
     if bad.size:
         raise SettingsError(f"--levels: level {bad[0]:g} % is outside (0, 100] %")

@@ -29,13 +29,15 @@ def add_parser(sub) -> None:
     p.add_argument("--level", type=float, default=10.0, metavar="PERCENT",
                    help="dimming level in percent (default 10)")
     p.add_argument("--fps", default="24,25,30,50,60,120", metavar="LIST",
-                   help="frame rates (default 24,25,30,50,60,120)")
+                   help="frame rates (default 24,25,30,50,60,120; each 0.01 to 1e6)")
     p.add_argument("--exposure", default="1/60,1/120", metavar="LIST",
-                   help="exposure times in s or as 1/N (default 1/60,1/120); each frame rate "
-                        "uses the exposures that fit in its frame period")
+                   help="exposure times in s or as 1/N (default 1/60,1/120; each above 0, at "
+                        "most 100 s); each frame rate uses the exposures that fit in its frame "
+                        "period")
     p.add_argument("--readout-ms", type=float, metavar="MS",
-                   help="rolling-shutter readout time (default one frame period)")
-    p.add_argument("--rows", type=int, default=1080, help="sensor rows (default 1080)")
+                   help="rolling-shutter readout time (default one frame period; at most 1e5)")
+    p.add_argument("--rows", type=int, default=1080,
+                   help="sensor rows (default 1080; 1 to 100000)")
     p.add_argument("--suggest", metavar="LOW:HIGH",
                    help="suggest PWM frequencies in this range that avoid banding")
     p.add_argument("--max-contrast", type=float, default=1.0, metavar="PERCENT",
@@ -88,6 +90,14 @@ def run(args: argparse.Namespace) -> int:
     model = drive.at(level)
     fps = _numbers(args.fps, "--fps")
     exps = _numbers(args.exposure, "--exposure")
+    from ..validate import check_count, check_number
+
+    for f in fps:  # documented ranges: 0.01 to 1e6 frames per second
+        check_number(f, "--fps", low=0.01, high=1e6)
+    for e in exps:  # exposures above 0 and at most 100 s
+        check_number(e, "--exposure", low=0, high=100.0, open_low=True)
+    check_number(args.readout_ms, "--readout-ms", high=1e5)
+    check_count(args.rows, 100_000, "--rows")
     readout = None if args.readout_ms is None else args.readout_ms * 1e-3
     cams = [Camera(f, e, readout, args.rows) for f in fps for e in exps
             if e <= 1.0 / f * (1 + 1e-9)]

@@ -34,7 +34,7 @@ def add_parser(sub) -> None:
     p.add_argument("--levels", metavar="LIST|RANGE",
                    help="levels in percent: a list 100,50,10,1 or a log-spaced range "
                         "FROM:TO[:COUNT] such as 100:0.1:200 (default 100:0.1:25, or "
-                        "'levels' in the drive file)")
+                        "'levels' in the drive file; at most 1000 levels)")
     o = p.add_argument_group("output")
     o.add_argument("--json", action="store_true",
                    help="print JSON: an object with 'levels' (one object per level, the keys "

@@ -50,10 +50,11 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
                    help="signal column by header name or 1-based number (WAV: channel); "
                         "default: the first column that is not time")
     g.add_argument("-r", "--sample-rate", type=float, metavar="HZ",
-                   help="sample rate in Hz, for files without a time column (overrides one)")
+                   help="sample rate in Hz, for files without a time column (overrides one; "
+                        "above 0, at most 1e10)")
     g.add_argument("--time-unit", metavar="UNIT",
-                   help="unit of the time column: s, ms, us, µs or ns (default: from the "
-                        "header, else s)")
+                   help="unit of the time column: s, ms, us, µs or ns, in any case (default: "
+                        "from the header, else s)")
     g.add_argument("--dark", metavar="LEVEL|FILE",
                    help="dark level to subtract: a number in the signal's unit, or a dark "
                         "capture file whose mean is used")
@@ -77,8 +78,17 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
 
 
 def read_options(args: argparse.Namespace, quantity: str = "light"):
-    from ..readers import ReadOptions
+    from ..errors import SettingsError
+    from ..readers import TIME_UNITS, ReadOptions
+    from ..validate import MAX_SAMPLE_RATE_HZ, check_count, check_number
 
+    check_number(args.sample_rate, "--sample-rate", low=0, high=MAX_SAMPLE_RATE_HZ,
+                 open_low=True)
+    if args.time_unit is not None and args.time_unit.strip().lower() not in TIME_UNITS:
+        raise SettingsError(f"--time-unit {args.time_unit!r} is not a unit of time; use one of "
+                            f"s, ms, us, µs, ns (any case: MS is milliseconds)")
+    if getattr(args, "raw_channels", None) is not None:
+        check_count(args.raw_channels, 1024, "--raw-channels")
     dark = args.dark
     if dark is not None:
         try:
@@ -106,7 +116,7 @@ def add_parser(sub) -> None:
                         "harmonic at its own frequency (this project's extension); both are "
                         "always in the JSON")
     g.add_argument("--harmonics", type=int, default=20, metavar="N",
-                   help="harmonics to report (default 20)")
+                   help="harmonics to report (default 20; 1 to 1000)")
     g.add_argument("--signal", choices=("light", "voltage"), default="light",
                    help="what the captures hold: light (default) or the mains voltage, "
                         "which gives the supply's Pst (key 'pst') instead of light metrics")
@@ -157,20 +167,23 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..errors import SettingsError
     from ..fileio import check_writable
 
-    if args.harmonics < 1:
-        raise SettingsError("--harmonics must be at least 1")
-    if args.workers is not None and args.workers < 1:
-        raise SettingsError("--workers must be at least 1")
+    from ..validate import MAX_HARMONICS, check_count
+
+    check_count(args.harmonics, MAX_HARMONICS, "--harmonics")
+    if args.workers is not None:
+        check_count(args.workers, 1024, "--workers")
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
     if getattr(args, "peek", False):
         return peek(args.captures, read_options(args, args.signal))
     settings = assess_settings(args)
     outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings)
-    records = [o.record for o in outcomes if o.record is not None]
+    records, label_notes = distinct_records(outcomes)
+    if not args.quiet:
+        for note in label_notes:
+            print(f"flickerkit: note: {note}", file=sys.stderr)
     failed = [o for o in outcomes if o.record is None]
     if not args.quiet:
         print_read(records)
@@ -253,6 +266,23 @@ def peek(paths: list[str], options) -> int:
     return 1 if failed else 0
 
 
+def distinct_records(outcomes) -> tuple[list[dict], list[str]]:
+    """The measured records, each with a label of its own (folders tell equal names apart),
+    and the notes saying which labels were changed and why."""
+    from ..labels import unique_labels
+
+    done = [o for o in outcomes if o.record is not None]
+    labels, notes = unique_labels([o.record["label"] for o in done], [o.path for o in done])
+    records = []
+    for o, lab, note in zip(done, labels, notes):
+        r = dict(o.record)
+        if note:
+            r["label"] = lab
+            r["notes"] = [*r.get("notes", []), note]
+        records.append(r)
+    return records, [n for n in notes if n]
+
+
 def calibration_option(value: str | None):
     """Resolve ``--pst-calibration``: a built-in name, or a TOML file (by suffix or path)."""
     if value is None:
@@ -278,6 +308,11 @@ def assess_settings(args: argparse.Namespace):
     from ..errors import SettingsError
     from ..flickermeter import get_calibration
 
+    from ..validate import check_number
+
+    # upper ends here; the lower ends are checked where the values are used
+    check_number(args.svm_lower, "--svm-lower", high=2000)
+    check_number(args.pst_observation, "--pst-observation", high=86_400)
     cal = calibration_option(args.pst_calibration)
     if cal is not None and get_calibration(cal).signal != args.signal:
         name = get_calibration(cal).name

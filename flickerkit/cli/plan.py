@@ -40,7 +40,8 @@ def add_parser(sub) -> None:
     p.add_argument("--min-level", type=float, default=0.1, metavar="PERCENT",
                    help="smallest dimming level that must pass and be made (default 0.1)")
     p.add_argument("--levels", type=int, default=25, metavar="N",
-                   help="log-spaced levels checked from the smallest to 100 %% (default 25)")
+                   help="log-spaced levels checked from the smallest to 100 %% (default 25; "
+                        "2 to 200)")
     p.add_argument("--tolerance", type=float, default=None, metavar="PERCENT",
                    help="frequency tolerance of the PWM clock (oscillator and timer clock "
                         "error), +- percent; the recommended frequency meets the targets over "
@@ -79,6 +80,11 @@ def _range(text: str):
     if not (0 < lo < hi):
         raise SettingsError(f"--range: need 0 < LOW < HIGH, got {lo:g}:{hi:g} Hz (negative or "
                             f"zero frequencies are impossible)")
+    from ..validate import MAX_FREQUENCY_HZ
+
+    if hi > MAX_FREQUENCY_HZ:
+        raise SettingsError(f"--range: HIGH {hi:g} Hz is above the limit of "
+                            f"{MAX_FREQUENCY_HZ:g} Hz")
     return lo, hi
 
 
@@ -117,6 +123,10 @@ def run(args: argparse.Namespace) -> int:
     if args.levels < 2:
         raise SettingsError(f"--levels must be at least 2 (the smallest level and 100 %), "
                             f"got {args.levels}")
+    from ..validate import MAX_PLAN_LEVELS
+
+    if args.levels > MAX_PLAN_LEVELS:
+        raise SettingsError(f"--levels {args.levels} is above the limit of {MAX_PLAN_LEVELS}")
     levels = default_levels(res.min_level, args.levels)
     from ..planner import DEFAULT_TOLERANCE, check_tolerance
 

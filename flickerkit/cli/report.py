@@ -57,6 +57,8 @@ def run(args: argparse.Namespace) -> int:
     from ..report import build_report
 
     project = load_project(args.project)
+    # the project names its captures, dark captures and criteria file: none may be the output
+    check_writable(args.output, force=args.force, inputs=project_inputs(project))
     bar = None
     if not args.quiet:
         from tqdm import tqdm
@@ -110,6 +112,19 @@ def run(args: argparse.Namespace) -> int:
     print("\n".join(f"caution: {c}" for c in CAUTIONS),
           file=sys.stderr if args.json else sys.stdout)
     return 1 if report.failures else 0
+
+
+def project_inputs(project) -> list[str]:
+    """Every file a project names (captures, their dark captures, criteria file)."""
+    out = [str(project.path)] + [str(e.file) for e in project.captures]
+    base = project.path.parent if project.path.is_file() else project.path
+    for e in project.captures:
+        dark = e.read.get("dark")
+        if isinstance(dark, str):
+            out.append(str(base / dark))
+    if project.criteria_file is not None:
+        out.append(str(project.criteria_file))
+    return out
 
 
 def verdict_table(report) -> str:

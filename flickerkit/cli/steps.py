@@ -89,10 +89,12 @@ def add_parser(sub) -> None:
                           "read as by 'flickerkit measure' (see the reading options, --dark)")
     j = p.add_argument_group("judgement")
     j.add_argument("--visible-step", type=float, default=None, metavar="DL",
-                   help="L* step above which a step is flagged visible (default 2.3)")
+                   help="L* step above which a step is flagged visible (default 2.3; above 0, "
+                        "at most 100)")
     j.add_argument("--pwm-frequency", type=float, metavar="HZ",
                    help="PWM frequency: adds percent flicker, flicker index, IEEE 1789 region "
-                        "and SVM per step, for ideal on/off pulses (exact, vectorised)")
+                        "and SVM per step, for ideal on/off pulses (exact, vectorised; at most "
+                        "1e8 Hz)")
     j.add_argument("--target-region", choices=("low-risk", "no-observable-effect"),
                    default="low-risk",
                    help="IEEE 1789 region the table should stay in (default low-risk); the "
@@ -119,6 +121,17 @@ def add_parser(sub) -> None:
     p.set_defaults(run=run)
 
 
+def _same_path(a: str, b: str) -> bool:
+    """Whether two spellings name one file (resolved paths; device and inode if it exists)."""
+    import os
+    from pathlib import Path
+
+    try:
+        return Path(a).resolve() == Path(b).resolve() or os.path.samefile(a, b)
+    except OSError:
+        return False
+
+
 def run(args: argparse.Namespace) -> int:
     from .. import __version__
     from ..errors import SettingsError
@@ -127,8 +140,12 @@ def run(args: argparse.Namespace) -> int:
     for path in (args.output, args.xlsx):
         if path:
             check_writable(path, force=args.force)
-    if args.output and args.xlsx and args.output == args.xlsx:
+    if args.output and args.xlsx and _same_path(args.output, args.xlsx):
         raise SettingsError("--output and --xlsx name the same file")
+    from ..validate import MAX_FREQUENCY_HZ, check_number
+
+    check_number(args.pwm_frequency, "--pwm-frequency", high=MAX_FREQUENCY_HZ)
+    check_number(args.visible_step, "--visible-step", low=0, high=100, open_low=True)
     table = build(args)
 
     if args.format == "json":
@@ -180,7 +197,7 @@ def build(args: argparse.Namespace):
     if args.curve_file:
         from ..curves import read_two_columns
 
-        xs, ys = read_two_columns(args.curve_file)
+        xs, ys = read_two_columns(args.curve_file, "curve file")
         curve, params = "user", {"inputs": xs, "outputs": ys, "source": args.curve_file}
     if args.gamma is not None:
         if curve != "gamma":

@@ -7,6 +7,7 @@ text, never as a formula, even when it starts with ``=``, ``+``, ``-`` or ``@``.
 from __future__ import annotations
 
 import datetime as _dt
+import re
 from pathlib import Path
 from typing import Any, Iterable, Sequence
 
@@ -22,9 +23,30 @@ CAUTION = (
 )
 
 
+#: Characters a workbook cannot hold (XML 1.0 forbids C0 controls but tab, LF and CR).
+_ILLEGAL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
+#: The cell comment that says a cell's text was changed.
+REPLACED_NOTE = ("control characters in the input text, which a workbook cannot hold, are "
+                 "shown as [U+XXXX] markers")
+
+
+def workbook_text(text: str) -> tuple[str, bool]:
+    """``text`` with each control character a workbook cannot hold replaced by a visible
+    ``[U+XXXX]`` marker; and whether anything was replaced."""
+    out, n = _ILLEGAL.subn(lambda m: f"[U+{ord(m.group()):04X}]", text)
+    return out, bool(n)
+
+
 def put(ws, row: int, col: int, value: Any, *, number_format: str | None = None):
-    """Write one cell; strings are forced to text so they can never run as formulas."""
+    """Write one cell; strings are forced to text so they can never run as formulas.
+
+    Control characters a workbook cannot hold (from input names, labels, descriptions) are
+    replaced by visible ``[U+XXXX]`` markers and the cell carries a comment saying so.
+    """
     cell = ws.cell(row=row, column=col)
+    replaced = False
+    if isinstance(value, str):
+        value, replaced = workbook_text(value)
     if isinstance(value, float) and value != value:
         value = None
     if isinstance(value, float) and value in (float("inf"), float("-inf")):
@@ -32,6 +54,10 @@ def put(ws, row: int, col: int, value: Any, *, number_format: str | None = None)
     cell.value = value
     if isinstance(value, str):
         cell.data_type = "s"
+    if replaced:
+        from openpyxl.comments import Comment
+
+        cell.comment = Comment(REPLACED_NOTE, "flickerkit")
     if number_format and isinstance(value, (int, float)):
         cell.number_format = number_format
     return cell
@@ -67,8 +93,8 @@ def print_setup(wb) -> None:
 def set_properties(wb, title: str, subject: str) -> None:
     """Set the document properties every flickerkit workbook carries."""
     props = wb.properties
-    props.title = title
-    props.subject = subject
+    props.title = workbook_text(title)[0]
+    props.subject = workbook_text(subject)[0]
     props.creator = f"flickerkit {__version__}"
     props.keywords = "temporal light modulation; flicker; IEEE 1789"
     props.description = CAUTION
