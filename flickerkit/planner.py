@@ -315,6 +315,29 @@ def check_band(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[flo
     return True, None, None, None
 
 
+def band_meets(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[float],
+               targets: Sequence[Target]) -> dict[str, bool]:
+    """Per target: whether it is met at every level over ``f (1 +- tolerance)``.
+
+    Each frequency and level is modelled once for all targets (see
+    :func:`band_frequencies` for the frequencies checked).
+    """
+    ok = {t.name: True for t in targets}
+    need_svm = any(t.kind == "svm" for t in targets)
+    for f in band_frequencies(drive, targets, f_hz, tolerance):
+        if not _valid_frequency(drive, float(f)):
+            return {t.name: False for t in targets}
+        d = drive.with_frequency(float(f))
+        for lv in levels:
+            fig = figures(d.at(lv), lv, need_svm=need_svm)
+            for t in targets:
+                if ok[t.name] and not fig.meets(t):
+                    ok[t.name] = False
+        if not any(ok.values()):
+            break
+    return ok
+
+
 def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
               lowest_hz: float, tolerance: float, f_max_hz: float
               ) -> tuple[float | None, list[str]]:
@@ -558,11 +581,9 @@ def _setting_record(s: TimerSetting, drive: Drive, res: Resolution,
     rise = drive.edges.rise_s if drive.edges.kind != "ideal" else 0.0
     dmin = minimum_duty(s.frequency_hz, turn_on_delay_s=drive.turn_on_delay_s, rise_s=rise,
                         min_on_time_s=drive.min_on_time_s)
-    met = []
     # a target is met when it is met over the setting's whole tolerance band
-    for t in targets:
-        if check_band(drive, s.frequency_hz, tolerance, levels, [t])[0]:
-            met.append(t.name)
+    met = [t.name for t in targets if band_meets(drive, s.frequency_hz, tolerance, levels,
+                                                 targets)[t.name]]
     resolution_ok = s.counts >= res.counts
     pwm_bottom = res.min_level / (drive.crossover if drive.method == "hybrid" else 1.0)
     # a fast clock shortens the period: the fixed shortest pulse is a larger duty there
@@ -787,6 +808,6 @@ def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequ
 
 
 __all__ = ["DEFAULT_TOLERANCE", "FrequencyResult", "LevelFigures", "Resolution", "Target",
-           "abrupt_changes", "abrupt_points", "band_frequencies", "check_band",
+           "abrupt_changes", "abrupt_points", "band_frequencies", "band_meets", "check_band",
            "check_tolerance", "default_levels", "figures", "lowest_frequency", "parse_targets",
            "plan", "recommend", "svm_of_series"]
