@@ -238,9 +238,11 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
     ``(k / P) f + n f_r`` (P the dither pattern's PWM periods, at most 2^m;
     f_r the ripple frequency, n over its harmonics), so the jumps lie at
     ``f = (F - n f_r) P / k`` for F = 80 or 2000 Hz. IEEE 1789's low-risk line
-    steps from 2.5 % to 8 % per 100 Hz at 90 Hz (IEEE 1789-2015 clause 8): the
-    fundamental reading jumps where the light's repetition frequency (``c f``
-    for c evenly phased channels) crosses 90 Hz. At most 400 points are kept.
+    steps from 2.5 % to 8 % per 100 Hz at 90 Hz and ends at 1250 Hz, the
+    no-observable-effect line ends at 3000 Hz (IEEE 1789-2015 clause 8): the
+    fundamental reading may jump where the light's repetition frequency (``c f``
+    for c evenly phased channels) crosses one of them (:func:`abrupt_changes`
+    keeps those where it does). At most 400 points are kept.
     """
     from . import svm
 
@@ -266,13 +268,17 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
                                          f"band"})
     if any(t.kind.startswith("ieee1789") for t in targets):
         mult = drive.channels if drive.channels > 1 else 1
+        breaks = ((ieee1789.LOW_FREQUENCY_BREAK_HZ, "IEEE 1789's low-risk line steps"),
+                  (ieee1789.LOW_RISK_EXEMPT_ABOVE_HZ, "IEEE 1789's low-risk line ends"),
+                  (ieee1789.NOEL_EXEMPT_ABOVE_HZ, "IEEE 1789's no-observable-effect line "
+                                                  "ends (99.9 % just below)"))
         for c in sorted({1, mult}):
-            f = ieee1789.LOW_FREQUENCY_BREAK_HZ / c
-            if f_lo <= f <= f_hi:
-                out.append({"frequency_hz": f, "target": "ieee1789",
-                            "cause": f"the light's repetition frequency reaches "
-                                     f"{ieee1789.LOW_FREQUENCY_BREAK_HZ:g} Hz, where IEEE "
-                                     f"1789's low-risk line steps"})
+            for fb, what in breaks:
+                f = fb / c
+                if f_lo <= f <= f_hi:
+                    out.append({"frequency_hz": f, "target": "ieee1789",
+                                "cause": f"the light's repetition frequency reaches {fb:g} Hz, "
+                                         f"where {what}"})
     out.sort(key=lambda d: d["frequency_hz"])
     return out[:400]
 
