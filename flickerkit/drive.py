@@ -557,6 +557,8 @@ class Light:
         """
         if all(tr.is_constant for tr in self.trains):
             return 0
+        if len(self.trains) == 1:
+            return 1  # one pulse per frame, and a dither pattern is its own shortest repeat
         T = self.trains[0].period_s
         j = np.arange(1, _DIVISOR_HARMONICS * len(self.trains) + 1)
         c = sum(tr.coefficients(j) for tr in self.trains)

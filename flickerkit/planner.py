@@ -238,9 +238,11 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
     ``(k / P) f + n f_r`` (P the dither pattern's PWM periods, at most 2^m;
     f_r the ripple frequency, n over its harmonics), so the jumps lie at
     ``f = (F - n f_r) P / k`` for F = 80 or 2000 Hz. IEEE 1789's low-risk line
-    steps from 2.5 % to 8 % per 100 Hz at 90 Hz (IEEE 1789-2015 clause 8): the
-    fundamental reading jumps where the light's repetition frequency (``c f``
-    for c evenly phased channels) crosses 90 Hz. At most 400 points are kept.
+    steps from 2.5 % to 8 % per 100 Hz at 90 Hz and ends at 1250 Hz, the
+    no-observable-effect line ends at 3000 Hz (IEEE 1789-2015 clause 8): the
+    fundamental reading may jump where the light's repetition frequency (``c f``
+    for c evenly phased channels) crosses one of them (:func:`abrupt_changes`
+    keeps those where it does). At most 400 points are kept.
     """
     from . import svm
 
@@ -266,13 +268,17 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
                                          f"band"})
     if any(t.kind.startswith("ieee1789") for t in targets):
         mult = drive.channels if drive.channels > 1 else 1
+        breaks = ((ieee1789.LOW_FREQUENCY_BREAK_HZ, "IEEE 1789's low-risk line steps"),
+                  (ieee1789.LOW_RISK_EXEMPT_ABOVE_HZ, "IEEE 1789's low-risk line ends"),
+                  (ieee1789.NOEL_EXEMPT_ABOVE_HZ, "IEEE 1789's no-observable-effect line "
+                                                  "ends (99.9 % just below)"))
         for c in sorted({1, mult}):
-            f = ieee1789.LOW_FREQUENCY_BREAK_HZ / c
-            if f_lo <= f <= f_hi:
-                out.append({"frequency_hz": f, "target": "ieee1789",
-                            "cause": f"the light's repetition frequency reaches "
-                                     f"{ieee1789.LOW_FREQUENCY_BREAK_HZ:g} Hz, where IEEE "
-                                     f"1789's low-risk line steps"})
+            for fb, what in breaks:
+                f = fb / c
+                if f_lo <= f <= f_hi:
+                    out.append({"frequency_hz": f, "target": "ieee1789",
+                                "cause": f"the light's repetition frequency reaches {fb:g} Hz, "
+                                         f"where {what}"})
     out.sort(key=lambda d: d["frequency_hz"])
     return out[:400]
 
@@ -313,6 +319,29 @@ def check_band(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[flo
         if not ok:
             return False, float(f), lv, tn
     return True, None, None, None
+
+
+def band_meets(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[float],
+               targets: Sequence[Target]) -> dict[str, bool]:
+    """Per target: whether it is met at every level over ``f (1 +- tolerance)``.
+
+    Each frequency and level is modelled once for all targets (see
+    :func:`band_frequencies` for the frequencies checked).
+    """
+    ok = {t.name: True for t in targets}
+    need_svm = any(t.kind == "svm" for t in targets)
+    for f in band_frequencies(drive, targets, f_hz, tolerance):
+        if not _valid_frequency(drive, float(f)):
+            return {t.name: False for t in targets}
+        d = drive.with_frequency(float(f))
+        for lv in levels:
+            fig = figures(d.at(lv), lv, need_svm=need_svm)
+            for t in targets:
+                if ok[t.name] and not fig.meets(t):
+                    ok[t.name] = False
+        if not any(ok.values()):
+            break
+    return ok
 
 
 def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
@@ -558,11 +587,9 @@ def _setting_record(s: TimerSetting, drive: Drive, res: Resolution,
     rise = drive.edges.rise_s if drive.edges.kind != "ideal" else 0.0
     dmin = minimum_duty(s.frequency_hz, turn_on_delay_s=drive.turn_on_delay_s, rise_s=rise,
                         min_on_time_s=drive.min_on_time_s)
-    met = []
     # a target is met when it is met over the setting's whole tolerance band
-    for t in targets:
-        if check_band(drive, s.frequency_hz, tolerance, levels, [t])[0]:
-            met.append(t.name)
+    met = [t.name for t in targets if band_meets(drive, s.frequency_hz, tolerance, levels,
+                                                 targets)[t.name]]
     resolution_ok = s.counts >= res.counts
     pwm_bottom = res.min_level / (drive.crossover if drive.method == "hybrid" else 1.0)
     # a fast clock shortens the period: the fixed shortest pulse is a larger duty there
@@ -787,6 +814,6 @@ def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequ
 
 
 __all__ = ["DEFAULT_TOLERANCE", "FrequencyResult", "LevelFigures", "Resolution", "Target",
-           "abrupt_changes", "abrupt_points", "band_frequencies", "check_band",
+           "abrupt_changes", "abrupt_points", "band_frequencies", "band_meets", "check_band",
            "check_tolerance", "default_levels", "figures", "lowest_frequency", "parse_targets",
            "plan", "recommend", "svm_of_series"]

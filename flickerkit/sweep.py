@@ -98,6 +98,10 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
     fund = ieee1789.classify(f0, pf) if f0 else a.ieee1789_fundamental
     a = replace(a, percent_flicker=pf, flicker_index=fi, ieee1789_fundamental=fund, svm=sv)
     rec = a.to_dict()
+    rec["warnings"] = [w + ("; the headline percent flicker, flicker index and SVM are the "
+                            "model's exact figures, capture_figures those of the capture")
+                       if w.startswith("sample rate limited by the sample budget") else w
+                       for w in rec["warnings"]]
     rec["capture_figures"] = {k: (float(v) if isinstance(v, float) else v)
                               for k, v in captured.items()}
     rec["figures_source"] = ("drive model (exact extremes, flicker index by quadrature, SVM "

@@ -194,3 +194,15 @@ def test_flicker_index_closed_form(duty, off):
     two = Drive(frequency_hz=1234.56, off_level=off, channels=2,
                 phase_offsets_deg=(0.0, 0.0)).at(duty)
     assert two.light().flicker_index() == pytest.approx(duty * (1 - m) / m, rel=1e-6)
+
+
+def test_camera_beats_with_the_lights_repetition():
+    # analytic: three evenly phased channels at 1010 Hz repeat at 3030 Hz; at 30 fps the light
+    # folds to 3030 - 101 x 30 = 0 Hz (standing bands), where the PWM frequency alone would
+    # give 1010 - 34 x 30 = -10 -> 10 Hz
+    from flickerkit.camera import Camera, banding
+
+    b = banding(Drive(frequency_hz=1010.0, channels=3).at(0.2), Camera(30.0, 1 / 120))
+    assert b.beat_hz == pytest.approx(0.0, abs=1e-9)
+    b1 = banding(Drive(frequency_hz=1010.0).at(0.2), Camera(30.0, 1 / 120))
+    assert b1.beat_hz == pytest.approx(10.0)

@@ -84,6 +84,29 @@ def test_abrupt_points_of_ripple_and_channels():
     assert sorted(a["frequency_hz"] for a in pts) == pytest.approx([30.0, 90.0])
 
 
+def test_noel_end_is_reported():
+    # IEEE 1789-2015 clause 8: the NOEL line 0.0333 f gives 99.9 % at 3000 Hz and ends there;
+    # full-depth PWM fails it up to 3000 Hz and passes above: an abrupt change at 3000 Hz
+    out = plan(Drive(), parse_targets("noel"), levels=LEVELS)
+    ab = [a for a in out["abrupt_changes"] if a["target"] == "ieee1789"]
+    assert len(ab) == 1 and ab[0]["frequency_hz"] == pytest.approx(3000.0)
+    assert ab[0]["figure_below"] == "low-risk" and ab[0]["figure_above"] == "no-observable-effect"
+    assert out["recommended_frequency_hz"] * (1 - DEFAULT_TOLERANCE) > 3000.0
+
+
+def test_plan_workbook_lists_the_abrupt_change(tmp_path, capsys):
+    from openpyxl import load_workbook
+
+    x = tmp_path / "plan.xlsx"
+    assert main(["plan", "-t", "svm<=0.4", "--xlsx", str(x), "-q"]) == 0
+    wb = load_workbook(x)
+    rows = {r[0]: r[1] for r in wb["Plan"].iter_rows(values_only=True)}
+    assert rows["Clock tolerance [+- %]"] == pytest.approx(2.0)
+    assert rows["Recommended frequency [Hz]"] * 0.98 > 2000.0
+    ab = list(wb["Abrupt changes"].iter_rows(values_only=True))
+    assert ab[1][0] == pytest.approx(2000.0) and "upper end of SVM's band" in ab[1][2]
+
+
 def test_cli_tolerance(capsys):
     assert main(["plan", "-t", "svm<=0.4", "--tolerance", "1", "--json", "-q"]) == 0
     out = json.loads(capsys.readouterr().out)

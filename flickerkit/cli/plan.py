@@ -18,6 +18,14 @@ meets both the targets and the resolution, show the ways out and their cost:
 a faster clock or high-resolution timer, hybrid dimming, or dithering (with
 the dither's own low-frequency flicker computed).
 
+A real clock is off by its tolerance (--tolerance, default +-2 %, an internal
+RC oscillator over temperature; a quartz crystal is about +-0.01 %; common
+practice). The plan recommends the lowest frequency whose whole band
+f (1 +- tolerance) meets the targets, starts the timer settings there, and
+names nearby frequencies where a target changes abruptly (SVM's 80 Hz and
+2 kHz band ends, IEEE 1789's 90 Hz step and 1250/3000 Hz line ends).
+Dimming levels are percent on the command line and in the JSON.
+
 Targets: ieee1789-low-risk, ieee1789-noel, svm<=VALUE; several with commas.
 SVM ignores components below its band, so it says nothing about direct
 flicker at very low frequencies: combine it with an IEEE 1789 target.
@@ -27,6 +35,7 @@ examples:
   flickerkit plan --target ieee1789-noel,svm<=0.4 --clock-mhz 48 --prescalers 1,2,4,8 \\
       --min-level 0.1 --max-step 1
   flickerkit plan --target svm<=0.9 --clock-mhz 16 --bits 12 --edges linear --rise-us 1
+  flickerkit plan --target svm<=0.4 --tolerance 0.01     # a crystal-clocked timer
 """
 
 
