@@ -363,19 +363,34 @@ def read_two_columns(path: str | Path, what: str = "two-column file"
         If the file cannot be read, a cell is not a number, it holds fewer
         than two rows, or it has other than two columns.
     """
+    import tempfile
+
     from .readers import ReadOptions, read_capture
+    from .sidefile import read_text
 
-    def column(k: int) -> np.ndarray:
-        # a sample rate is given only so that no column is taken for time
-        cap = read_capture(path, ReadOptions(column=k, sample_rate_hz=1.0))
-        return np.asarray(cap.samples[:], dtype=np.float64)
+    # the care side files get (regular file, size bound, encoding), then the capture table
+    # reader on the checked text; comment lines are blanked so line numbers stay the file's
+    text = read_text(path, what)
+    lines = ["" if ln.lstrip().startswith("#") else ln for ln in text.splitlines()]
+    with tempfile.TemporaryDirectory(prefix="flickerkit-table-") as tmp:
+        plain = Path(tmp) / (Path(path).stem + ".csv")
+        plain.write_text("\n".join(lines) + "\n", encoding="utf-8")
 
-    second = column(2)  # read first: a bad cell in either column is then located
-    first = column(1)
-    try:
-        column(3)
-    except InputError:
-        return first, second
+        def column(k: int) -> np.ndarray:
+            # a sample rate is given only so that no column is taken for time
+            try:
+                cap = read_capture(plain, ReadOptions(column=k, sample_rate_hz=1.0))
+            except InputError as exc:
+                raise InputError(exc.message, source=str(path), line=exc.line,
+                                 column=exc.column) from None
+            return np.asarray(cap.samples[:], dtype=np.float64)
+
+        second = column(2)  # read first: a bad cell in either column is then located
+        first = column(1)
+        try:
+            column(3)
+        except InputError:
+            return first, second
     raise InputError(f"the {what} has more than two columns; it must hold exactly two",
                      source=str(path))
 
