@@ -14,6 +14,7 @@ from functools import cached_property
 
 import numpy as np
 
+from .fftlength import fft_cost
 from .periodicity import Periodicity
 
 #: An exact fast FFT length (factors 2, 3 and 5 only) is taken when one is a whole-period
@@ -28,16 +29,6 @@ _COST_SLACK = 1.25
 _COST_BLOCK = 4096
 #: Spans shorter than this are transformed whole: any length is cheap there [samples].
 _COST_SEARCH_MIN_SAMPLES = 2**16
-#: Cost model of a real FFT, per sample relative to a length with factors 2, 3 and 5 only
-#: (computed here: numpy 2.4 / scipy 1.17 pocketfft on the project's 2-core machine, lengths
-#: near 1e7: prime factors above 5 add about 0.01 per unit of their sum; a length whose
-#: largest prime factor squared exceeds it goes through Bluestein's algorithm at 7-11x).
-_GENERIC_RADIX_COST = 0.01
-_BLUESTEIN_COST = 10.0
-_SMALL_PRIMES = (2, 3, 5, 7, 11, 13, 17, 19, 23, 29, 31, 37, 41, 43, 47, 53, 59, 61, 67, 71,
-                 73, 79, 83, 89, 97)
-
-
 @dataclass(frozen=True, eq=False)
 class Spectrum:
     """Single-sided Fourier components relative to the mean.
@@ -120,52 +111,6 @@ class Spectrum:
             mask[:4] = False
         rest = self.amplitudes[mask]
         return float(np.median(rest)) if rest.size else 0.0
-
-
-def fft_cost(lengths) -> np.ndarray:
-    """Estimated time of a real FFT of each length, in fast-length samples.
-
-    Parameters
-    ----------
-    lengths : array_like of int
-        Transform lengths [samples].
-
-    Returns
-    -------
-    numpy.ndarray
-        ``n * c(n)``, with c = 1 for lengths whose prime factors are 2, 3 and 5,
-        ``1 + 0.01 * (sum of the prime factors above 5)`` for other lengths whose
-        largest prime factor squared is at most n, and 10 for the rest (the FFT
-        library uses Bluestein's algorithm for them, with three transforms of
-        twice the length) [fast-length samples].
-
-    Notes
-    -----
-    A model of the pocketfft implementation that numpy and scipy ship: it has
-    hard-coded real passes for 2, 3, 4 and 5 and a generic pass, of cost
-    proportional to the factor, for other primes; a length with a prime factor
-    above its square root goes through Bluestein's algorithm. The weights were
-    fitted to timings near 1e7 samples, where the transform is memory bound.
-    Factors up to 97 are found by trial division; a cofactor above 97 squared
-    with no such factor is costed as Bluestein.
-    """
-    n = np.atleast_1d(np.asarray(lengths, dtype=np.int64))
-    rest = n.copy()
-    extra = np.zeros(n.shape)
-    for q in _SMALL_PRIMES:
-        while True:
-            hit = rest % q == 0
-            if not hit.any():
-                break
-            rest[hit] //= q
-            if q > 5:
-                extra[hit] += q
-    per = 1.0 + _GENERIC_RADIX_COST * extra
-    big = rest > 1
-    generic = big & (rest < _SMALL_PRIMES[-1] ** 2) & (rest * rest <= n)  # rest is prime
-    per[generic] += _GENERIC_RADIX_COST * rest[generic]
-    per[big & ~generic] = _BLUESTEIN_COST
-    return n * per
 
 
 def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True) -> tuple[int, int]:
@@ -282,7 +227,7 @@ def modulation_spectrum(
     component amplitudes relative to the DC level (as summarised in the
     project's methods brief, section 3.1).
     """
-    from scipy import fft
+    from numpy import fft
 
     x = np.asarray(samples, dtype=np.float64)
     n_span, p = whole_period_span(x.shape[0], period)
@@ -366,7 +311,7 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
     noise is not averaged down. Used for captures longer than
     :data:`SINGLE_FFT_MAX_SAMPLES`.
     """
-    from scipy import fft
+    from numpy import fft
 
     T = float(period.period_samples)
     n_total = int(samples.shape[0])

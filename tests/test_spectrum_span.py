@@ -5,8 +5,9 @@ import numpy as np
 import pytest
 from scipy import fft
 
+from flickerkit.fftlength import fft_cost, next_fast_len
 from flickerkit.periodicity import Periodicity
-from flickerkit.spectrum import averaged_spectrum, fft_cost, modulation_spectrum, whole_period_span
+from flickerkit.spectrum import averaged_spectrum, modulation_spectrum, whole_period_span
 
 #: Harmonic amplitudes within 0.1 %: a span of round(p T) samples is off whole periods by at
 #: most half a sample, which leaves harmonic h off its bin by h / (2 T) and lowers it by
@@ -39,6 +40,8 @@ def test_fast_lengths_are_those_of_scipy():
                               [10_000_000, 9_953_280, 2**23, 5**10]])
     fast = np.array([fft.next_fast_len(int(n), real=True) == n for n in lengths])
     np.testing.assert_array_equal(fft_cost(lengths) == lengths, fast)
+    assert [next_fast_len(int(n)) for n in lengths] == [
+        fft.next_fast_len(int(n), real=True) for n in lengths]
 
 
 @pytest.mark.parametrize("n", [2**10 * 7 * 7 * 199, 2**12 * 23 * 101, 2**8 * 27 * 37 * 37,
