@@ -61,6 +61,39 @@ def _ignore_sigint() -> None:  # worker initialiser: the parent handles Ctrl-C
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
+def _init_worker(workers: int) -> None:
+    _ignore_sigint()
+    limit_threads(workers)
+
+
+def limit_threads(workers: int) -> int:
+    """Limit this process's BLAS/OpenMP threads so that ``workers`` of it fit the CPUs.
+
+    Parameters
+    ----------
+    workers : int
+        Processes sharing this machine's CPUs.
+
+    Returns
+    -------
+    int
+        Threads allowed per process, ``max(1, cpus // workers)``.
+
+    Notes
+    -----
+    Worker processes are forked after numpy has loaded its BLAS, so environment
+    variables such as ``OPENBLAS_NUM_THREADS`` come too late; threadpoolctl sets
+    the limit in the loaded libraries. Without it each worker's small
+    least-squares solves use every BLAS thread, and ``workers x threads``
+    threads fight over the CPUs.
+    """
+    from threadpoolctl import threadpool_limits
+
+    threads = max(1, default_workers() // max(1, workers))
+    threadpool_limits(limits=threads)
+    return threads
+
+
 def _star(job: tuple[str, ReadOptions, AssessSettings]) -> Outcome:
     return measure_one(*job)
 
@@ -124,7 +157,8 @@ def measure_many(
     from concurrent.futures import ProcessPoolExecutor
 
     chunk = max(1, min(32, len(jobs) // (4 * n)))
-    pool = ProcessPoolExecutor(max_workers=min(n, len(jobs)), initializer=_ignore_sigint)
+    pool = ProcessPoolExecutor(max_workers=min(n, len(jobs)), initializer=_init_worker,
+                               initargs=(min(n, len(jobs)),))
     try:
         out = list(_each(pool.map(_star, jobs, chunksize=chunk), on_result))
     except BaseException:

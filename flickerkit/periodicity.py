@@ -220,8 +220,22 @@ def _refine_by_fit(seg: np.ndarray, period: float) -> float:
         res = y - A @ coef
         return float(res @ res)
 
-    x, fx = _minimise_bounded(rss, 0.98 * period, 1.02 * period, period * 1e-10)
-    return float(x) if fx <= rss(period) else period
+    with _one_blas_thread():
+        x, fx = _minimise_bounded(rss, 0.98 * period, 1.02 * period, period * 1e-10)
+        better = fx <= rss(period)
+    return float(x) if better else period
+
+
+def _one_blas_thread():
+    """Context in which BLAS/LAPACK use one thread.
+
+    The fit solves a few dozen least-squares problems of about 8,000 x 17; on
+    every BLAS thread they take 100x longer when the machine is busy (threads
+    wait for each other) and gain nothing when it is idle.
+    """
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1, user_api="blas")
 
 
 def _minimise_bounded(f, a: float, b: float, xatol: float,
