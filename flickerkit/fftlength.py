@@ -49,16 +49,15 @@ def fft_cost(lengths) -> np.ndarray:
     with no such factor is costed as Bluestein.
     """
     n = np.atleast_1d(np.asarray(lengths, dtype=np.int64))
-    rest = n.copy()
+    rest = n // np.maximum(n & -n, 1)  # every factor 2 at once: n & -n is the lowest set bit
     extra = np.zeros(n.shape)
-    for q in _SMALL_PRIMES:
-        while True:
-            hit = rest % q == 0
-            if not hit.any():
-                break
-            rest[hit] //= q
+    for q in _SMALL_PRIMES[1:]:
+        idx = np.flatnonzero(rest % q == 0)
+        while idx.size:
+            rest[idx] //= q
             if q > 5:
-                extra[hit] += q
+                extra[idx] += q
+            idx = idx[rest[idx] % q == 0]
     per = 1.0 + _GENERIC_RADIX_COST * extra
     big = rest > 1
     generic = big & (rest < _SMALL_PRIMES[-1] ** 2) & (rest * rest <= n)  # rest is prime

@@ -27,8 +27,6 @@ _MIN_FRACTION_KEPT = 0.5
 _COST_SLACK = 1.25
 #: Candidate spans costed at a time (the search stops at the first block with a good one).
 _COST_BLOCK = 4096
-#: Spans shorter than this are transformed whole: any length is cheap there [samples].
-_COST_SEARCH_MIN_SAMPLES = 2**16
 @dataclass(frozen=True, eq=False)
 class Spectrum:
     """Single-sided Fourier components relative to the mean.
@@ -137,13 +135,14 @@ def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True)
     -----
     A span of p periods is ``round(p T)`` samples, T the period [samples]. In
     order: the longest span of at least 90 % of the periods whose length has
-    only the factors 2, 3 and 5; else, for spans of at least
-    ``_COST_SEARCH_MIN_SAMPLES``, the longest of at least half the periods whose
-    estimated cost (:func:`fft_cost`) is at most 1.25 times that of a fast
-    length of the longest span, or the cheapest of them when none is; else the
-    longest span. For a periodic signal every whole-period span gives the same
-    harmonic components, so the choice changes time and memory, not the
-    figures (the frequency resolution and the noise per bin follow the span).
+    only the factors 2, 3 and 5; else the longest of at least half the periods
+    whose estimated cost (:func:`fft_cost`) is at most 1.25 times that of a
+    fast length of the longest span; else the cheapest of those. Short spans
+    are chosen the same way: a Bluestein length there costs a new plan on
+    every call (a 20,000-sample capture took twice the CPU time). For a
+    periodic signal every whole-period span gives the same harmonic
+    components, so the choice changes time and memory, not the figures (the
+    frequency resolution and the noise per bin follow the span).
     """
     if period.period_samples is None or period.periods < 1:
         return 0, 0
@@ -169,8 +168,6 @@ def _cheap_span(n_samples: int, T: float, p_max: int) -> tuple[int, int]:
     smooth = np.flatnonzero(cost == n)
     if smooth.size:
         return int(n[smooth[0]]), int(p[smooth[0]])
-    if length < _COST_SEARCH_MIN_SAMPLES:
-        return length, p_max
     budget = _COST_SLACK * length
     best = (np.inf, length, p_max)
     p_lo = max(1, int(np.ceil(_MIN_FRACTION_KEPT * p_max)))
