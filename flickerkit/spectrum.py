@@ -10,7 +10,7 @@ flagged as such.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import cached_property
+from functools import cached_property, lru_cache
 
 import numpy as np
 
@@ -154,8 +154,12 @@ def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True)
     return _cheap_span(n_samples, float(T), p_max)
 
 
+@lru_cache(maxsize=64)
 def _cheap_span(n_samples: int, T: float, p_max: int) -> tuple[int, int]:
-    """Length and periods of the span chosen by :func:`whole_period_span` (fast)."""
+    """Length and periods of the span chosen by :func:`whole_period_span` (fast).
+
+    Cached: the spectrum and JA10.6 filtering of one capture ask for the same span.
+    """
     length = min(n_samples, int(round(p_max * T)))
 
     def spans(p_hi: int, p_lo: int) -> tuple[np.ndarray, np.ndarray]:
