@@ -34,11 +34,12 @@ def blocks(x: Any, start: int = 0, stop: int | None = None,
 
 def _segments(off: int, size: int, bounds: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Cut a block at period boundaries: local starts and the period of each piece."""
-    lo = np.searchsorted(bounds, off, side="right")
-    hi = np.searchsorted(bounds, off + size, side="left")
-    cuts = np.concatenate([[off], bounds[lo:hi], ]).astype(np.int64)
-    cuts = np.unique(cuts[(cuts >= off) & (cuts < off + size)])
-    period = np.searchsorted(bounds, cuts, side="right") - 1
+    lo = int(np.searchsorted(bounds, off, side="right"))  # first bound > off
+    hi = int(np.searchsorted(bounds, off + size, side="left"))  # first bound >= off + size
+    cuts = np.empty(hi - lo + 1, dtype=np.int64)  # off, then the bounds inside: increasing
+    cuts[0] = off
+    cuts[1:] = bounds[lo:hi]
+    period = np.arange(lo - 1, hi, dtype=np.int64)  # the period each piece belongs to
     return cuts - off, period
 
 
