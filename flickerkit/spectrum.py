@@ -330,14 +330,20 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
         seg = np.asarray(samples[s : s + L], dtype=np.float64)
         spec = fft.rfft(seg)
         dc = spec[0].real
-        amps = np.abs(spec) * (2.0 / abs(dc)) if dc != 0 else np.abs(spec)
+        amps = np.abs(spec)
+        if dc != 0:
+            amps *= 2.0 / abs(dc)
         amps[0] = 0.0
         if L % 2 == 0:
             amps[-1] /= 2.0
-        acc = amps if acc is None else acc + amps
+        if acc is None:
+            acc = amps
+        else:
+            acc += amps
         if first is None:
             first = spec
-    amps = acc / picks.size
+    amps = acc
+    amps /= picks.size
     return Spectrum(
         frequencies_hz=np.arange(first.shape[0]) * (sample_rate_hz / L),
         amplitudes=amps, coefficients=first,
