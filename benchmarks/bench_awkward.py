@@ -7,7 +7,9 @@ Light: invented PWM at 30 % duty with 5 % of 100 Hz ripple and noise at about 40
 1234.56 Hz and at 20 seeded random fundamentals between 50 Hz and 20 kHz (log-uniform), where
 the period is not a round number of samples. Every time is the wall time of a fresh process,
 measured beside a bare numpy process in the same run, so the ratios carry the machine's load
-(printed at the start and the end; the figures are only comparable at low load).
+(printed at the start and the end; the figures are only comparable at low load). The CPU time
+of each process (user + system, with its workers) is printed beside: on a busy machine the
+wall time is mostly waiting for a CPU.
 
 Figures and goals:
   1. `measure` of a 1e7-sample .npy at each fundamental / a bare `python -c` that loads the
@@ -21,6 +23,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import resource
 import statistics
 import subprocess
 import sys
@@ -50,15 +53,25 @@ def light(a: int, b: int, fs: float, f: float, rng) -> np.ndarray:
 
 
 def run(args: list[str]) -> tuple[float, float | None]:
-    """Wall time of a fresh Python process, and its peak memory [MiB] when it reports it."""
+    """Wall time of a fresh Python process, and its peak memory [MiB] when it reports it.
+
+    The process's CPU time (its own and its workers', user + system) goes to ``CPU[-1]``.
+    """
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
     t0 = time.perf_counter()
     r = subprocess.run([sys.executable, *args], capture_output=True, env=ENV, cwd=ROOT)
     wall = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    CPU.append(after.ru_utime + after.ru_stime - before.ru_utime - before.ru_stime)
     if r.returncode != 0:
         raise SystemExit(f"failed: {' '.join(args[:4])}...\n{r.stderr.decode()[-2000:]}")
     err = r.stderr.decode()
     peak = float(err.split("peak_kib")[1].split()[0]) / 1024 if "peak_kib" in err else None
     return wall, peak
+
+
+#: CPU seconds of each process run, in order (on a loaded machine wall time is mostly waiting).
+CPU: list[float] = []
 
 
 def load() -> str:
@@ -67,23 +80,29 @@ def load() -> str:
 
 
 def measure_1e7(d: str, freqs: list[float], n: int) -> None:
-    ratios, peaks, walls = [], [], []
+    ratios, peaks, walls, cpu_ratios = [], [], [], []
     for i, f in enumerate(freqs):
         path = os.path.join(d, "capture.npy")
         np.save(path, light(0, n, 1e6, f, np.random.default_rng(i)))
         bare, _ = run(["-c", _BARE_FFT, path])
+        cpu_bare = CPU[-1]
         wall, peak = run(["-c", _MEASURE, "measure", path, "-r", "1e6", "--json", "-q"])
+        cpu = CPU[-1]
         bare = (bare + run(["-c", _BARE_FFT, path])[0]) / 2  # either side of the measure
+        cpu_bare = (cpu_bare + CPU[-1]) / 2
         ratios.append(wall / bare)
+        cpu_ratios.append(cpu / cpu_bare)
         peaks.append(peak)
         walls.append(wall)
         print(f"   {f:9.3f} Hz: measure {wall:5.2f} s, bare numpy {bare:5.2f} s, "
-              f"ratio {wall / bare:4.2f}x, peak {peak:5.0f} MiB", flush=True)
+              f"ratio {wall / bare:4.2f}x (CPU time {cpu_ratios[-1]:4.2f}x), peak {peak:5.0f} MiB",
+              flush=True)
     worst = int(np.argmax(ratios))
     print(f"1. measure of {n:,} samples at {len(freqs)} fundamentals / bare numpy load+rfft: "
           f"median {statistics.median(ratios):.2f}x (goal <= 3), worst {ratios[worst]:.2f}x at "
           f"{freqs[worst]:.3f} Hz (goal <= 4); peak memory median "
-          f"{statistics.median(peaks):.0f} MiB, worst {max(peaks):.0f} MiB")
+          f"{statistics.median(peaks):.0f} MiB, worst {max(peaks):.0f} MiB; CPU-time ratio "
+          f"median {statistics.median(cpu_ratios):.2f}x, worst {max(cpu_ratios):.2f}x")
 
 
 def stream(d: str, freqs: list[float], n: int) -> None:
@@ -98,7 +117,8 @@ def stream(d: str, freqs: list[float], n: int) -> None:
         os.remove(path)
         print(f"2. {n:,} float32 samples of {f:.3f} Hz streamed: {wall:.1f} s (with start-up) "
               f"= {n / wall / 1e6:.1f} M samples/s (goal >= 20); peak {peak:.0f} MiB "
-              f"(goal < 1024)", flush=True)
+              f"(goal < 1024); CPU {CPU[-1]:.1f} s = {n / CPU[-1] / 1e6:.1f} M samples per "
+              f"CPU-second", flush=True)
 
 
 def small(d: str, repeats: int) -> None:
@@ -127,7 +147,8 @@ def batch(d: str, count: int) -> None:
     wall, _ = run(["-m", "flickerkit", "measure", *paths, "-r", "20000", "-j", "2", "--json",
                    "-q"])
     print(f"4. measure -j 2 of {count:,} captures of 20,000 samples: {wall:.1f} s (with "
-          f"start-up) = {count / wall:.0f} captures/s (goal >= 200)", flush=True)
+          f"start-up) = {count / wall:.0f} captures/s (goal >= 200); CPU {CPU[-1]:.1f} s "
+          f"(parent and workers) = {count / CPU[-1]:.0f} captures per CPU-second", flush=True)
 
 
 def main() -> None:
