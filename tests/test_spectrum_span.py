@@ -109,3 +109,26 @@ def test_averaged_windows_are_chosen_by_cost_too():
     assert abs(s.n_samples - s.whole_periods * T) <= 0.5
     assert fft_cost([s.n_samples])[0] <= COST_BOUND * s.n_samples
     np.testing.assert_allclose(s.amplitudes[s.harmonic_bins()[:8]], a, rtol=AMP_RTOL)
+
+
+@pytest.mark.parametrize("seed", range(8))
+def test_same_light_many_captures_same_components(seed):
+    # the same 1234.56 Hz PWM (30 % duty, off 0) captured with a random start, length and rate;
+    # analytic: C_k = 2 |sin(pi k D)| / (pi k D) * sinc(k f / fs) for interval-averaged samples
+    # (as in test_periodicity), and SVM = C_1 / T(f_1), the only component in 80 Hz - 2 kHz
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+    from flickerkit.svm import svm_from_components
+
+    from .synth import pwm
+
+    rng = np.random.default_rng(100 + seed)
+    f, D = 1234.56, 0.3
+    fs = float(rng.uniform(150_000, 250_000))
+    x = pwm(f, D, 0.0, fs, float(rng.uniform(0.3, 0.6)), phase=float(rng.uniform(0, 1)))
+    a = assess(make_capture(x, fs))
+    k = np.arange(1, 6)
+    expected = 2 * np.abs(np.sin(np.pi * k * D)) / (np.pi * k * D) * np.sinc(k * f / fs)
+    np.testing.assert_allclose([h.amplitude for h in a.harmonics[:5]], expected, rtol=2e-3)
+    assert a.svm.value == pytest.approx(svm_from_components([f], [expected[0]]), rel=2e-3)
+    assert abs(a.spectrum.n_samples - a.spectrum.whole_periods * fs / a.frequency_hz) <= 0.5 + 1e-6
