@@ -213,9 +213,13 @@ def _refine_by_fit(seg: np.ndarray, period: float) -> float:
     k_max = int(min(_FIT_HARMONICS, max(1, (period / step) // 2.5)))
     k = np.arange(1, k_max + 1)
 
+    A = np.empty((y.shape[0], 1 + 2 * k_max))
+    A[:, 0] = 1.0
+
     def rss(T: float) -> float:
-        ph = 2.0 * np.pi * np.outer(idx / T, k)
-        A = np.hstack([np.ones((y.shape[0], 1)), np.cos(ph), np.sin(ph)])
+        ph = np.outer(idx * (2.0 * np.pi / T), k)
+        np.cos(ph, out=A[:, 1 : 1 + k_max])
+        np.sin(ph, out=A[:, 1 + k_max :])
         coef, *_ = np.linalg.lstsq(A, y, rcond=None)
         res = y - A @ coef
         return float(res @ res)
