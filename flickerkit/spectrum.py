@@ -27,6 +27,8 @@ _MIN_FRACTION_KEPT = 0.5
 _COST_SLACK = 1.25
 #: Candidate spans costed at a time (the search stops at the first block with a good one).
 _COST_BLOCK = 4096
+
+
 @dataclass(frozen=True, eq=False)
 class Spectrum:
     """Single-sided Fourier components relative to the mean.
