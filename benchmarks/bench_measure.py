@@ -1,8 +1,11 @@
 """Speed of the measurement path (issue 2): run by hand, prints its figures.
 
+The light is at 1234.56 Hz, whose period is not a round number of samples (at 1 kHz it is,
+which flattered the FFT); bench_awkward.py has the goals of issue 13 over many fundamentals.
+
     python benchmarks/bench_measure.py [--rows 10000000]
 
-Writes a two-column CSV of N rows (1 MS/s, 1 kHz PWM at 30 % with 100 Hz ripple and
+Writes a two-column CSV of N rows (1 MS/s, 1234.56 Hz PWM at 30 % with 100 Hz ripple and
 noise) to a temporary folder, then times: reading it, assess() on it, one numpy rfft
 of the same length, and `flickerkit --help` start-up.
 """
@@ -29,7 +32,7 @@ def main() -> None:
     fs = 1e6
     rng = np.random.default_rng(0)
     t = np.arange(n) / fs
-    x = (np.mod(t * 1000.0 + 0.1, 1.0) < 0.3) * (1 + 0.05 * np.sin(2 * np.pi * 100 * t))
+    x = (np.mod(t * 1234.56 + 0.1, 1.0) < 0.3) * (1 + 0.05 * np.sin(2 * np.pi * 100 * t))
     x = x + 0.01 * rng.standard_normal(n) + 0.02
     with tempfile.TemporaryDirectory() as d:
         path = os.path.join(d, "big.csv")

@@ -1,5 +1,8 @@
 """Scale and speed figures (issue 7): run by hand, prints each figure. Not part of the tests.
 
+The light is at 1234.56 Hz, whose period is not a round number of samples (at 1 kHz it is,
+which flattered the FFT); bench_awkward.py has the goals of issue 13 over many fundamentals.
+
     python benchmarks/bench_scale.py                 # every figure (writes ~2.4 GB to a temp dir)
     python benchmarks/bench_scale.py --skip-big      # without the 600 M-sample streaming case
 
@@ -31,7 +34,7 @@ ENV = {**os.environ, "PYTHONPATH": ROOT}
 
 def signal(a: int, b: int, fs: float, rng) -> np.ndarray:
     t = np.arange(a, b) / fs
-    x = (np.mod(t * 1000.0 + 0.1, 1.0) < 0.3) * (1 + 0.05 * np.sin(2 * np.pi * 100 * t))
+    x = (np.mod(t * 1234.56 + 0.1, 1.0) < 0.3) * (1 + 0.05 * np.sin(2 * np.pi * 100 * t))
     return x + 0.01 * rng.standard_normal(t.size) + 0.02
 
 

@@ -61,10 +61,12 @@ def _ignore_sigint() -> None:  # worker initialiser: the parent handles Ctrl-C
     signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
-def _worker_init(parent_pid: int) -> None:
-    """Worker initialiser: the parent handles Ctrl-C, and the worker dies with its parent."""
+def _worker_init(parent_pid: int, workers: int) -> None:
+    """Worker initialiser: the parent handles Ctrl-C, the worker dies with its parent, and
+    its BLAS threads share the CPUs with the other workers."""
     _ignore_sigint()
     die_with_parent(parent_pid)
+    limit_threads(workers)
 
 
 def die_with_parent(parent_pid: int, *, poll_s: float = 0.5) -> None:
@@ -111,6 +113,34 @@ def die_with_parent(parent_pid: int, *, poll_s: float = 0.5) -> None:
                 os._exit(1)
 
     threading.Thread(target=watch, name="flickerkit-parent-watch", daemon=True).start()
+
+
+def limit_threads(workers: int) -> int:
+    """Limit this process's BLAS/OpenMP threads so that ``workers`` of it fit the CPUs.
+
+    Parameters
+    ----------
+    workers : int
+        Processes sharing this machine's CPUs.
+
+    Returns
+    -------
+    int
+        Threads allowed per process, ``max(1, cpus // workers)``.
+
+    Notes
+    -----
+    Worker processes are forked after numpy has loaded its BLAS, so environment
+    variables such as ``OPENBLAS_NUM_THREADS`` come too late; threadpoolctl sets
+    the limit in the loaded libraries. Without it each worker's small
+    least-squares solves use every BLAS thread, and ``workers x threads``
+    threads fight over the CPUs.
+    """
+    from threadpoolctl import threadpool_limits
+
+    threads = max(1, default_workers() // max(1, workers))
+    threadpool_limits(limits=threads)
+    return threads
 
 
 def _star(job: tuple[str, ReadOptions, AssessSettings]) -> Outcome:
@@ -178,7 +208,7 @@ def measure_many(
 
     chunk = max(1, min(32, len(jobs) // (4 * n)))
     pool = ProcessPoolExecutor(max_workers=min(n, len(jobs)), initializer=_worker_init,
-                               initargs=(os.getpid(),))
+                               initargs=(os.getpid(), min(n, len(jobs))))
     try:
         out = list(_each(pool.map(_star, jobs, chunksize=chunk), on_result))
     except BaseException:

@@ -163,7 +163,7 @@ def filtered_percent_flicker(
     >>> [round(v, 3) for v in r.percent_flicker]
     [0.0, 0.0, 30.0, 40.0, 40.0]
     """
-    from scipy import fft
+    from numpy import fft
 
     x = np.asarray(samples, dtype=np.float64)
     fs = float(sample_rate_hz)

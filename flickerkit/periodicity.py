@@ -69,10 +69,12 @@ class Periodicity:
 
 def _autocorrelation(x0: np.ndarray, max_lag: int) -> np.ndarray:
     """Unbiased normalised autocorrelation for lags 0..max_lag (r[0] = 1)."""
-    from scipy import fft
+    from numpy import fft
+
+    from .fftlength import next_fast_len
 
     n = x0.shape[0]
-    nfft = fft.next_fast_len(2 * n, real=True)
+    nfft = next_fast_len(2 * n)
     spec = fft.rfft(x0, nfft)
     r = fft.irfft(spec.real**2 + spec.imag**2, nfft)[: max_lag + 1]
     r /= n - np.arange(max_lag + 1)
@@ -210,26 +212,100 @@ def _refine_by_fit(seg: np.ndarray, period: float) -> float:
     periodogram or of the autocorrelation, this is not biased by the ends of a
     short capture.
     """
-    from scipy.optimize import minimize_scalar
-
     step = max(1, int(np.ceil(seg.shape[0] / _FIT_MAX_SAMPLES)))
     y = seg[::step]
     idx = np.arange(y.shape[0], dtype=np.float64) * step
     k_max = int(min(_FIT_HARMONICS, max(1, (period / step) // 2.5)))
     k = np.arange(1, k_max + 1)
 
+    A = np.empty((y.shape[0], 1 + 2 * k_max))
+    A[:, 0] = 1.0
+
     def rss(T: float) -> float:
-        ph = 2.0 * np.pi * np.outer(idx / T, k)
-        A = np.hstack([np.ones((y.shape[0], 1)), np.cos(ph), np.sin(ph)])
+        ph = np.outer(idx * (2.0 * np.pi / T), k)
+        np.cos(ph, out=A[:, 1 : 1 + k_max])
+        np.sin(ph, out=A[:, 1 + k_max :])
         coef, *_ = np.linalg.lstsq(A, y, rcond=None)
         res = y - A @ coef
         return float(res @ res)
 
-    best = minimize_scalar(rss, bounds=(0.98 * period, 1.02 * period), method="bounded",
-                           options={"xatol": period * 1e-10})
-    if best.success and rss(best.x) <= rss(period):
-        return float(best.x)
-    return period
+    with _one_blas_thread():
+        x, fx = _minimise_bounded(rss, 0.98 * period, 1.02 * period, period * 1e-10)
+        better = fx <= rss(period)
+    return float(x) if better else period
+
+
+def _one_blas_thread():
+    """Context in which BLAS/LAPACK use one thread.
+
+    The fit solves a few dozen least-squares problems of about 8,000 x 17; on
+    every BLAS thread they take 100x longer when the machine is busy (threads
+    wait for each other) and gain nothing when it is idle.
+    """
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1, user_api="blas")
+
+
+def _minimise_bounded(f, a: float, b: float, xatol: float,
+                      max_iter: int = 500) -> tuple[float, float]:
+    """Minimum of a scalar function on [a, b]: golden sections with parabolic steps.
+
+    Returns the abscissa and the value there. Here rather than from
+    ``scipy.optimize`` (whose import costs more than a short capture's whole
+    assessment).
+
+    References
+    ----------
+    R. P. Brent, Algorithms for Minimization without Derivatives, Prentice-Hall,
+    1973, chapter 5 (procedure localmin).
+    """
+    golden = 0.5 * (3.0 - 5.0**0.5)
+    rel = 1.5e-8  # about sqrt(machine epsilon)
+    x = w = v = a + golden * (b - a)
+    fx = fw = fv = f(x)
+    d = e = 0.0
+    for _ in range(max_iter):
+        m = 0.5 * (a + b)
+        tol = rel * abs(x) + xatol / 3.0
+        t2 = 2.0 * tol
+        if abs(x - m) <= t2 - 0.5 * (b - a):
+            break
+        parabolic = False
+        if abs(e) > tol:
+            r = (x - w) * (fx - fv)
+            q = (x - v) * (fx - fw)
+            p = (x - v) * q - (x - w) * r
+            q = 2.0 * (q - r)
+            if q > 0.0:
+                p = -p
+            q = abs(q)
+            if abs(p) < abs(0.5 * q * e) and q * (a - x) < p < q * (b - x):
+                e, d = d, p / q
+                parabolic = True
+                if (x + d) - a < t2 or b - (x + d) < t2:
+                    d = tol if x < m else -tol
+        if not parabolic:
+            e = (b - x) if x < m else (a - x)
+            d = golden * e
+        u = x + (d if abs(d) >= tol else (tol if d > 0 else -tol))
+        fu = f(u)
+        if fu <= fx:
+            if u < x:
+                b = x
+            else:
+                a = x
+            v, fv, w, fw, x, fx = w, fw, x, fx, u, fu
+        else:
+            if u < x:
+                a = u
+            else:
+                b = u
+            if fu <= fw or w == x:
+                v, fv, w, fw = w, fw, u, fu
+            elif fu <= fv or v in (x, w):
+                v, fv = u, fu
+    return x, fx
 
 
 def _refine_by_phase(seg: np.ndarray, period: float, passes: int = 2) -> float:

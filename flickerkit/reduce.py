@@ -34,11 +34,12 @@ def blocks(x: Any, start: int = 0, stop: int | None = None,
 
 def _segments(off: int, size: int, bounds: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Cut a block at period boundaries: local starts and the period of each piece."""
-    lo = np.searchsorted(bounds, off, side="right")
-    hi = np.searchsorted(bounds, off + size, side="left")
-    cuts = np.concatenate([[off], bounds[lo:hi], ]).astype(np.int64)
-    cuts = np.unique(cuts[(cuts >= off) & (cuts < off + size)])
-    period = np.searchsorted(bounds, cuts, side="right") - 1
+    lo = int(np.searchsorted(bounds, off, side="right"))  # first bound > off
+    hi = int(np.searchsorted(bounds, off + size, side="left"))  # first bound >= off + size
+    cuts = np.empty(hi - lo + 1, dtype=np.int64)  # off, then the bounds inside: increasing
+    cuts[0] = off
+    cuts[1:] = bounds[lo:hi]
+    period = np.arange(lo - 1, hi, dtype=np.int64)  # the period each piece belongs to
     return cuts - off, period
 
 
@@ -120,25 +121,34 @@ def second_pass(x: Any, bounds: np.ndarray, period_means: np.ndarray, span_mean:
     span_above = 0.0
     at_max, nxt, at_nxt = 0, -np.inf, 0
     b0, b1 = int(bounds[0]), int(bounds[-1])
+    work = np.empty(0)
     for off, b in blocks(x, block=block):
-        at_max += int(np.count_nonzero(b == hi))
-        below = b[b < hi]
-        if below.size:
-            m = float(below.max())
-            if m > nxt:
-                nxt, at_nxt = m, int(np.count_nonzero(below == m))
-            elif m == nxt:
-                at_nxt += int(np.count_nonzero(below == m))
+        top = float(b.max())
+        if top < hi:  # the usual block: the maximum is elsewhere, its own top is a candidate
+            m = top
+        else:  # the block with the maximum: count it, and find the next lower value
+            below = b < hi
+            n_below = int(np.count_nonzero(below))
+            at_max += b.size - n_below  # every sample is finite (first pass)
+            m = float(np.max(b, where=below, initial=-np.inf)) if n_below else -np.inf
+        if m > nxt:
+            nxt, at_nxt = m, int(np.count_nonzero(b == m))
+        elif m == nxt and m > -np.inf:
+            at_nxt += int(np.count_nonzero(b == m))
         a, e = max(off, b0), min(off + b.size, b1)
         if e <= a:
             continue
         part = b[a - off : e - off]
         starts, period = _segments(a, part.size, bounds)
         lengths = np.diff(np.append(starts, part.size))
-        work = part - np.repeat(period_means[period], lengths)
-        np.maximum(work, 0.0, out=work)
-        np.add.at(above, period, np.add.reduceat(work, starts))
-        np.subtract(part, span_mean, out=work)
-        np.maximum(work, 0.0, out=work)
-        span_above += float(np.sum(work))
+        if work.size < part.size:
+            work = np.empty(part.size)
+        w = work[: part.size]
+        w[:] = np.repeat(period_means[period], lengths)
+        np.subtract(part, w, out=w)
+        np.maximum(w, 0.0, out=w)
+        np.add.at(above, period, np.add.reduceat(w, starts))
+        np.subtract(part, span_mean, out=w)
+        np.maximum(w, 0.0, out=w)
+        span_above += float(np.sum(w))
     return above, span_above, at_max, at_nxt

@@ -10,14 +10,23 @@ flagged as such.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import cached_property
+from functools import cached_property, lru_cache
 
 import numpy as np
 
+from .fftlength import fft_cost
 from .periodicity import Periodicity
 
-#: Fewest whole periods kept when choosing a fast FFT length (fraction of all).
-_MIN_FRACTION_KEPT = 0.9
+#: An exact fast FFT length (factors 2, 3 and 5 only) is taken when one is a whole-period
+#: span keeping at least this fraction of the periods.
+_EXACT_FRACTION_KEPT = 0.9
+#: Otherwise spans down to this fraction of the periods are weighed by transform cost.
+_MIN_FRACTION_KEPT = 0.5
+#: The longest span whose estimated transform cost is at most this many times that of a fast
+#: length of the longest span is taken; when none is, the cheapest.
+_COST_SLACK = 1.25
+#: Candidate spans costed at a time (the search stops at the first block with a good one).
+_COST_BLOCK = 4096
 
 
 @dataclass(frozen=True, eq=False)
@@ -119,7 +128,7 @@ NOISE_FLOOR_BINS = 65_536
 
 
 def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True) -> tuple[int, int]:
-    """Length and period count of the longest whole-period span of a capture.
+    """Length and period count of the whole-period span of a capture to transform.
 
     Parameters
     ----------
@@ -128,8 +137,8 @@ def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True)
     period : Periodicity
         Result of :func:`~flickerkit.periodicity.fundamental_frequency`.
     fast : bool, optional
-        Prefer a span whose length is a fast FFT length, giving up at most
-        10 % of the periods for it.
+        Choose the span by the cost of its transform (see Notes); otherwise the
+        longest whole-period span.
 
     Returns
     -------
@@ -137,6 +146,19 @@ def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True)
         Samples in the span (from the first sample) [samples]; 0 without a period.
     periods : int
         Whole periods in the span.
+
+    Notes
+    -----
+    A span of p periods is ``round(p T)`` samples, T the period [samples]. In
+    order: the longest span of at least 90 % of the periods whose length has
+    only the factors 2, 3 and 5; else the longest of at least half the periods
+    whose estimated cost (:func:`fft_cost`) is at most 1.25 times that of a
+    fast length of the longest span; else the cheapest of those. Short spans
+    are chosen the same way: a Bluestein length there costs a new plan on
+    every call (a 20,000-sample capture took twice the CPU time). For a
+    periodic signal every whole-period span gives the same harmonic
+    components, so the choice changes time and memory, not the figures (the
+    frequency resolution and the noise per bin follow the span).
     """
     if period.period_samples is None or period.periods < 1:
         return 0, 0
@@ -145,13 +167,44 @@ def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True)
     length = min(n_samples, int(round(p_max * T)))
     if not fast or p_max < 2:
         return length, p_max
-    from scipy import fft
+    return _cheap_span(n_samples, float(T), p_max)
 
-    for p in range(p_max, max(1, int(np.ceil(_MIN_FRACTION_KEPT * p_max))) - 1, -1):
-        n = min(n_samples, int(round(p * T)))
-        if fft.next_fast_len(n, real=True) == n:
-            return n, p
-    return length, p_max
+
+@lru_cache(maxsize=64)
+def _cheap_span(n_samples: int, T: float, p_max: int) -> tuple[int, int]:
+    """Length and periods of the span chosen by :func:`whole_period_span` (fast).
+
+    Cached: the spectrum and JA10.6 filtering of one capture ask for the same span.
+    """
+    length = min(n_samples, int(round(p_max * T)))
+
+    def spans(p_hi: int, p_lo: int) -> tuple[np.ndarray, np.ndarray]:
+        p = np.arange(p_hi, p_lo - 1, -1, dtype=np.int64)
+        return p, np.minimum(n_samples, np.round(p * T).astype(np.int64))
+
+    p_exact = max(1, int(np.ceil(_EXACT_FRACTION_KEPT * p_max)))
+    p, n = spans(p_max, p_exact)
+    cost = fft_cost(n)
+    smooth = np.flatnonzero(cost == n)
+    if smooth.size:
+        return int(n[smooth[0]]), int(p[smooth[0]])
+    budget = _COST_SLACK * length
+    best = (np.inf, length, p_max)
+    p_lo = max(1, int(np.ceil(_MIN_FRACTION_KEPT * p_max)))
+    hi = p_exact - 1
+    while True:
+        good = np.flatnonzero(cost <= budget)
+        if good.size:
+            return int(n[good[0]]), int(p[good[0]])
+        k = int(np.argmin(cost))
+        if cost[k] < best[0]:
+            best = (float(cost[k]), int(n[k]), int(p[k]))
+        if hi < p_lo:
+            break
+        p, n = spans(hi, max(p_lo, hi - _COST_BLOCK + 1))
+        cost = fft_cost(n)
+        hi -= _COST_BLOCK
+    return best[1], best[2]
 
 
 def modulation_spectrum(
@@ -191,7 +244,7 @@ def modulation_spectrum(
     component amplitudes relative to the DC level (as summarised in the
     project's methods brief, section 3.1).
     """
-    from scipy import fft
+    from numpy import fft
 
     x = np.asarray(samples, dtype=np.float64)
     n_span, p = whole_period_span(x.shape[0], period)
@@ -252,7 +305,8 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
         The fundamental; it must have been found.
     window_samples : int
         Target window length; each window is the whole number of periods
-        nearest to it whose length is a fast FFT length [samples].
+        nearest to it, or fewer (down to half) for a cheaper transform, as
+        :func:`whole_period_span` chooses a span [samples].
     max_windows : int
         Windows used at most, spread evenly over the capture.
 
@@ -274,18 +328,13 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
     noise is not averaged down. Used for captures longer than
     :data:`SINGLE_FFT_MAX_SAMPLES`.
     """
-    from scipy import fft
+    from numpy import fft
 
     T = float(period.period_samples)
     n_total = int(samples.shape[0])
     window_samples = min(window_samples, max(int(T), n_total // 4))  # at least 4 windows
     m = max(1, int(round(window_samples / T)))
-    for mm in range(m, max(1, int(0.9 * m)) - 1, -1):
-        L = int(round(mm * T))
-        if fft.next_fast_len(L, real=True) == L:
-            m = mm
-            break
-    L = int(round(m * T))
+    L, m = _cheap_span(n_total, T, m) if m >= 2 else (int(round(m * T)), m)
     count = int((n_total - L) // (m * T)) + 1 if n_total >= L else 0
     if count < 1:
         raise ValueError("capture shorter than one averaging window")
@@ -297,14 +346,20 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
         seg = np.asarray(samples[s : s + L], dtype=np.float64)
         spec = fft.rfft(seg)
         dc = spec[0].real
-        amps = np.abs(spec) * (2.0 / abs(dc)) if dc != 0 else np.abs(spec)
+        amps = np.abs(spec)
+        if dc != 0:
+            amps *= 2.0 / abs(dc)
         amps[0] = 0.0
         if L % 2 == 0:
             amps[-1] /= 2.0
-        acc = amps if acc is None else acc + amps
+        if acc is None:
+            acc = amps
+        else:
+            acc += amps
         if first is None:
             first = spec
-    amps = acc / picks.size
+    amps = acc
+    amps /= picks.size
     return Spectrum(
         frequencies_hz=np.arange(first.shape[0]) * (sample_rate_hz / L),
         amplitudes=amps, coefficients=first,

@@ -695,7 +695,7 @@ def _column_values(a: np.ndarray) -> list:
 
 
 def lightness_of(relative_light: np.ndarray) -> np.ndarray:
-    """CIE 1976 L* of relative light (colour-science) [unitless, 0..100]."""
+    """CIE 1976 L* of relative light (closed form, see curves.lightness) [unitless, 0..100]."""
     from .curves import lightness
 
     return lightness(np.clip(np.asarray(relative_light, dtype=np.float64), 0.0, 1.0))

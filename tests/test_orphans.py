@@ -41,7 +41,7 @@ def test_workers_end_when_the_parent_is_killed(tmp_path):
             time.sleep(0.2)
             return os.getpid()
 
-        pool = ProcessPoolExecutor(2, initializer=_worker_init, initargs=(os.getpid(),))
+        pool = ProcessPoolExecutor(2, initializer=_worker_init, initargs=(os.getpid(), 2))
         got = set(pool.map(pid, range(8)))
         open({str(pids)!r}, "w").write(" ".join(map(str, got)))
         time.sleep(600)  # killed here with SIGKILL: no clean-up can run

@@ -78,3 +78,23 @@ def test_period_is_precise_enough_for_band_edges():
              if f < 100 else pwm(f, 0.3, 0.1, fs, d, phase=float(rng.uniform())))
         p = fundamental_frequency(x, fs)
         assert abs(p.frequency_hz / f - 1) < 1e-6
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_bounded_minimiser_agrees_with_scipy(seed):
+    # reference: scipy.optimize.minimize_scalar(method="bounded"), the same Brent procedure
+    from scipy.optimize import minimize_scalar
+
+    from flickerkit.periodicity import _minimise_bounded
+
+    rng = np.random.default_rng(seed)
+    c, s = rng.uniform(0.5, 1.5), rng.uniform(0.1, 10.0)
+    funcs = [lambda x: s * (x - c) ** 2 + 0.3 * np.cos(3 * x),
+             lambda x: (x - c) ** 4 + abs(x - c),
+             lambda x: -np.exp(-((x - c) / 0.05) ** 2)]
+    for f in funcs:
+        ref = minimize_scalar(f, bounds=(0.0, 2.0), method="bounded",
+                              options={"xatol": 1e-10})
+        x, fx = _minimise_bounded(f, 0.0, 2.0, 1e-10)
+        assert x == pytest.approx(ref.x, abs=1e-7)  # both stop within 1.5e-8 |x| + xatol
+        assert fx <= ref.fun + 1e-7  # slopes here are below 1: f within 1e-7 of its minimum

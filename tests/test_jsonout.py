@@ -1,0 +1,28 @@
+"""JSON text: valid, the same data back, nesting indented and flat objects on one line."""
+
+import json
+import math
+
+import numpy as np
+
+from flickerkit.export.jsonout import dumps
+
+
+def test_dumps_round_trips_and_keeps_rows_on_one_line():
+    data = {"label": "lamp \u00e9 \"A\"", "n": np.int64(3), "x": np.float64(0.1),
+            "bad": [math.nan, math.inf, -math.inf], "empty": {}, "none": [],
+            "rows": [{"step": i, "light": i / 7, "visible": i % 2 == 0} for i in range(5)],
+            "deep": {"a": {"b": [1, [2, 3]]}}}
+    text = dumps(data)
+    back = json.loads(text)  # reference: the standard library's parser
+    assert back["bad"] == [None, None, None]
+    assert back["n"] == 3 and back["x"] == 0.1 and back["label"] == data["label"]
+    assert back["rows"] == [{"step": i, "light": i / 7, "visible": i % 2 == 0}
+                            for i in range(5)]
+    assert back["deep"] == {"a": {"b": [1, [2, 3]]}} and back["empty"] == {}
+    lines = text.splitlines()
+    assert lines[0] == "{" and text.endswith("}\n")
+    rows = [ln for ln in lines if ln.lstrip().startswith('{"step"')]
+    assert len(rows) == 5 and all(ln.startswith("    {") for ln in rows)
+    # the same bytes as the standard encoder's compact form of each row
+    assert rows[1].strip().rstrip(",") == json.dumps(back["rows"][1])
