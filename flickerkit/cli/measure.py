@@ -277,8 +277,8 @@ def settings_record(args: argparse.Namespace, settings=None) -> dict:
         record |= {
             "IEEE 1789 headline mode": args.ieee1789_mode, "harmonics reported": args.harmonics,
             "IEEE 1789 boundaries": "RP1 low-risk 0.025f (<90 Hz), 0.08f (90-1250 Hz); RP2 "
-                                    "NOEL 0.01f, 0.0333f (90-3000 Hz); recalled, not read in "
-                                    "the standard (methods brief §2.2)",
+                                    "NOEL 0.01f, 0.0333f (90-3000 Hz); recalled from IEEE "
+                                    "Std 1789-2015, not read in the standard",
             "SVM threshold model": f"{model.name}: {model.formula} ({model.status}; "
                                    f"{model.reference})",
             "SVM band [Hz]": f"{settings.svm_f_min_hz:g} to {DEFAULT_F_MAX_HZ:g}",

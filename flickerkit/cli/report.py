@@ -20,8 +20,8 @@ dimming level read from names like ..._level050.csv or ..._50pct.csv.
 
 Criteria (ids for [criteria] apply = [...]):
   ieee1789-low-risk, ieee1789-noel, eu-2019-2020-svm, eu-2019-2020-pst,
-  ca-title24-ja8, seizure-screen-below-90hz, nema77-guidance-svm,
-  nema77-guidance-pst (see README.md for sources and confidence)
+  ca-title24-ja8, gbt50034-pst, gbt50034-svm, seizure-screen-below-90hz,
+  nema77-guidance-svm, nema77-guidance-pst (see README.md for sources and confidence)
 
 examples:
   flickerkit report ardent12_project.toml -o ardent12_record.xlsx

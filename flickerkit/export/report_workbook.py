@@ -42,7 +42,7 @@ METHOD_NOTES: tuple[tuple[str, str, str], ...] = (
     ("Flicker index", "IES Lighting Handbook 5.9.9.4; IEC 60050-845 IEV 845-22-094",
      "Area above the mean over total area, over an integer number of periods. Sourced "
      "definition. On sampled data its bias is about 1/(samples per period)."),
-    ("Fundamental frequency", "this project",
+    ("Fundamental frequency", "flickerkit's own method (no published source)",
      "Autocorrelation of the mean-removed signal, refined at multiples of the period (or by a "
      "least-squares harmonic fit for short captures)."),
     ("IEEE 1789 regions", "IEEE Std 1789-2015, clause 8, Recommended Practices 1 and 2",
@@ -60,7 +60,7 @@ METHOD_NOTES: tuple[tuple[str, str, str], ...] = (
     ("Filtered percent flicker", "California 2022 Reference Appendices, JA10.6",
      "Percent flicker after setting the Fourier components above 40, 90, 200, 400 and 1000 Hz "
      "to zero; a component exactly at a cut-off is kept."),
-    ("Noise floor", "this project",
+    ("Noise floor", "flickerkit's own method (no published source)",
      "Percent flicker that the measured white noise alone would show on steady light "
      "(sigma sqrt(2 ln n)/mean)."),
 )
