@@ -29,6 +29,14 @@ examples:
 """
 
 
+def add_picture_option(p) -> None:
+    """The option that asks for pictures (shared by measure, report, drive and plan)."""
+    p.add_argument("--pictures", metavar="FOLDER",
+                   help="also draw the pictures (waveform and spectrum per capture, IEEE 1789 "
+                        "chart, metrics against level) as PNG and SVG files in FOLDER, and "
+                        "place them in the workbook")
+
+
 def add_parser(sub) -> None:
     from .measure import add_batch_options
 
@@ -41,6 +49,7 @@ def add_parser(sub) -> None:
     p.add_argument("--json", action="store_true",
                    help="print the verdicts and figures as JSON instead of the table")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress bar on stderr")
+    add_picture_option(p)
     add_batch_options(p)
     p.set_defaults(run=run)
 
@@ -90,7 +99,14 @@ def run(args: argparse.Namespace) -> int:
                          source=str(args.project))
     from ..export.report_workbook import write_report_workbook
 
-    write_report_workbook(args.output, report, force=args.force)
+    pictures = None
+    if args.pictures:
+        from ..export.figures import write_pictures
+        from ..report import report_pictures
+
+        pictures = report_pictures(report)
+        write_pictures(pictures, args.pictures)
+    write_report_workbook(args.output, report, force=args.force, pictures=pictures)
     if args.json:
         from ..export.jsonout import dumps
 
@@ -100,6 +116,9 @@ def run(args: argparse.Namespace) -> int:
     for _label, err in report.failures:
         print(f"flickerkit: error: {err}", file=sys.stderr)
     print(f"workbook written: {args.output}", file=sys.stderr)
+    if pictures:
+        print(f"pictures written: {args.pictures}/ ({len(pictures)} as PNG and SVG)",
+              file=sys.stderr)
     from ..report import CAUTIONS
 
     print("\n".join(f"caution: {c}" for c in CAUTIONS),
@@ -112,8 +131,29 @@ def verdict_table(report) -> str:
 
     prod = report.project.product
     out = [f"{prod.get('name', '')}" + (f" ({prod['model']})" if prod.get("model") else ""),
-           f"judged on {report.project.judged_on.isoformat()}; overall: "
-           f"{report.overall.upper()}", ""]
+           f"judged on {report.project.judged_on.isoformat()}", ""]
+    for g in report.groups:
+        out.append(f"{g.title}: {g.status.upper()}")
+        rows = []
+        for o in g.criteria:
+            w = o.worst
+            tol = o.criterion.verification_tolerance
+            rows.append([o.criterion.id, o.status,
+                         "–" if w is None else fmt(w.level, "g"),
+                         "–" if w is None else fmt(w.measured, ".4g"),
+                         "–" if w is None else fmt(w.limit, ".4g"),
+                         "–" if w is None else fmt(w.margin, "+.3g"),
+                         "–" if tol is None else f"{tol:g}",
+                         ", ".join(f"{x:g} %" for x in o.missing_levels) or "–",
+                         o.decided_by[:50]])
+        out.append(render(["  criterion", "verdict", "worst level [%]", "measured", "limit",
+                           "margin", "verification tolerance", "missing levels",
+                           "decided by"],
+                          [["  " + r[0], *r[1:]] for r in rows],
+                          right=[False, False, True, True, True, True, True, False, False]))
+    out.append(_wrap(report.limiting))
+    out.append("")
+    out.append("every verdict:")
     rows = []
     for v in report.verdicts:
         rows.append([v.criterion, v.label, fmt(v.level, "g"), v.status, fmt(v.measured, ".4g"),
@@ -122,3 +162,9 @@ def verdict_table(report) -> str:
                        "margin", "reason"], rows,
                       right=[False, False, True, False, True, True, True, False]))
     return "\n".join(out)
+
+
+def _wrap(text: str, width: int = 96) -> str:
+    import textwrap
+
+    return "\n".join(textwrap.wrap(text, width))

@@ -1,0 +1,130 @@
+"""The record as a document: verdicts grouped by kind, missing levels, pictures, print set-up."""
+
+import datetime as dt
+import math
+
+import pytest
+
+from flickerkit import criteria
+from flickerkit.cli import main
+from flickerkit.judgement import group, limiting_text, missing_levels
+from flickerkit.export.workbook import FIT_SLACK, PAGE_CHARS, content_width, sig_format
+
+
+def _v(cid, label, level, status, measured=None, limit=None, margin=None):
+    return criteria.Verdict(cid, label, level, status, measured, limit, margin, "")
+
+
+def test_ja8_without_a_20_percent_capture_is_not_a_pass():
+    # California JA10 measures at 100 % and 20 %: with only a 100 % capture that passes,
+    # the criterion lists 20 % as missing and is insufficient, never pass
+    ja8 = criteria.REGISTRY["ca-title24-ja8"]
+    assert missing_levels(ja8, [100.0, 50.0]) == (20.0,)
+    assert missing_levels(ja8, [100.0, 20.2]) == ()
+    verdicts = [_v(ja8.id, "a", 100.0, "pass", 3.0, 30.0, 27.0),
+                _v(ja8.id, "b", 50.0, "not applicable")]
+    (g,) = group([ja8], verdicts, [100.0, 50.0])
+    o = g.criteria[0]
+    assert g.kind == "regulation"
+    assert o.status == "insufficient data" and g.status == "insufficient data"
+    assert o.missing_levels == (20.0,)
+    assert "20 %" in limiting_text([g]) and "not a certification" in limiting_text([g])
+
+
+def test_groups_keep_recommended_practice_apart_from_regulation():
+    # a fail against IEEE 1789 RP2 (recommended practice) leaves the regulation group's pass
+    crits = criteria.get(["ieee1789-noel", "eu-2019-2020-svm"])
+    verdicts = [_v("ieee1789-noel", "a", 100.0, "fail", 4.0, 3.33, -0.67),
+                _v("ieee1789-noel", "b", 10.0, "fail", 50.0, 40.0, -10.0),
+                _v("eu-2019-2020-svm", "a", 100.0, "pass", 0.2, 0.4, 0.2),
+                _v("eu-2019-2020-svm", "b", 10.0, "not applicable")]
+    groups = {g.kind: g for g in group(crits, verdicts, [100.0, 10.0])}
+    assert groups["regulation"].status == "pass"
+    assert groups["recommended practice"].status == "fail"
+    worst = groups["recommended practice"].criteria[0].worst
+    assert worst.level == 10.0 and worst.margin == -10.0   # the most negative margin decides
+    text = limiting_text(list(groups.values()))
+    assert "fails at 100, 10 %" in text and "flickerkit plan --target ieee1789-noel" in text
+
+
+def test_decided_by_is_read_defensively():
+    from flickerkit.judgement import decided_by
+
+    v = _v("svm", "a", 100.0, "fail", 1.0, 0.4, -0.6)
+    assert decided_by(v) == ""          # no attribute, empty reason
+
+    class WithComponent:
+        status = "fail"
+        reason = "r"
+        decided_by = "harmonic 2 at 200 Hz"
+    assert decided_by(WithComponent()) == "harmonic 2 at 200 Hz"
+
+
+@pytest.mark.parametrize("value, shown", [(0.1346622585655061, "0.1347"),
+                                          (3.9469056161229443, "3.947"),
+                                          (99.99999980982868, "100.00"),
+                                          (1234.56, "1235"), (20000.0, "20000"),
+                                          (1.5e-7, "1.500E-07")])
+def test_display_formats_keep_four_significant_digits(value, shown):
+    # analytic: the format shows 4 significant digits; checked by formatting the same way
+    fmt = sig_format(value)
+    if "E" in fmt:
+        assert f"{value:.3E}" == shown
+    else:
+        decimals = len(fmt.split(".")[1]) if "." in fmt else 0
+        assert f"{value:.{decimals}f}" == shown
+
+
+@pytest.fixture(scope="module")
+def demo_record(tmp_path_factory):
+    out = tmp_path_factory.mktemp("demo")
+    assert main(["demo", "--out", str(out), "-q"]) == 0
+    return out
+
+
+def _check_printable(wb):
+    for ws in wb.worksheets:
+        ps = ws.page_setup
+        assert ps.orientation in ("portrait", "landscape"), ws.title
+        assert ws.oddHeader.center.text and ws.oddFooter.center.text == "page &P of &N", ws.title
+        assert ws.print_title_rows, ws.title
+        width = content_width(ws)
+        if ws.sheet_properties.pageSetUpPr.fitToPage:
+            # fitted to one page width only when that squeezes it by at most FIT_SLACK
+            assert width <= PAGE_CHARS[ps.orientation] * FIT_SLACK + 1e-9, (ws.title, width)
+        else:
+            assert ws.print_title_cols, ws.title
+
+
+def test_demo_record_pictures_print_setup_and_formats(demo_record):
+    from openpyxl import load_workbook
+
+    wb = load_workbook(demo_record / "ardent12_record.xlsx")
+    _check_printable(wb)
+    pics = wb["Pictures"]
+    n_captures = 5
+    assert len(pics._images) >= n_captures   # at least one picture per capture (here two)
+    assert len(wb["IEEE 1789 chart"]._images) == 1
+    assert len(wb["Metrics by level"]._images) == 1
+    for stem in ("ardent12_level020.csv_waveform", "ieee1789_chart", "metrics_by_level"):
+        for ext in ("png", "svg"):
+            assert (demo_record / "pictures" / f"{stem}.{ext}").stat().st_size > 1000
+    # numbers carry display formats, stored values keep full precision
+    ms = wb["Metrics"]
+    heads = [c.value for c in ms[1]]
+    pf = ms.cell(row=2, column=heads.index("Percent flicker [%]") + 1)
+    assert isinstance(pf.value, float) and pf.number_format.startswith("0.")
+    assert len(repr(pf.value)) > 8
+    # the summary shows each kind apart, and the EU tolerance as context
+    texts = [c.value for row in wb["Summary"].iter_rows() for c in row if isinstance(c.value, str)]
+    assert "Regulations: overall" in texts and "Recommended practices: overall" in texts
+    assert any("context" in t for t in texts)
+    assert not any("brief" in t.lower() for ws in wb.worksheets for row in ws.iter_rows()
+                   for t in [c.value] if isinstance(t, str))
+
+
+def test_sig_format_of_zero_and_whole_numbers():
+    assert sig_format(0.0) == "0"
+    assert sig_format(12345.0) == "0"
+    assert sig_format(1.0) == "0.000"
+    assert sig_format(float("inf")) == "0"
