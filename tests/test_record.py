@@ -119,8 +119,8 @@ def test_demo_record_pictures_print_setup_and_formats(demo_record):
     texts = [c.value for row in wb["Summary"].iter_rows() for c in row if isinstance(c.value, str)]
     assert "Regulations: overall" in texts and "Recommended practices: overall" in texts
     assert any("context" in t for t in texts)
-    assert not any("brief" in t.lower() for ws in wb.worksheets for row in ws.iter_rows()
-                   for t in [c.value] if isinstance(t, str))
+    assert not any("brief" in c.value.lower() for ws in wb.worksheets for row in ws.iter_rows()
+                   for c in row if isinstance(c.value, str))
 
 
 def test_sig_format_of_zero_and_whole_numbers():
