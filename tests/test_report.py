@@ -81,9 +81,8 @@ def test_report_workbook_matches_json(project, tmp_path, capsys):
         assert row[0] == v["criterion"] and row[2] == v["label"] and row[4] == v["status"]
         if v["measured"] is not None:
             assert row[5] == pytest.approx(v["measured"], rel=1e-12)
-    ms = wb["Metrics"]
-    heads = [c.value for c in ms[1]]
-    first = dict(zip(heads, next(ms.iter_rows(min_row=2, values_only=True))))
+    ms = wb["Metrics"]  # turned: figures down column A, captures across
+    first = {ms.cell(i, 1).value: ms.cell(i, 2).value for i in range(1, ms.max_row + 1)}
     rec = data["records"][0]
     assert first["Percent flicker [%]"] == pytest.approx(rec["percent_flicker"], rel=1e-12)
     assert first["Dimming level [%]"] == 100

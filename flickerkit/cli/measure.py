@@ -128,8 +128,37 @@ def add_parser(sub) -> None:
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
     o.add_argument("--force", action="store_true", help="replace an existing workbook")
     o.add_argument("-q", "--quiet", action="store_true", help="no progress or cautions on stderr")
+    from .report import add_picture_option
+
+    add_picture_option(p)
     add_batch_options(p)
     p.set_defaults(run=run)
+
+
+def _pictures(args, outcomes, settings):
+    """Waveform and spectrum of each measured capture, written to args.pictures."""
+    from ..errors import FlickerkitError
+    from ..export.figures import capture_pictures, trace_of, write_pictures
+    from ..readers import read_capture
+
+    opts = read_options(args, args.signal)
+    traces = {}
+    records = []
+    for o in outcomes:
+        if o.record is None:
+            continue
+        records.append(o.record)
+        try:
+            cap = read_capture(o.path, opts)
+        except (FlickerkitError, OSError):
+            continue
+        traces[o.record["label"]] = trace_of(cap, o.record.get("frequency_hz"))
+    pics = capture_pictures(records, traces, threshold=settings.svm_threshold)
+    write_pictures(pics, args.pictures)
+    if not args.quiet:
+        print(f"pictures written: {args.pictures}/ ({len(pics)} as PNG and SVG)",
+              file=sys.stderr)
+    return pics
 
 
 def add_batch_options(p: argparse.ArgumentParser) -> None:
@@ -172,12 +201,18 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(voltage_table(records))
     else:
         sys.stdout.write(summary_table(records))
+    pictures = None
+    if args.pictures and args.signal == "light":
+        pictures = _pictures(args, outcomes, settings)
+    elif args.pictures and not args.quiet:
+        print("flickerkit: note: --pictures draws light captures only; none drawn",
+              file=sys.stderr)
     if args.xlsx:
         from ..export.workbook import VOLTAGE_COLUMNS, MEASURE_COLUMNS, write_measure_workbook
 
         columns = VOLTAGE_COLUMNS if args.signal == "voltage" else MEASURE_COLUMNS
         write_measure_workbook(args.xlsx, records, settings_record(args, settings),
-                               force=args.force, columns=columns)
+                               force=args.force, columns=columns, pictures=pictures)
         if not args.quiet:
             print(f"workbook written: {args.xlsx}", file=sys.stderr)
     if not args.quiet:

@@ -18,7 +18,7 @@ import numpy as np
 from .. import __version__
 from ..fileio import write_with
 from .workbook import (MEASURE_COLUMNS, add_pictures, fit_rows, lookup, print_setup, put,
-                       set_properties, write_rows)
+                       set_properties, write_rows, write_turned)
 
 STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "insufficient data": "FFEB9C",
                "not applicable": "E7E6E6"}
@@ -167,7 +167,9 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
             v = by_key.get((crit.id, label))
             if v is None:
                 continue
-            _style_status(put(ws, r, j, v.status), v.status)
+            c = put(ws, r, j, v.status)
+            _style_status(c, v.status)
+            c.alignment = wrap
     r += 2
     put(ws, r, 1, "Cautions").font = bold
     for text in CAUTIONS:
@@ -207,9 +209,8 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
 
     # ---------------------------------------------------------------- metrics
     ms = wb.create_sheet("Metrics")
-    write_rows(ms, [h for h, _ in REPORT_COLUMNS],
-               ([lookup(rec, key) for _, key in REPORT_COLUMNS] for rec in report.records),
-               widths=[max(12, min(30, len(h) + 2)) for h, _ in REPORT_COLUMNS])
+    # turned: figures run down, captures across (45 figures would not fit a page's width)
+    write_turned(ms, REPORT_COLUMNS, report.records)
 
     hs = wb.create_sheet("Harmonics")
     hrows = []

@@ -53,7 +53,7 @@ def write_steps_workbook(path: str | Path, table: Any, settings: dict[str, Any],
     wb = Workbook()
     set_properties(wb, "flickerkit brightness table", "Brightness steps for a PWM counter")
     add_steps_sheets(wb, table, settings, summary_sheet=wb.active)
-    print_setup(wb)
+    print_setup(wb, document="Brightness table for a PWM counter")
 
     def save(tmp: Path) -> None:
         wb.save(tmp)

@@ -38,7 +38,7 @@ def sig_format(value: float, digits: int = SIGNIFICANT_DIGITS) -> str:
     mag = math.floor(math.log10(abs(value)))
     if mag >= 7 or mag <= -4:
         return "0." + "0" * (digits - 1) + "E+00"
-    if float(value).is_integer() and mag >= digits - 1:
+    if float(value).is_integer():
         return "0"
     decimals = max(0, digits - 1 - mag)
     return "0" if decimals == 0 else "0." + "0" * decimals
@@ -152,6 +152,35 @@ def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0) -> None:
 
 def _hf(text: str) -> str:
     return str(text).replace("&", "&&")[:80]
+
+
+def write_turned(ws, columns: Sequence[tuple[str, str]], records: Sequence[dict[str, Any]], *,
+                 head_width: int = 40, value_width: int = 18) -> int:
+    """A table turned for print: figures run down (column A), captures across (row 1).
+
+    ``columns`` are (heading, dotted key); the first is the capture label and
+    heads the columns. Returns the last row written.
+    """
+    from openpyxl.styles import Alignment, Font
+    from openpyxl.utils import get_column_letter
+
+    wrap = Alignment(wrap_text=True, vertical="top")
+    for i, (head, key) in enumerate(columns, start=1):
+        c = put(ws, i, 1, head)
+        c.font = Font(bold=True)
+        c.alignment = wrap
+        for j, rec in enumerate(records, start=2):
+            cell = put(ws, i, j, lookup(rec, key))
+            if i == 1:
+                cell.font = Font(bold=True)
+            if isinstance(cell.value, str):
+                cell.alignment = wrap
+    ws.freeze_panes = ws.cell(row=2, column=2)
+    ws.column_dimensions["A"].width = head_width
+    for j in range(2, len(records) + 2):
+        ws.column_dimensions[get_column_letter(j)].width = value_width
+    fit_rows(ws)
+    return len(columns)
 
 
 def print_setup(wb, *, product: str = "", document: str = "flickerkit workbook",
@@ -315,7 +344,8 @@ def lookup(d: dict[str, Any], dotted: str) -> Any:
 
 def write_measure_workbook(path: str | Path, records: Sequence[dict[str, Any]],
                            settings: dict[str, Any], *, force: bool = False,
-                           columns: Sequence[tuple[str, str]] = MEASURE_COLUMNS) -> Path:
+                           columns: Sequence[tuple[str, str]] = MEASURE_COLUMNS,
+                           pictures: Sequence[Any] | None = None) -> Path:
     """Write the ``measure`` workbook: summary, harmonics, inputs and settings.
 
     Parameters
@@ -329,7 +359,9 @@ def write_measure_workbook(path: str | Path, records: Sequence[dict[str, Any]],
     force : bool
         Replace an existing file.
     columns : sequence of (header, dotted key)
-        Summary columns.
+        Summary rows (the sheet is turned: one column per capture).
+    pictures : sequence of flickerkit.export.figures.Picture, optional
+        Placed on a "Pictures" sheet.
     """
     from openpyxl import Workbook
     from openpyxl.styles import Alignment, Font
@@ -337,12 +369,14 @@ def write_measure_workbook(path: str | Path, records: Sequence[dict[str, Any]],
     wb = Workbook()
     ws = wb.active
     ws.title = "Captures"
-    last = write_rows(ws, [h for h, _ in columns],
-                      ([lookup(r, key) for _, key in columns] for r in records),
-                      widths=[max(12, min(36, len(h) + 2)) for h, _ in columns])
+    # turned: one column per capture, so the sheet prints as pages a reader can follow
+    last = write_turned(ws, columns, records)
     note = put(ws, last + 2, 1, CAUTION)
     note.font = Font(italic=True)
-    note.alignment = Alignment(wrap_text=False)
+    note.alignment = Alignment(wrap_text=True, vertical="top")
+    ws.merge_cells(start_row=last + 2, start_column=1, end_row=last + 2,
+                   end_column=max(4, len(records) + 1))
+    fit_rows(ws, last + 2)
 
     hs = wb.create_sheet("Harmonics")
     rows = []
@@ -365,9 +399,14 @@ def write_measure_workbook(path: str | Path, records: Sequence[dict[str, Any]],
         for n in r.get("notes") or []:
             srows.append([f"note: {r['label']}", n])
     write_rows(ss, ["Setting", "Value"], srows, widths=[36, 90])
+    for row in ss.iter_rows(min_row=2):
+        row[1].alignment = Alignment(wrap_text=True, vertical="top")
+    fit_rows(ss)
 
     set_properties(wb, "flickerkit measurement", "Temporal light modulation of captures")
-    print_setup(wb)
+    if pictures:
+        add_pictures(wb, pictures)
+    print_setup(wb, document="Temporal light modulation of captures")
 
     def save(tmp: Path) -> None:
         wb.save(tmp)
