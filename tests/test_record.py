@@ -128,3 +128,23 @@ def test_sig_format_of_zero_and_whole_numbers():
     assert sig_format(12345.0) == "0"
     assert sig_format(1.0) == "0" and sig_format(1.5) == "0.000"
     assert sig_format(float("inf")) == "0"
+
+
+def test_every_workbook_prints(demo_record, tmp_path, capsys):
+    from openpyxl import load_workbook
+
+    cap = demo_record / "ardent12_level020.csv"
+    books = {"measure": ["measure", str(cap), "--pictures", str(tmp_path / "mp")],
+             "drive": ["drive", "-f", "1234.56", "--levels", "100,20,1", "--pictures",
+                       str(tmp_path / "dp")],
+             "plan": ["plan", "--target", "ieee1789-low-risk", "--clock-mhz", "48",
+                      "--prescalers", "1,8", "--pictures", str(tmp_path / "pp")],
+             "steps": ["steps", "--steps", "16", "--bits", "10"]}
+    for name, argv in books.items():
+        out = tmp_path / f"{name}.xlsx"
+        assert main(argv + ["--xlsx", str(out), "-q"]) == 0, name
+        wb = load_workbook(out)
+        _check_printable(wb)
+        if name != "steps":
+            assert len(wb["Pictures"]._images) >= 1, name
+    capsys.readouterr()
