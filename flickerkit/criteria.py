@@ -597,5 +597,6 @@ def load_user_criteria(path: str | Path) -> dict[str, Criterion]:
     return out
 
 
-__all__ = ["Criterion", "Verdict", "REGISTRY", "DEFAULT_CRITERIA", "STATUSES", "KINDS", "get", "judge",
+__all__ = ["Criterion", "Verdict", "REGISTRY", "DEFAULT_CRITERIA", "STATUSES", "KINDS", "get",
+           "judge",
            "judge_all", "overall", "from_mapping", "load_user_criteria"]

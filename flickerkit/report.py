@@ -51,7 +51,7 @@ class Report:
 
     @property
     def limiting(self) -> str:
-        """What limits the product, in plain words (see :func:`flickerkit.judgement.limiting_text`)."""
+        """What limits the product, in plain words (:func:`flickerkit.judgement.limiting_text`)."""
         from .judgement import limiting_text
 
         return limiting_text(self.groups)

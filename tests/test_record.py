@@ -1,8 +1,5 @@
 """The record as a document: verdicts grouped by kind, missing levels, pictures, print set-up."""
 
-import datetime as dt
-import math
-
 import pytest
 
 from flickerkit import criteria
@@ -148,3 +145,24 @@ def test_every_workbook_prints(demo_record, tmp_path, capsys):
         if name != "steps":
             assert len(wb["Pictures"]._images) >= 1, name
     capsys.readouterr()
+
+
+def test_pdf_of_the_record(demo_record, tmp_path, capsys, monkeypatch):
+    from flickerkit.errors import OutputError
+    from flickerkit.export import pdf
+
+    with monkeypatch.context() as m:   # without LibreOffice: a clear note, no file
+        m.setattr(pdf, "soffice", lambda: None)
+        with pytest.raises(OutputError, match="LibreOffice"):
+            pdf.workbook_to_pdf(demo_record / "ardent12_record.xlsx", tmp_path / "none.pdf")
+        assert not (tmp_path / "none.pdf").exists()
+    if pdf.soffice() is None:
+        pytest.skip("LibreOffice is not installed")
+    out = pdf.workbook_to_pdf(demo_record / "ardent12_record.xlsx", tmp_path / "record.pdf")
+    data = out.read_bytes()
+    assert data.startswith(b"%PDF")
+    import re
+
+    pages = len(re.findall(rb"/Type\s*/Page(?!s)", data))
+    # bounded: the demo's record (5 captures, 11 sheets) prints on some tens of pages
+    assert 8 <= pages <= 60, pages

@@ -50,6 +50,9 @@ def add_parser(sub) -> None:
                    help="print the verdicts and figures as JSON instead of the table")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress bar on stderr")
     add_picture_option(p)
+    p.add_argument("--pdf", metavar="RECORD.pdf",
+                   help="also print the workbook to a PDF with LibreOffice (soffice), when it is "
+                        "installed; without it a note says so and the workbook stands")
     add_batch_options(p)
     p.set_defaults(run=run)
 
@@ -119,6 +122,15 @@ def run(args: argparse.Namespace) -> int:
     if pictures:
         print(f"pictures written: {args.pictures}/ ({len(pictures)} as PNG and SVG)",
               file=sys.stderr)
+    if args.pdf:
+        from ..errors import OutputError
+        from ..export.pdf import workbook_to_pdf
+
+        try:
+            workbook_to_pdf(args.output, args.pdf, force=args.force)
+            print(f"PDF written: {args.pdf}", file=sys.stderr)
+        except OutputError as exc:
+            print(f"flickerkit: note: {exc}", file=sys.stderr)
     from ..report import CAUTIONS
 
     print("\n".join(f"caution: {c}" for c in CAUTIONS),

@@ -196,7 +196,8 @@ def ieee_figure(records: Sequence[dict[str, Any]], title: str = "IEEE 1789-2015 
             text = f"{lv:g} %" if isinstance(lv, (int, float)) else name
             ax.plot(fx, max(m, 1e-2), "o", color=colour, ms=7,
                     label=f"{name} ({ieee.get('region')})")
-            ax.annotate(text, (fx, max(m, 1e-2)), textcoords="offset points", xytext=(6, 4 + 7 * (i % 3)),
+            ax.annotate(text, (fx, max(m, 1e-2)), textcoords="offset points",
+                        xytext=(6, 4 + 7 * (i % 3)),
                         fontsize=7, color=colour)
     ax.set_xscale("log")
     ax.set_yscale("log")
@@ -255,7 +256,7 @@ def levels_figure(records: Sequence[dict[str, Any]], limits: Sequence[tuple[str,
         if not ok.any():
             ax.text(0.5, 0.5, "no value at any level", transform=ax.transAxes, ha="center",
                     fontsize=8)
-        for j, (mk, lim, name) in enumerate(x for x in limits if x[0] == key):
+        for j, (_, lim, name) in enumerate(x for x in limits if x[0] == key):
             ax.axhline(lim, color=_LEVEL_COLOURS[(j + 1) % len(_LEVEL_COLOURS)], ls="--",
                        lw=1, label=f"{name}: {lim:g}")
         ax.set_xscale("log")
