@@ -198,7 +198,7 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
                            "Measured", "Limit", "Margin (positive = inside)", "Unit",
                            "Verification tolerance (not a loosened limit)", "Reason",
                            "Confidence in the limit"], rows,
-                      widths=[22, 12, 22, 8, 12, 10, 10, 10, 5, 12, 36, 10])
+                      widths=[22, 19, 22, 8, 13, 10, 10, 10, 5, 12, 34, 11])
     for i in range(2, last + 1):
         _style_status(vs.cell(row=i, column=5), vs.cell(row=i, column=5).value)
         for j in (2, 3, 10, 11):
@@ -222,6 +222,9 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
     write_rows(hs, ["Capture", "Dimming level [%]", "Harmonic order", "Frequency [Hz]",
                     "Amplitude / mean [1]", "Amplitude / mean [%]", "Phase [deg]"], hrows,
                widths=[26, 12, 10, 14, 18, 18, 12])
+    for cell in hs[1]:
+        cell.alignment = wrap
+    fit_rows(hs)
 
     anchors = {}
     anchors["ieee1789_chart"] = _ieee_chart_sheet(wb, report.records)
@@ -289,7 +292,7 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
             wb.move_sheet("Pictures", offset=wb.sheetnames.index("Harmonics")
                           - wb.sheetnames.index("Pictures") + 1)
     print_setup(wb, product=_product_line(prod), document="Temporal light modulation record",
-                run_at=report.run_at)
+                run_at=report.run_at, title_rows={"Pictures": 0})
 
     def save(tmp: Path) -> None:
         wb.save(tmp)
@@ -357,11 +360,18 @@ def _ieee_chart_sheet(wb, records) -> str:
         s.graphicalProperties.line.noFill = True
         ch.series.append(s)
     ch.height, ch.width = 9, 14
+    # the labelled picture (when drawn) goes first, under the points; this chart below it
+    from openpyxl.worksheet.pagebreak import Break
+
     top = len(pts) + 4
-    ws.add_chart(ch, f"E{top}")
+    ws.row_breaks.append(Break(id=top + 24))
+    ws.add_chart(ch, f"E{top + 26}")
+    # printed: the points, the labelled picture and the chart; the boundary table (the
+    # chart's data, columns A-C) stays in the workbook but off the printed pages
+    ws.print_area = f"E1:L{top + 46}"
     for col, w in (("D", 3), ("E", 24), ("F", 14), ("G", 16)):
         ws.column_dimensions[col].width = w
-    return f"E{top + 19}"
+    return f"E{top}"
 
 
 def _level_sheet(wb, records) -> str | None:
@@ -392,5 +402,9 @@ def _level_sheet(wb, records) -> str | None:
     s.smooth = False
     ch.series.append(s)
     ch.height, ch.width = 9, 16
-    ws.add_chart(ch, f"A{last + 3}")
-    return f"A{last + 23}"
+    # the picture of every metric (when drawn) first; this chart on the next page
+    ws.add_chart(ch, f"A{last + 28}")
+    from openpyxl.worksheet.pagebreak import Break
+
+    ws.row_breaks.append(Break(id=last + 26))
+    return f"A{last + 3}"

@@ -80,6 +80,11 @@ def write_rows(ws, headers: Sequence[str], rows: Iterable[Sequence[Any]], *, sta
     for j, h in enumerate(headers, start=1):
         width = (widths[j - 1] if widths else max(10, min(40, len(h) + 2)))
         ws.column_dimensions[ws.cell(row=1, column=j).column_letter].width = width
+    from openpyxl.styles import Alignment
+
+    for j in range(1, len(headers) + 1):  # headings wrap within their column, never overprint
+        ws.cell(row=start_row, column=j).alignment = Alignment(wrap_text=True, vertical="top")
+    fit_rows(ws, start_row, max_row=start_row)
     return r
 
 
@@ -123,12 +128,13 @@ def content_width(ws) -> float:
     return right
 
 
-def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0) -> None:
+def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0, max_row: int | None = None) -> None:
     """Set the height of rows with wrapped text so the lines show and never overprint.
 
     The number of lines is estimated from each wrapped cell's text length and
     its column width (merged cells: the merged width).
     """
+    from openpyxl.styles import Alignment
     from openpyxl.utils import get_column_letter
 
     merged = {}
@@ -136,18 +142,23 @@ def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0) -> None:
         w = sum((ws.column_dimensions[get_column_letter(j)].width or 8.43)
                 for j in range(rng.min_col, rng.max_col + 1))
         merged[(rng.min_row, rng.min_col)] = (w, rng.max_row - rng.min_row + 1)
-    for row in ws.iter_rows(min_row=min_row):
+    for row in ws.iter_rows(min_row=min_row, max_row=max_row):
         lines = 1
         for cell in row:
             if not isinstance(cell.value, str) or not (cell.alignment and cell.alignment.wrap_text):
                 continue
             width, span = merged.get((cell.row, cell.column),
                                      (ws.column_dimensions[cell.column_letter].width or 8.43, 1))
-            chars = max(1.0, float(width) * 1.1 - 1)
+            bold = bool(cell.font and cell.font.b)
+            chars = max(1.0, float(width) * (0.9 if bold else 1.0) - 1)
             n = sum(max(1, math.ceil(len(part) / chars)) for part in cell.value.split("\n"))
             lines = max(lines, math.ceil(n / span))
         if lines > 1:
-            ws.row_dimensions[row[0].row].height = lines * line_pt + 2
+            ws.row_dimensions[row[0].row].height = lines * line_pt + 3
+            for cell in row:  # one baseline for the whole row
+                al = cell.alignment
+                cell.alignment = Alignment(wrap_text=al.wrap_text, horizontal=al.horizontal,
+                                           vertical="top")
 
 
 def _hf(text: str) -> str:
@@ -231,19 +242,24 @@ def print_setup(wb, *, product: str = "", document: str = "flickerkit workbook",
 
 
 def add_pictures(wb, pictures, *, default_sheet: str = "Pictures",
-                 anchors: dict[str, str] | None = None, scale: float = 0.82) -> None:
+                 anchors: dict[str, str] | None = None, scale: float = 0.82,
+                 per_page: int = 2) -> None:
     """Place pictures (:class:`flickerkit.export.figures.Picture`) as images on their sheets.
 
     Each picture goes on the sheet it explains (created when missing), below
     what the sheet holds, one under another with its caption, so it never
-    covers a table.
+    covers a table; ``anchors`` (picture name -> top-left cell such as ``"E12"``)
+    places a picture elsewhere. A page break follows every ``per_page``
+    pictures placed one under another, so no picture is cut by a page.
     """
     import io
 
     from openpyxl.drawing.image import Image
     from openpyxl.styles import Font
+    from openpyxl.worksheet.pagebreak import Break
 
     next_row: dict[str, int] = {}
+    placed: dict[str, int] = {}
     for pic in pictures:
         name = pic.sheet or default_sheet
         ws = wb[name] if name in wb.sheetnames else wb.create_sheet(name)
@@ -254,10 +270,14 @@ def add_pictures(wb, pictures, *, default_sheet: str = "Pictures",
             continue
         if name not in next_row:
             next_row[name] = ws.max_row + 2 if ws.max_row > 1 else 1
+            placed[name] = 0
         r = next_row[name]
         put(ws, r, 1, pic.caption).font = Font(bold=True)
         ws.add_image(img, f"A{r + 1}")
         next_row[name] = r + 2 + math.ceil(img.height / 20.0)
+        placed[name] += 1
+        if placed[name] % per_page == 0:
+            ws.row_breaks.append(Break(id=next_row[name] - 1))
 
 
 def set_properties(wb, title: str, subject: str) -> None:
