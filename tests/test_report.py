@@ -107,9 +107,8 @@ def test_report_workbook_matches_json(project, tmp_path, capsys):
     # traceability: SHA-256 of each input
     import hashlib
 
-    ins = wb["Inputs"]
-    heads = [c.value for c in ins[1]]
-    row = dict(zip(heads, next(ins.iter_rows(min_row=2, values_only=True))))
+    ins = wb["Inputs"]  # turned: fields down column A, inputs across
+    row = {ins.cell(i, 1).value: ins.cell(i, 2).value for i in range(1, 15)}
     assert row["SHA-256"] == hashlib.sha256((tmp_path / "full.npy").read_bytes()).hexdigest()
     assert wb.properties.title.startswith("Flicker record")
     assert "not a certification" in wb.properties.description

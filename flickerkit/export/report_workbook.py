@@ -67,6 +67,10 @@ METHOD_NOTES: tuple[tuple[str, str, str], ...] = (
 )
 
 
+#: Short forms of the statuses in the summary's matrix (a legend follows it).
+_SHORT = {"not applicable": "n/a", "insufficient data": "insufficient"}
+
+
 def _style_status(cell, status: str) -> None:
     from openpyxl.styles import Font, PatternFill
 
@@ -167,9 +171,12 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
             v = by_key.get((crit.id, label))
             if v is None:
                 continue
-            c = put(ws, r, j, v.status)
+            c = put(ws, r, j, _SHORT.get(v.status, v.status))
             _style_status(c, v.status)
             c.alignment = wrap
+    r += 1
+    put(ws, r, 1, "n/a: not applicable (the criterion's reason is on the Verdicts sheet); "
+                  "insufficient: insufficient data").font = Font(italic=True, size=9)
     r += 2
     put(ws, r, 1, "Cautions").font = bold
     for text in CAUTIONS:
@@ -194,11 +201,11 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
                      v.limit, v.margin, c.unit if c else "",
                      None if tol is None else f"{tol:g} (context)", v.reason,
                      c.confidence if c else ""])
-    last = write_rows(vs, ["Criterion", "Kind", "Capture", "Dimming level [%]", "Verdict",
+    last = write_rows(vs, ["Criterion", "Kind", "Capture", "Level [%]", "Verdict",
                            "Measured", "Limit", "Margin (positive = inside)", "Unit",
                            "Verification tolerance (not a loosened limit)", "Reason",
                            "Confidence in the limit"], rows,
-                      widths=[22, 19, 22, 8, 13, 10, 10, 10, 5, 12, 34, 11])
+                      widths=[22, 19, 22, 9, 13, 10, 10, 10, 5, 12, 34, 11])
     for i in range(2, last + 1):
         _style_status(vs.cell(row=i, column=5), vs.cell(row=i, column=5).value)
         for j in (2, 3, 10, 11):
@@ -243,9 +250,10 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
     heads = ["Capture", "Dimming level [%]", "File", "Status", "Size [bytes]", "SHA-256",
              "Sample rate [Hz]", "Duration [s]", "Samples", "Column", "Dark level [input unit]",
              "Dark capture", "Dark capture SHA-256", "Model"]
-    last = write_rows(ins, heads, ([i.get(k) for k in keys] for i in report.inputs),
-                      widths=[24, 10, 50, 22, 12, 66, 14, 12, 12, 14, 14, 40, 66, 60])
-    ins.column_dimensions["B"].width = 10
+    # turned: one column per input, fields down (14 fields would not fit a page's width)
+    ncol = max(1, len(report.inputs))
+    last = write_turned(ins, list(zip(heads, keys)), list(report.inputs), head_width=24,
+                        value_width=max(18, min(30, 110 // ncol)))
     r = last + 2
     put(ins, r, 1, "Setting").font = bold
     put(ins, r, 2, "Value").font = bold
@@ -253,23 +261,21 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
     for rec in report.records[:1]:
         if rec.get("pst_lm_calibration"):
             settings["Pst LM calibration"] = str(rec["pst_lm_calibration"])
-    for k, v in settings.items():
-        r += 1
-        put(ins, r, 1, str(k))
-        put(ins, r, 2, v if isinstance(v, (int, float)) or v is None else str(v))
+    lines: list[tuple[str, object]] = [(str(k), v if isinstance(v, (int, float)) or v is None
+                                        else str(v)) for k, v in settings.items()]
     for rec in report.records:
-        for n in rec.get("notes") or []:
-            r += 1
-            put(ins, r, 1, f"note: {rec['label']}")
-            put(ins, r, 2, n)
-        for w in rec.get("warnings") or []:
-            r += 1
-            put(ins, r, 1, f"warning: {rec['label']}")
-            put(ins, r, 2, w)
-    for label, err in report.failures:
+        lines += [(f"note: {rec['label']}", n) for n in rec.get("notes") or []]
+        lines += [(f"warning: {rec['label']}", w) for w in rec.get("warnings") or []]
+    lines += [(f"not measured: {label}", err) for label, err in report.failures]
+    first = r + 1
+    for k, v in lines:
         r += 1
-        put(ins, r, 1, f"not measured: {label}")
-        put(ins, r, 2, err)
+        put(ins, r, 1, k).alignment = wrap
+        put(ins, r, 2, v).alignment = Alignment(wrap_text=True, vertical="top",
+                                                 horizontal="left")
+        if ncol > 1:
+            ins.merge_cells(start_row=r, start_column=2, end_row=r, end_column=ncol + 1)
+    fit_rows(ins, first)
 
     # ---------------------------------------------------------------- method notes
     ns = wb.create_sheet("Method notes")
