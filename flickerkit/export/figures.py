@@ -182,6 +182,8 @@ def ieee_figure(records: Sequence[dict[str, Any]], title: str = "IEEE 1789-2015 
             label="low-risk boundary (RP1, recalled)")
     ax.plot(f, np.where(np.isfinite(no), no, np.nan), color=_COLOURS["noel"], lw=1.4, ls="--",
             label="no observable effect boundary (RP2, recalled)")
+    many = len(records) > 8  # then the legend keeps the lines, and every k-th point is labelled
+    step = max(1, math.ceil(len(records) / 8))
     for i, rec in enumerate(records):
         colour = _LEVEL_COLOURS[i % len(_LEVEL_COLOURS)]
         for h in rec.get("harmonics") or []:
@@ -195,10 +197,10 @@ def ieee_figure(records: Sequence[dict[str, Any]], title: str = "IEEE 1789-2015 
             name = rec.get("label", "")
             text = f"{lv:g} %" if isinstance(lv, (int, float)) else name
             ax.plot(fx, max(m, 1e-2), "o", color=colour, ms=7,
-                    label=f"{name} ({ieee.get('region')})")
-            ax.annotate(text, (fx, max(m, 1e-2)), textcoords="offset points",
-                        xytext=(6, 4 + 7 * (i % 3)),
-                        fontsize=7, color=colour)
+                    label=None if many else f"{name} ({ieee.get('region')})")
+            if i % step == 0:
+                ax.annotate(text, (fx, max(m, 1e-2)), textcoords="offset points",
+                            xytext=(6, 4 + 7 * ((i // step) % 3)), fontsize=7, color=colour)
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_xlim(1, 10_000)

@@ -32,7 +32,6 @@ SWEEP_COLUMNS = (
     ("Model percent flicker [%]", "model_percent_flicker", None),
     ("Sample rate [Hz]", "sample_rate_hz", None),
     ("Model", "model", None),
-    ("Warnings", "warnings", None),
 )
 
 
@@ -64,7 +63,7 @@ def write_sweep_workbook(path: str | Path, out: dict[str, Any], *, force: bool =
 
     last = write_rows(ws, [h for h, _, _ in SWEEP_COLUMNS],
                       ([cell(r, k, s) for _, k, s in SWEEP_COLUMNS] for r in out["levels"]),
-                      widths=[8, 9, 11, 10, 9, 8, 14, 10, 10, 14, 10, 10, 30, 30])
+                      widths=[8, 9, 11, 10, 9, 8, 14, 10, 10, 14, 10, 10, 30])
     wrap = Alignment(wrap_text=True, vertical="top")
     for row in ws.iter_rows(min_row=1, max_row=last):
         for c in row:
@@ -72,6 +71,12 @@ def write_sweep_workbook(path: str | Path, out: dict[str, Any], *, force: bool =
                 c.alignment = wrap
     fit_rows(ws)
     _notes(ws, last + 2, [CAUTION, _MODEL_NOTE], 10)
+    warn = [[100 * r["level"], w] for r in out["levels"] for w in r.get("warnings") or []]
+    wsw = wb.create_sheet("Warnings")
+    write_rows(wsw, ["Level [%]", "Warning"], warn, widths=[10, 120])
+    for row in wsw.iter_rows(min_row=2):
+        row[1].alignment = wrap
+    fit_rows(wsw)
     fs = wb.create_sheet("First failing level")
     write_rows(fs, ["Criterion", "First failing level [%]"],
                [[k, "not assessed" if k in out.get("not_assessed", ()) else
