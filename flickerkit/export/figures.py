@@ -182,8 +182,8 @@ def ieee_figure(records: Sequence[dict[str, Any]], title: str = "IEEE 1789-2015 
             label="low-risk boundary (RP1, recalled)")
     ax.plot(f, np.where(np.isfinite(no), no, np.nan), color=_COLOURS["noel"], lw=1.4, ls="--",
             label="no observable effect boundary (RP2, recalled)")
-    many = len(records) > 8  # then the legend keeps the lines, and every k-th point is labelled
-    step = max(1, math.ceil(len(records) / 8))
+    many = len(records) > 8  # then the legend keeps the lines only
+    spots: dict[tuple[int, int], list] = {}  # points that fall together share one label
     for i, rec in enumerate(records):
         colour = _LEVEL_COLOURS[i % len(_LEVEL_COLOURS)]
         for h in rec.get("harmonics") or []:
@@ -195,12 +195,18 @@ def ieee_figure(records: Sequence[dict[str, Any]], title: str = "IEEE 1789-2015 
         if fx and m:
             lv = rec.get("level")
             name = rec.get("label", "")
-            text = f"{lv:g} %" if isinstance(lv, (int, float)) else name
+            text = f"{lv:.3g} %" if isinstance(lv, (int, float)) else name
             ax.plot(fx, max(m, 1e-2), "o", color=colour, ms=7,
                     label=None if many else f"{name} ({ieee.get('region')})")
-            if i % step == 0:
-                ax.annotate(text, (fx, max(m, 1e-2)), textcoords="offset points",
-                            xytext=(6, 4 + 7 * ((i // step) % 3)), fontsize=7, color=colour)
+            key = (round(math.log10(fx) / 0.03), round(math.log10(max(m, 1e-2)) / 0.03))
+            spots.setdefault(key, []).append((fx, max(m, 1e-2), text, colour))
+    for k, pts in enumerate(spots.values()):
+        fx, m, text, colour = pts[0]
+        if len(pts) > 1:
+            text = ", ".join(p[2] for p in pts) if len(pts) <= 3 else \
+                f"{pts[-1][2]} to {pts[0][2]} ({len(pts)} levels)"
+        ax.annotate(text, (fx, m), textcoords="offset points", xytext=(6, 4 + 8 * (k % 2)),
+                    fontsize=7, color=colour if len(pts) == 1 else "black")
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_xlim(1, 10_000)
