@@ -296,20 +296,24 @@ def plan_figure(out: dict[str, Any]):
     plt = _plt()
     fig, ax = plt.subplots(figsize=SIZE_IN, dpi=DPI, layout="constrained")
     s = out.get("settings") or []
-    for mode, marker in (("edge", "o"), ("centre", "s")):
+    for mode, marker, size in (("centre", "s", 9), ("edge", "o", 5)):  # edge drawn on top
         pts = [(r["frequency_hz"], r["bits"]) for r in s if r.get("mode") == mode]
         if pts:
-            ax.plot([p[0] for p in pts], [p[1] for p in pts], marker, ls="none",
+            ax.plot([p[0] for p in pts], [p[1] for p in pts], marker, ls="none", ms=size,
                     label=f"{mode}-aligned settings")
     f0 = out.get("lowest_frequency_hz")
     if isinstance(f0, (int, float)) and math.isfinite(f0):
         ax.axvline(f0, color=_COLOURS["low"], ls="--",
                    label=f"lowest frequency meeting the targets: {f0:.5g} Hz")
     need = (out.get("resolution") or {}).get("counts_needed")
-    if isinstance(need, (int, float)) and need > 0:
+    if isinstance(need, (int, float)) and need > 1:
         ax.axhline(math.log2(need), color=_COLOURS["noel"], ls=":",
                    label=f"resolution needed: {math.log2(need):.3g} bits")
-    ax.set_xscale("log")
+    fr = [r["frequency_hz"] for r in s] + ([f0] if isinstance(f0, (int, float)) else [])
+    if fr and max(fr) > 10 * min(fr):
+        ax.set_xscale("log")
+    ax.ticklabel_format(axis="x", style="plain", useOffset=False) if ax.get_xscale() == \
+        "linear" else None
     ax.set_xlabel("PWM frequency [Hz]")
     ax.set_ylabel("resolution [bits]")
     ax.set_title("Frequency plan: " + ", ".join(out.get("targets") or []), fontsize=9)
