@@ -30,12 +30,36 @@ KIND_TITLES = {"regulation": "Regulations", "recommended practice": "Recommended
 _DECIDED_BY_NAMES = ("decided_by", "deciding_component", "component", "band")
 
 
-def decided_by(verdict: Verdict) -> str:
+def _from_record(verdict: Verdict, criterion: Criterion | None,
+                 record: dict[str, Any] | None) -> str:
+    """The component or band named by the assessment object itself ('' when none)."""
+    if criterion is None or record is None:
+        return ""
+    m = criterion.metric
+    if m == "svm":
+        comps = (record.get("svm_detail") or {}).get("components") or []
+        comps = [c for c in comps if isinstance(c.get("share"), (int, float))]
+        if comps:
+            top = max(comps, key=lambda c: c["share"])
+            return (f"component at {top['frequency_hz']:.5g} Hz "
+                    f"({100 * top['share']:.3g} % of the SVM sum)")
+    if m.startswith("filtered_percent_flicker."):
+        return f"band below {m.split('.', 1)[1]} Hz (JA10.6 filter)"
+    if m == "below_90hz_modulation" and isinstance(record.get("frequency_hz"), (int, float)):
+        return f"fundamental at {record['frequency_hz']:.5g} Hz"
+    if m == "pst_lm":
+        return "weighted flicker of all components (Pst LM)"
+    return ""
+
+
+def decided_by(verdict: Verdict, criterion: Criterion | None = None,
+               record: dict[str, Any] | None = None) -> str:
     """The component or band that decided a verdict, as text ('' when not known).
 
     Read defensively: verdicts from flickerkit versions that judge per component
-    carry it as an attribute; older ones do not, and then the verdict's reason
-    (which names the mode and frequency, or the metric and limit) is used.
+    carry it as an attribute and that is used first; otherwise the capture's
+    assessment object (``record``), then the verdict's reason (which names the
+    mode and frequency for IEEE 1789).
     """
     for name in _DECIDED_BY_NAMES:
         value = getattr(verdict, name, None)
@@ -46,7 +70,9 @@ def decided_by(verdict: Verdict) -> str:
         if hasattr(value, "describe") and callable(value.describe):
             return str(value.describe())
         return str(value)
-    return verdict.reason if verdict.status in ("pass", "fail") else ""
+    if verdict.status not in ("pass", "fail"):
+        return ""
+    return _from_record(verdict, criterion, record) or verdict.reason
 
 
 @dataclass(frozen=True)
@@ -137,8 +163,13 @@ def _margin_key(v: Verdict) -> float:
 
 
 def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
-            levels: Sequence[float | None]) -> CriterionOutcome:
-    """Sum up one criterion's verdicts (those with its id) over the captures' ``levels``."""
+            levels: Sequence[float | None],
+            records: dict[str, dict[str, Any]] | None = None) -> CriterionOutcome:
+    """Sum up one criterion's verdicts (those with its id) over the captures' ``levels``.
+
+    ``records`` (capture label -> assessment object) lets the outcome name the
+    component or band that decided it.
+    """
     mine = [v for v in verdicts if v.criterion == criterion.id]
     counts = {s: sum(v.status == s for v in mine) for s in _SEVERITY}
     missing = missing_levels(criterion, levels)
@@ -153,17 +184,22 @@ def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
             break
     if worst is None:
         worst = next((v for v in mine if v.status == "insufficient data"), None)
-    return CriterionOutcome(criterion, status, worst,
-                            "" if worst is None else decided_by(worst), missing, counts,
-                            tuple(mine))
+    by = "" if worst is None else decided_by(worst, criterion,
+                                             (records or {}).get(worst.label))
+    return CriterionOutcome(criterion, status, worst, by, missing, counts, tuple(mine))
 
 
 def group(criteria: Sequence[Criterion], verdicts: Sequence[Verdict],
-          levels: Sequence[float | None]) -> tuple[GroupOutcome, ...]:
-    """Outcomes per kind of document, in :data:`KINDS` order (kinds with no criterion left out)."""
+          levels: Sequence[float | None],
+          records: Sequence[dict[str, Any]] = ()) -> tuple[GroupOutcome, ...]:
+    """Outcomes per kind of document, in :data:`KINDS` order (kinds with no criterion left out).
+
+    ``records`` are the captures' assessment objects (matched to verdicts by label).
+    """
+    by_label = {str(r.get("label", "")): r for r in records}
     out = []
     for kind in KINDS:
-        mine = tuple(outcome(c, verdicts, levels) for c in criteria if c.kind == kind)
+        mine = tuple(outcome(c, verdicts, levels, by_label) for c in criteria if c.kind == kind)
         if mine:
             out.append(GroupOutcome(kind, worst_status([o.status for o in mine]), mine))
     return tuple(out)

@@ -184,7 +184,7 @@ def build_report(project: Project, *, workers: int | None = None,
     }
     from .judgement import group, worst_status
 
-    groups = group(chosen, verdicts, levels)
+    groups = group(chosen, verdicts, levels, records)
     # the overall line only sums the groups; reports show each group's line apart
     overall = worst_status([criteria.overall(verdicts)] + [g.status for g in groups])
     return Report(project=project, records=tuple(records), failures=tuple(failures),

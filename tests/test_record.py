@@ -167,3 +167,19 @@ def test_pdf_of_the_record(demo_record, tmp_path, capsys, monkeypatch):
     pages = len(re.findall(rb"/Type\s*/Page(?!s)", data))
     # bounded: the demo's record (5 captures, 11 sheets) prints on some tens of pages
     assert 8 <= pages <= 60, pages
+
+
+def test_decided_by_names_the_svm_component_from_the_record():
+    # a 1234.56 Hz square wave: its fundamental carries most of the SVM sum
+    # (analytic: harmonic amplitudes fall as 1/n, the threshold rises with f)
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+
+    from .synth import pwm
+
+    fs = 200_000.0
+    rec = assess(make_capture(pwm(1234.56, 0.5, 0.0, fs, 0.5), fs, label="sq")).to_dict()
+    svm = criteria.REGISTRY["gbt50034-svm"]
+    v = criteria.judge(rec, svm)
+    (g,) = group([svm], [v], [None], [rec])
+    assert g.criteria[0].decided_by.startswith("component at 1234.6 Hz")
