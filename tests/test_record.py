@@ -184,3 +184,49 @@ def test_decided_by_names_the_svm_component_from_the_record():
     v = criteria.judge(rec, svm)
     (g,) = group([svm], [v], [None], [rec])
     assert g.criteria[0].decided_by.startswith("component at 1234.6 Hz")
+
+
+def test_pictures_refuse_to_overwrite_and_a_file_in_the_way(demo_record, tmp_path, capsys):
+    cap = str(demo_record / "ardent12_level010.txt")
+    dark = str(demo_record / "ardent12_dark.csv")
+    pics = tmp_path / "pics"
+    assert main(["measure", cap, "--dark", dark, "-q", "--pictures", str(pics)]) == 0
+    first = sorted(p.name for p in pics.iterdir())
+    assert first == ["ardent12_level010.txt_spectrum.png", "ardent12_level010.txt_spectrum.svg",
+                     "ardent12_level010.txt_waveform.png", "ardent12_level010.txt_waveform.svg"]
+    assert main(["measure", cap, "--dark", dark, "-q", "--pictures", str(pics)]) == 1
+    assert "--force" in capsys.readouterr().err
+    assert main(["measure", cap, "--dark", dark, "-q", "--pictures", str(pics), "--force"]) == 0
+    blocker = tmp_path / "afile"
+    blocker.write_text("x")
+    assert main(["measure", cap, "--dark", dark, "-q", "--pictures", str(blocker)]) == 1
+    err = capsys.readouterr().err
+    assert "not a folder" in err and "Traceback" not in err
+
+
+def test_figures_of_steady_noisy_and_short_light():
+    # steady light with 40 dB noise: no period, the spectrum says so; a capture of 1.5 periods
+    import numpy as np
+
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+    from flickerkit.export.figures import capture_pictures, trace_of
+
+    rng = np.random.default_rng(20261202)
+    fs = 25_000.0
+    steady = 1.0 + 0.01 * rng.standard_normal(int(0.4 * fs))
+    t = np.arange(int(1.5 / 1234.56 * fs)) / fs
+    short = 1.0 + 0.3 * np.sin(2 * np.pi * 1234.56 * t)
+    recs, traces = [], {}
+    for label, x in (("steady", steady), ("short", short)):
+        cap = make_capture(x, fs, label=label)
+        rec = assess(cap).to_dict()
+        recs.append(rec)
+        tr = trace_of(cap, rec.get("frequency_hz"))
+        # no period found: 20 ms shown, or the whole capture when shorter
+        assert tr.samples.size == min(x.size, int(np.ceil(0.02 * fs)))
+        traces[label] = tr
+    pics = capture_pictures(recs, traces)
+    assert [p.name for p in pics] == ["steady_waveform", "steady_spectrum", "short_waveform",
+                                      "short_spectrum"]
+    assert all(p.png.startswith(b"\x89PNG") and b"<svg" in p.svg for p in pics)

@@ -185,7 +185,7 @@ def emit(args: argparse.Namespace, out: dict, text, write_workbook, reminder: st
         from ..export.figures import write_pictures
 
         pictures = draw(out)
-        write_pictures(pictures, args.pictures)
+        write_pictures(pictures, args.pictures, force=args.force)
         if not args.quiet:
             print(f"pictures written: {args.pictures}/ ({len(pictures)} as PNG and SVG)",
                   file=sys.stderr)

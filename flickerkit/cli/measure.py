@@ -126,7 +126,8 @@ def add_parser(sub) -> None:
     o.add_argument("--json", action="store_true",
                    help="print a JSON array (one object per capture) instead of the table")
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
-    o.add_argument("--force", action="store_true", help="replace an existing workbook")
+    o.add_argument("--force", action="store_true",
+                   help="replace an existing workbook (and pictures)")
     o.add_argument("-q", "--quiet", action="store_true", help="no progress or cautions on stderr")
     from .report import add_picture_option
 
@@ -154,7 +155,7 @@ def _pictures(args, outcomes, settings):
             continue
         traces[o.record["label"]] = trace_of(cap, o.record.get("frequency_hz"))
     pics = capture_pictures(records, traces, threshold=settings.svm_threshold)
-    write_pictures(pics, args.pictures)
+    write_pictures(pics, args.pictures, force=args.force)
     if not args.quiet:
         print(f"pictures written: {args.pictures}/ ({len(pics)} as PNG and SVG)",
               file=sys.stderr)
@@ -181,6 +182,10 @@ def run(args: argparse.Namespace) -> int:
         raise SettingsError("--workers must be at least 1")
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
+    if args.pictures:
+        from ..export.figures import check_picture_folder
+
+        check_picture_folder(args.pictures)
     settings = assess_settings(args)
     outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings)
     records = [o.record for o in outcomes if o.record is not None]

@@ -45,7 +45,8 @@ def add_parser(sub) -> None:
     p.add_argument("project", metavar="PROJECT", help="project file (.toml) or folder of captures")
     p.add_argument("-o", "--output", metavar="WORKBOOK.xlsx", required=True,
                    help="workbook to write")
-    p.add_argument("--force", action="store_true", help="replace an existing workbook")
+    p.add_argument("--force", action="store_true",
+                   help="replace an existing workbook (and pictures, PDF)")
     p.add_argument("--json", action="store_true",
                    help="print the verdicts and figures as JSON instead of the table")
     p.add_argument("-q", "--quiet", action="store_true", help="no progress bar on stderr")
@@ -64,6 +65,10 @@ def run(args: argparse.Namespace) -> int:
     if args.workers is not None and args.workers < 1:
         raise SettingsError("--workers must be at least 1")
     check_writable(args.output, force=args.force)
+    if args.pictures:
+        from ..export.figures import check_picture_folder
+
+        check_picture_folder(args.pictures)
     from ..project import load_project
     from ..report import build_report
 
@@ -108,7 +113,7 @@ def run(args: argparse.Namespace) -> int:
         from ..report import report_pictures
 
         pictures = report_pictures(report)
-        write_pictures(pictures, args.pictures)
+        write_pictures(pictures, args.pictures, force=args.force)
     write_report_workbook(args.output, report, force=args.force, pictures=pictures)
     if args.json:
         from ..export.jsonout import dumps

@@ -346,15 +346,33 @@ def render(fig, name: str, sheet: str, caption: str) -> Picture:
     return Picture(name, sheet, caption, png.getvalue(), svg.getvalue())
 
 
-def write_pictures(pictures: Sequence[Picture], folder: str | Path) -> list[Path]:
+def check_picture_folder(folder: str | Path) -> None:
+    """Refuse, before any work, a picture folder that is an existing file."""
+    from ..errors import OutputError
+
+    p = Path(folder)
+    if p.exists() and not p.is_dir():
+        raise OutputError(f"{p}: exists and is not a folder (--pictures needs a folder)")
+
+
+def write_pictures(pictures: Sequence[Picture], folder: str | Path, *,
+                   force: bool = False) -> list[Path]:
     """Write every picture as PNG and SVG into ``folder`` (created); return the paths.
 
-    Each file is written to a temporary name and renamed, so no half-written
-    picture is left behind.
+    Existing pictures are replaced only with ``force`` (checked for every file
+    before the first is written). Each file is written to a temporary name and
+    renamed, so no half-written picture is left behind.
     """
     from ..errors import OutputError
 
     out = Path(folder)
+    check_picture_folder(out)
+    if not force:
+        for p in pictures:
+            for ext in FORMATS:
+                if (out / f"{p.name}.{ext}").exists():
+                    raise OutputError(f"{out / f'{p.name}.{ext}'}: exists; use --force to "
+                                      f"replace the pictures")
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -406,6 +424,6 @@ def limit_lines(criteria: Sequence[Any], date) -> list[tuple[str, float, str]]:
     return out
 
 
-__all__ = ["FORMATS", "Picture", "Trace", "capture_pictures", "ieee_figure", "levels_figure",
+__all__ = ["FORMATS", "Picture", "Trace", "capture_pictures", "check_picture_folder", "ieee_figure", "levels_figure",
            "limit_lines", "plan_figure", "render", "safe_name", "spectrum_figure", "trace_of",
            "waveform_figure", "write_pictures"]
