@@ -69,6 +69,8 @@ def run(args: argparse.Namespace) -> int:
         from ..export.figures import check_picture_folder
 
         check_picture_folder(args.pictures)
+    if args.pdf:
+        check_writable(args.pdf, force=args.force)
     from ..project import load_project
     from ..report import build_report
 
