@@ -307,7 +307,9 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
 
 
 def _product_line(prod: dict) -> str:
-    return " ".join(str(prod[k]) for k in ("name", "model") if prod.get(k))
+    """Product name, and the model when both fit a page header's third."""
+    line = " ".join(str(prod[k]) for k in ("name", "model") if prod.get(k))
+    return line if len(line) <= 40 else str(prod.get("name", line))
 
 
 def _ieee_chart_sheet(wb, records) -> str:
@@ -356,16 +358,19 @@ def _ieee_chart_sheet(wb, records) -> str:
         s.graphicalProperties.line.solidFill = colour
         s.graphicalProperties.line.width = 22000
         ch.series.append(s)
-    if pts:
-        s = Series(Reference(ws, min_col=7, min_row=2, max_row=len(pts) + 1),
-                   Reference(ws, min_col=6, min_row=2, max_row=len(pts) + 1), title="Captures")
-        s.marker.symbol = "circle"
+    colours = ("1F4E79", "C55A11", "548235", "7030A0", "BF9000", "2E75B6")
+    symbols = ("circle", "diamond", "square", "triangle", "x", "star")
+    for i, (_, _, label) in enumerate(pts):  # one series per capture: the legend labels it
+        row = i + 2
+        s = Series(Reference(ws, min_col=7, min_row=row, max_row=row),
+                   Reference(ws, min_col=6, min_row=row, max_row=row), title=str(label))
+        s.marker.symbol = symbols[i % len(symbols)]
         s.marker.size = 8
-        s.marker.graphicalProperties.solidFill = "000000"
-        s.marker.graphicalProperties.line.solidFill = "000000"
+        s.marker.graphicalProperties.solidFill = colours[i % len(colours)]
+        s.marker.graphicalProperties.line.solidFill = colours[i % len(colours)]
         s.graphicalProperties.line.noFill = True
         ch.series.append(s)
-    ch.height, ch.width = 9, 14
+    ch.height, ch.width = 10, 15
     # the labelled picture (when drawn) goes first, under the points; this chart below it
     from openpyxl.worksheet.pagebreak import Break
 

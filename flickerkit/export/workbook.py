@@ -162,8 +162,12 @@ def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0, max_row: int | None = 
                                            vertical="top")
 
 
-def _hf(text: str) -> str:
-    return str(text).replace("&", "&&")[:80]
+def _hf(text: str, limit: int = 40) -> str:
+    """Header or footer text: '&' escaped, cut to fit a third of a portrait page."""
+    text = str(text)
+    if len(text) > limit:
+        text = text[:limit - 1].rstrip() + "…"
+    return text.replace("&", "&&")
 
 
 def write_turned(ws, columns: Sequence[tuple[str, str]], records: Sequence[dict[str, Any]], *,
