@@ -230,3 +230,23 @@ def test_figures_of_steady_noisy_and_short_light():
     assert [p.name for p in pics] == ["steady_waveform", "steady_spectrum", "short_waveform",
                                       "short_spectrum"]
     assert all(p.png.startswith(b"\x89PNG") and b"<svg" in p.svg for p in pics)
+
+
+def test_report_without_a_20_percent_capture_lists_it_missing(demo_record, tmp_path, capsys):
+    import json
+
+    p = tmp_path / "p.toml"
+    p.write_text(f'[product]\nname = "invented"\n[read]\ndark = "{demo_record}/ardent12_dark.csv"\n'
+                 f'[[capture]]\nlevel = 100\nfile = "{demo_record}/ardent12_level100.wav"\n'
+                 f'[[capture]]\nlevel = 50\nfile = "{demo_record}/ardent12_level050.csv"\n'
+                 '[criteria]\napply = ["ca-title24-ja8", "eu-2019-2020-svm"]\n')
+    assert main(["report", str(p), "-o", str(tmp_path / "r.xlsx"), "--json", "-q",
+                 "-j", "1"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    (reg,) = data["by_kind"]
+    ja8 = next(c for c in reg["criteria"] if c["criterion"] == "ca-title24-ja8")
+    # the 100 % capture passes JA8 (3.6 % below 200 Hz), but 20 % is required and absent
+    assert ja8["counts"]["pass"] == 1 and ja8["missing_levels"] == [20.0]
+    assert ja8["status"] == "insufficient data" and reg["status"] == "insufficient data"
+    assert data["overall"] == "insufficient data"
+    assert "20 %" in data["limiting"]
