@@ -424,6 +424,6 @@ def limit_lines(criteria: Sequence[Any], date) -> list[tuple[str, float, str]]:
     return out
 
 
-__all__ = ["FORMATS", "Picture", "Trace", "capture_pictures", "check_picture_folder", "ieee_figure", "levels_figure",
-           "limit_lines", "plan_figure", "render", "safe_name", "spectrum_figure", "trace_of",
-           "waveform_figure", "write_pictures"]
+__all__ = ["FORMATS", "Picture", "Trace", "capture_pictures", "check_picture_folder",
+           "ieee_figure", "levels_figure", "limit_lines", "plan_figure", "render", "safe_name",
+           "spectrum_figure", "trace_of", "waveform_figure", "write_pictures"]
