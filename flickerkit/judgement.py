@@ -26,6 +26,9 @@ _SEVERITY = ("fail", "insufficient data", "pass", "not applicable")
 KIND_TITLES = {"regulation": "Regulations", "recommended practice": "Recommended practices",
                "guidance": "Guidance and screening values", "user": "The user's own criteria"}
 
+_LEAD = {"regulation": "Regulation", "recommended practice": "Recommended practice",
+         "guidance": "Guidance", "user": "Your own criterion"}
+
 #: Attribute names under which a verdict may carry the component or band that decided it.
 _DECIDED_BY_NAMES = ("decided_by", "deciding_component", "component", "band")
 
@@ -243,7 +246,7 @@ def limiting_text(groups: Sequence[GroupOutcome]) -> str:
                       else f"in {n} capture{'s' if n != 1 else ''}")
                 where = "" if w.level is None else f" at {w.level:g} %"
                 by = f", decided by {o.decided_by}" if o.decided_by else ""
-                parts.append(f"{c.title} ({g.kind}) fails {lv}; "
+                parts.append(f"{_LEAD.get(g.kind, g.kind)} {c.title} fails {lv}; "
                              f"worst{where}: {_num(w.measured, '.4g')} against a limit of "
                              f"{_num(w.limit, '.4g')} {c.unit}".rstrip()
                              + f" (margin {_num(w.margin, '+.3g')}{by}).")
@@ -257,11 +260,13 @@ def limiting_text(groups: Sequence[GroupOutcome]) -> str:
                 lv = " and ".join(f"{x:g} %" for x in o.missing_levels)
                 parts.append(f"{c.title} needs a capture at {lv}, which the project lacks: "
                              f"measure it before the criterion can pass.")
+    summary = "; ".join(f"{g.title.lower()} {g.status}" for g in groups)
+    summary = (summary[:1].upper() + summary[1:] + ".") if summary else ""
     if not parts:
-        head = ("No criterion judged here fails and none lacks a required level; the "
-                "smallest margins are in the table above.")
+        head = (summary + " No criterion judged here fails and none lacks a required level; "
+                "the smallest margins are in the table above.").strip()
     else:
-        head = "What limits the product: " + " ".join(parts)
+        head = (summary + " What limits the product. " + " ".join(parts)).strip()
     if targets:
         head += (" Engineering suggestion: a higher PWM frequency, or a dimming method with "
                  "less modulation at the failing levels (analogue or hybrid dimming there), "

@@ -186,4 +186,4 @@ def verdict_table(report) -> str:
 def _wrap(text: str, width: int = 96) -> str:
     import textwrap
 
-    return "\n".join(textwrap.wrap(text, width))
+    return "\n".join(textwrap.wrap(text, width, break_on_hyphens=False))
