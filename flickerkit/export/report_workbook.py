@@ -205,7 +205,7 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
                            "Measured", "Limit", "Margin (positive = inside)", "Unit",
                            "Verification tolerance (not a loosened limit)", "Reason",
                            "Confidence in the limit"], rows,
-                      widths=[22, 19, 22, 9, 13, 10, 10, 10, 5, 12, 34, 11])
+                      widths=[22, 19, 22, 9, 13, 10, 10, 10, 5, 14, 32, 11])
     for i in range(2, last + 1):
         _style_status(vs.cell(row=i, column=5), vs.cell(row=i, column=5).value)
         for j in (2, 3, 10, 11):
