@@ -14,7 +14,7 @@ content above half the sample rate may have folded down (the assessment's
 Confidence levels:
 
 * ``sourced``: the limit was read in the legal or normative text (or a quote
-  of it) -- see the methods brief;
+  of it); ``read_in`` names the text that was read;
 * ``secondary``: reported consistently by secondary sources, primary row not
   read;
 * ``recalled``: from memory, not verified in the document -- treat as a
@@ -37,6 +37,8 @@ from .errors import SettingsError
 
 STATUSES = ("pass", "fail", "not applicable", "insufficient data")
 CONFIDENCES = ("sourced", "secondary", "recalled")
+#: What a criterion's document is, in the order reports show the groups.
+KINDS = ("regulation", "recommended practice", "guidance", "user")
 
 #: Tolerance when matching a capture's dimming level to a criterion's levels [percentage points].
 LEVEL_TOLERANCE = 0.5
@@ -83,6 +85,20 @@ class Criterion:
         Unit of the measured value and limit, for reports.
     note : str
         Anything a reader of the verdict must know.
+    kind : str
+        What the document is, one of :data:`KINDS`: ``regulation`` (law),
+        ``recommended practice`` (a standard's recommendation), ``guidance``
+        (screening values from papers or guides) or ``user`` (the user's own).
+        Verdicts are summarised per kind, never mixed into one line.
+    read_in : str
+        The text the limit was read in (edition, consolidated version), when
+        ``confidence`` is ``sourced``.
+    verification_tolerance : float, optional
+        Tolerance the document allows authorities when they verify a declared
+        value [criterion unit]; shown beside margins as context, never added
+        to the limit.
+    tolerance_note : str
+        Where the tolerance comes from and what it applies to.
     """
 
     id: str
@@ -98,6 +114,10 @@ class Criterion:
     requires: tuple[str, ...] = ()
     unit: str = ""
     note: str = ""
+    kind: str = "user"
+    read_in: str = ""
+    verification_tolerance: float | None = None
+    tolerance_note: str = ""
 
     def __post_init__(self) -> None:
         if self.comparison not in _COMPARE:
@@ -108,6 +128,9 @@ class Criterion:
                                 f"{', '.join(CONFIDENCES)}")
         if not self.schedule:
             raise SettingsError(f"criterion {self.id}: no limit given")
+        if self.kind not in KINDS:
+            raise SettingsError(f"criterion {self.id}: kind must be one of {', '.join(KINDS)}, "
+                                f"got {self.kind!r}")
 
     @property
     def effective_from(self) -> _dt.date | None:
@@ -178,10 +201,20 @@ def _d(y: int, m: int, d: int) -> _dt.date:
     return _dt.date(y, m, d)
 
 
+_EU_TEXT = ("Regulation (EU) 2019/2020 as amended by Regulation (EU) 2021/341, consolidated "
+            "text of 1 September 2021 (EUR-Lex, ELI http://data.europa.eu/eli/reg/2019/2020/oj)")
+_EU_SOURCE = ("Regulation (EU) 2019/2020, Annex II, Table 4, as amended by Regulation (EU) "
+              "2021/341 (consolidated text of 1 September 2021)")
 _EU_SCOPE = ("LED and OLED mains light sources (Regulation (EU) 2019/2020, Annex II, Table 4), "
              "at full load")
-_EU_EXEMPT = ("light sources intended for outdoor, industrial or other applications where "
-              "lighting standards allow a CRI < 80 (as amended by 2021/341)")
+_EU_SVM_EXEMPT = ("light sources intended for use in outdoor applications, industrial "
+                  "applications or other applications where lighting standards allow a CRI < 80 "
+                  "(Annex II, Table 4, SVM row only)")
+_EU_TOLERANCE = ("Regulation (EU) 2019/2020, Annex IV, Table 6: in market-surveillance "
+                 "verification the arithmetic mean of 10 units may exceed the declared value by "
+                 "no more than 0,1. A tolerance for authorities verifying a declaration, not a "
+                 "loosening of the limit.")
+_GB_SOURCE = "GB/T 50034-2024, Standard for lighting design of buildings, clause 4.4"
 
 #: The built-in criteria, by id.
 REGISTRY: dict[str, Criterion] = {c.id: c for c in (
@@ -192,10 +225,11 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         applies_to="LED lighting, every dimming level (recommended practice, not a regulation)",
         # the limit depends on the modulation frequency: taken from the assessment
         metric="ieee1789.low_risk", comparison="<", schedule=((_d(2015, 6, 5), math.nan),),
-        confidence="recalled", requires=("periodic",), unit="%",
+        confidence="recalled", requires=("periodic",), unit="%", kind="recommended practice",
         note="Mod% below 0.025 f (f < 90 Hz) or 0.08 f (90-1250 Hz), no restriction above "
-             "1250 Hz; lines recalled, not read in the standard (methods brief §2.2). The limit "
-             "depends on the modulation frequency; the verdict uses the headline IEEE 1789 mode.",
+             "1250 Hz; lines recalled from IEEE Std 1789-2015, not read in the standard. The "
+             "limit depends on the modulation frequency; the verdict uses the headline IEEE "
+             "1789 mode.",
     ),
     Criterion(
         id="ieee1789-noel",
@@ -203,32 +237,34 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         source="IEEE Std 1789-2015, clause 8, Recommended Practice 2",
         applies_to="LED lighting, every dimming level (recommended practice, not a regulation)",
         metric="ieee1789.noel", comparison="<", schedule=((_d(2015, 6, 5), math.nan),),
-        confidence="recalled", requires=("periodic",), unit="%",
+        confidence="recalled", requires=("periodic",), unit="%", kind="recommended practice",
         note="Mod% below 0.01 f (f < 90 Hz) or 0.0333 f (90-3000 Hz), no restriction above "
-             "3000 Hz; recalled, not read in the standard (methods brief §2.2).",
+             "3000 Hz; recalled from IEEE Std 1789-2015, not read in the standard.",
     ),
     Criterion(
         id="eu-2019-2020-svm",
         title="EU ecodesign: stroboscopic visibility measure at full load",
-        source="Regulation (EU) 2019/2020, Annex II, Table 4, as amended by Regulation (EU) "
-               "2021/341, Annex IV point 2(a)",
+        source=_EU_SOURCE,
         applies_to=_EU_SCOPE, metric="svm", comparison="<=",
         schedule=((_d(2021, 9, 1), 0.9), (_d(2024, 9, 1), 0.4)), levels=(100.0,),
-        confidence="sourced", exemptions=_EU_EXEMPT, unit="",
-        note="SVM <= 0.9 from 1 September 2021, <= 0.4 from 1 September 2024 (methods brief "
-             "§3.6). The SVM threshold function used by flickerkit is the sourced power form; "
-             "which form IEC TR 63158 makes normative is unresolved (brief §3.2).",
+        confidence="sourced", exemptions=_EU_SVM_EXEMPT, unit="", kind="regulation",
+        read_in=_EU_TEXT, verification_tolerance=0.1, tolerance_note=_EU_TOLERANCE,
+        note="\"SVM <= 0,9 at full-load\" from 1 September 2021 and \"SVM <= 0,4 at "
+             "full-load\" from 1 September 2024, read in the consolidated text. The SVM "
+             "threshold function used by flickerkit is the power form of Perz et al., JOSA A "
+             "35(2) 309 (2018); which form IEC TR 63158:2018 makes normative was not read.",
     ),
     Criterion(
         id="eu-2019-2020-pst",
         title="EU ecodesign: short-term flicker severity Pst LM at full load",
-        source="Regulation (EU) 2019/2020, Annex II, Table 4",
+        source=_EU_SOURCE,
         applies_to=_EU_SCOPE, metric="pst_lm", comparison="<=",
-        schedule=((_d(2021, 9, 1), 1.0),), levels=(100.0,), confidence="secondary",
-        exemptions=_EU_EXEMPT, unit="", requires=("pst-duration",),
-        note="Pst LM <= 1.0 reported consistently by secondary sources; the primary row was not "
-             "read (brief §4.1). flickerkit's Pst LM calibration is provisional until the IEC TR "
-             "61547-1 constants are supplied.",
+        schedule=((_d(2021, 9, 1), 1.0),), levels=(100.0,), confidence="sourced",
+        unit="", requires=("pst-duration",), kind="regulation",
+        read_in=_EU_TEXT, verification_tolerance=0.1, tolerance_note=_EU_TOLERANCE,
+        note="\"Pst LM <= 1,0 at full-load\" from 1 September 2021, read in the consolidated "
+             "text; this row has no exemption. flickerkit's Pst LM calibration is provisional "
+             "until the IEC TR 61547-1 constants are supplied.",
     ),
     Criterion(
         id="ca-title24-ja8",
@@ -238,10 +274,39 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         applies_to="light sources with their specified control, California Title 24 JA8",
         metric="filtered_percent_flicker.200", comparison="<", schedule=((None, 30.0),),
         levels=(100.0, 20.0), confidence="sourced", requires=("ja10-sampling",), unit="%",
+        kind="regulation", read_in="JA10.5 and JA10.6 read in the 2022 Reference Appendices",
         note="Percent amplitude modulation below 30 % for frequencies below 200 Hz (JA10.6 "
              "filtered at 200 Hz). JA8-2022 names full light output; JA10 measures 100 % and "
-             "20 % (and the minimum claimed level); whether older editions required 20 % was "
-             "not verified.",
+             "20 % (and the minimum claimed level), and flickerkit requires both 100 % and 20 % "
+             "captures: a missing level leaves the criterion without a pass. Whether older "
+             "editions required 20 % was not verified.",
+    ),
+    Criterion(
+        id="gbt50034-pst",
+        title="China GB/T 50034-2024: Pst LM of light sources and luminaires",
+        source=_GB_SOURCE,
+        applies_to="light sources and luminaires in the lighting design of buildings (China); "
+                   "GB/T is a recommended national standard, binding where a contract or code "
+                   "invokes it",
+        metric="pst_lm", comparison="<=", schedule=((None, 1.0),), confidence="sourced",
+        requires=("pst-duration",), unit="", kind="recommended practice",
+        read_in="GB/T 50034-2024, clause 4.4",
+        note="Pst LM <= 1. The clause states no dimming level in the text read: flickerkit "
+             "applies it at every level given. flickerkit's Pst LM calibration is provisional "
+             "until the IEC TR 61547-1 constants are supplied.",
+    ),
+    Criterion(
+        id="gbt50034-svm",
+        title="China GB/T 50034-2024: SVM where people work or stay for long periods",
+        source=_GB_SOURCE,
+        applies_to="places where people work or stay for long periods (lighting design of "
+                   "buildings, China); places where children study for long periods follow "
+                   "GB 55016 instead",
+        metric="svm", comparison="<=", schedule=((None, 1.3),), confidence="sourced",
+        unit="", kind="recommended practice", read_in="GB/T 50034-2024, clause 4.4",
+        note="SVM <= 1.3. The clause states no dimming level in the text read: flickerkit "
+             "applies it at every level given. The SVM threshold function is the power form "
+             "of Perz et al., JOSA A 35(2) 309 (2018).",
     ),
     Criterion(
         id="seizure-screen-below-90hz",
@@ -250,7 +315,7 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
                "IEEE 1789 compendium (2018), p. 57",
         applies_to="any light source; flicker at frequencies below 90 Hz",
         metric="below_90hz_modulation", comparison="<=", schedule=((None, 5.0),),
-        confidence="sourced", requires=("periodic",), unit="%",
+        confidence="sourced", requires=("periodic",), unit="%", kind="guidance",
         note="Guidance: all flicker below 90 Hz should satisfy Mod% <= 5 %. Applied to the "
              "modulation depth of the light low-passed below 90 Hz (every component below "
              "90 Hz, whatever carrier rides above); not applicable only when nothing below "
@@ -262,7 +327,8 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         source="NEMA 77 (2017; 2023 edition), guidance for limited-motion indoor applications",
         applies_to="indoor applications with limited motion (offices)",
         metric="svm", comparison="<=", schedule=((None, 1.6),), confidence="recalled",
-        note="The figure 1.6 is recalled, not read (methods brief §5): a screening value only.",
+        kind="guidance",
+        note="The figure 1.6 is recalled from NEMA 77, not read in it: a screening value only.",
     ),
     Criterion(
         id="nema77-guidance-pst",
@@ -270,8 +336,8 @@ REGISTRY: dict[str, Criterion] = {c.id: c for c in (
         source="NEMA 77 (2017; 2023 edition)",
         applies_to="indoor applications with limited motion (offices)",
         metric="pst_lm", comparison="<=", schedule=((None, 1.0),), confidence="recalled",
-        requires=("pst-duration",),
-        note="The figure 1.0 is recalled, not read (methods brief §5): a screening value only.",
+        requires=("pst-duration",), kind="guidance",
+        note="The figure 1.0 is recalled from NEMA 77, not read in it: a screening value only.",
     ),
 )}
 
@@ -559,7 +625,7 @@ def from_mapping(data: Mapping[str, Any], *, where: str = "") -> Criterion:
         schedule=((start, limit),), levels=levels,
         confidence=str(data.get("confidence", "recalled")),
         requires=tuple(data.get("requires", ())), unit=str(data.get("unit", "")),
-        note=str(data.get("note", "")),
+        note=str(data.get("note", "")), kind="user",
     )
     return crit
 
@@ -612,5 +678,6 @@ def load_user_criteria(path: str | Path) -> dict[str, Criterion]:
     return out
 
 
-__all__ = ["Criterion", "Verdict", "REGISTRY", "DEFAULT_CRITERIA", "STATUSES", "get", "judge",
+__all__ = ["Criterion", "Verdict", "REGISTRY", "DEFAULT_CRITERIA", "STATUSES", "KINDS", "get",
+           "judge",
            "judge_all", "overall", "from_mapping", "load_user_criteria"]

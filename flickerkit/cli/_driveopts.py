@@ -176,7 +176,8 @@ def parse_levels(text: str):
     return vals / 100.0
 
 
-def emit(args: argparse.Namespace, out: dict, text, write_workbook, reminder: str) -> int:
+def emit(args: argparse.Namespace, out: dict, text, write_workbook, reminder: str, *,
+         draw=None) -> int:
     """Print a modelled-light result (JSON with the caution, or text), write its workbook,
     and remind on stderr that a model is not a measurement."""
     import sys
@@ -189,8 +190,17 @@ def emit(args: argparse.Namespace, out: dict, text, write_workbook, reminder: st
         sys.stdout.write(dumps({**out, "caution": CAUTION_TEXT}))
     else:
         sys.stdout.write(text(out))
+    pictures = None
+    if getattr(args, "pictures", None) and draw is not None:
+        from ..export.figures import write_pictures
+
+        pictures = draw(out)
+        write_pictures(pictures, args.pictures, force=args.force)
+        if not args.quiet:
+            print(f"pictures written: {args.pictures}/ ({len(pictures)} as PNG and SVG)",
+                  file=sys.stderr)
     if args.xlsx:
-        write_workbook(args.xlsx, out, force=args.force)
+        write_workbook(args.xlsx, out, force=args.force, pictures=pictures)
         if not args.quiet:
             print(f"workbook written: {args.xlsx}", file=sys.stderr)
     if not args.quiet:

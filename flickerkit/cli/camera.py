@@ -149,7 +149,7 @@ def text(out: dict) -> str:
 def write_workbook(path, out: dict, *, force: bool = False):
     from openpyxl import Workbook
 
-    from ..export.workbook import set_properties, write_rows
+    from ..export.workbook import print_setup, set_properties, write_rows
     from ..fileio import write_with
 
     wb = Workbook()
@@ -165,4 +165,5 @@ def write_workbook(path, out: dict, *, force: bool = False):
                [[g["frequency_hz"], g["worst_band_contrast_percent"], g["reason"]]
                 for g in out["suggestions"]], widths=[16, 24, 90])
     set_properties(wb, "flickerkit camera banding", f"{out['drive']} at level {out['level']:g} %")
+    print_setup(wb, product=str(out["drive"]), document="Camera banding (modelled light)")
     return write_with(path, lambda tmp: wb.save(tmp), force=force)

@@ -54,7 +54,8 @@ def run(args: argparse.Namespace) -> int:
     if not args.quiet:
         print(f"INVENTED demo: {demo.PRODUCT['name']} by {demo.PRODUCT['maker']}; captures "
               f"and project written to {folder}/", file=sys.stderr)
-    rargs = ["report", str(project), "-o", str(workbook), "--force"]
+    rargs = ["report", str(project), "-o", str(workbook), "--force",
+             "--pictures", str(folder / "pictures")]
     if args.json:
         rargs.append("--json")
     if args.quiet:

@@ -43,6 +43,9 @@ def add_parser(sub) -> None:
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
     o.add_argument("--force", action="store_true", help="replace an existing workbook")
     o.add_argument("-q", "--quiet", action="store_true", help="no progress or cautions on stderr")
+    from .report import add_picture_option
+
+    add_picture_option(o)
     p.set_defaults(run=run)
 
 
@@ -90,9 +93,11 @@ def run(args: argparse.Namespace) -> int:
     out = result.to_dict()
     from ._driveopts import emit
 
-    return emit(args, out, table, write_workbook,
+    from ..export.modelbooks import sweep_pictures, write_sweep_workbook
+
+    return emit(args, out, table, write_sweep_workbook,
                 "modelled light: figures hold for the model as described, not for a built "
-                "product; measure the product.")
+                "product; measure the product.", draw=sweep_pictures)
 
 
 def table(out: dict) -> str:
@@ -120,62 +125,3 @@ def _first_failing_text(out: dict, name: str, lv, fmt) -> str:
     if name in out.get("not_assessed", ()):
         return "not assessed (no level gives the figure)"
     return "none" if lv is None else fmt(lv, ".4g") + " %"
-
-
-SWEEP_COLUMNS = (
-    ("Level [%]", "level", None),
-    ("Relative light [%]", "relative_light", 100.0),
-    ("Fundamental frequency [Hz]", "frequency_hz", None),
-    ("Percent flicker [%]", "percent_flicker", None),
-    ("Flicker index [1]", "flicker_index", None),
-    ("SVM [1]", "svm", None),
-    ("IEEE 1789 region", "ieee1789.region", None),
-    ("Low-risk margin [% points]", "ieee1789.low_risk_margin_percent", None),
-    ("NOEL margin [% points]", "ieee1789.noel_margin_percent", None),
-    ("Per-harmonic region", "ieee1789.per_harmonic.region", None),
-    ("Model percent flicker [%]", "model_percent_flicker", None),
-    ("Sample rate [Hz]", "sample_rate_hz", None),
-    ("Model", "model", None),
-    ("Warnings", "warnings", None),
-)
-
-
-def write_workbook(path, out: dict, *, force: bool = False):
-    from openpyxl import Workbook
-
-    from .. import __version__
-    from ..export.workbook import CAUTION, lookup, put, set_properties, write_rows
-    from ..fileio import write_with
-
-    wb = Workbook()
-    ws = wb.active
-    ws.title = "Levels"
-
-    def cell(r, key, scale):
-        v = lookup(r, key)
-        return v * scale if scale and isinstance(v, (int, float)) else v
-
-    last = write_rows(ws, [h for h, _, _ in SWEEP_COLUMNS],
-                      ([cell(r, k, s) for _, k, s in SWEEP_COLUMNS] for r in out["levels"]))
-    put(ws, last + 2, 1, CAUTION)
-    put(ws, last + 3, 1, "Modelled light: figures hold for the model as described; measure the "
-                         "built product.")
-    fs = wb.create_sheet("First failing level")
-    write_rows(fs, ["Criterion", "First failing level [%]"],
-               [[k, "not assessed" if k in out.get("not_assessed", ()) else
-                 v] for k, v in out["first_failing_level"].items()],
-               widths=[30, 24])
-    hs = wb.create_sheet("Harmonics")
-    rows = []
-    for r in out["levels"]:
-        for h in r.get("harmonics") or []:
-            rows.append([r["level"], h["order"], h["frequency_hz"], h["amplitude"],
-                         h["phase_deg"]])
-    write_rows(hs, ["Level [%]", "Harmonic order", "Frequency [Hz]", "Amplitude / mean [1]",
-                    "Phase [deg]"], rows)
-    ss = wb.create_sheet("Inputs and settings")
-    write_rows(ss, ["Setting", "Value"], [["flickerkit version", __version__],
-                                          ["command", "drive"], ["drive", out["drive"]]],
-               widths=[30, 90])
-    set_properties(wb, "flickerkit dimming sweep", "Modelled temporal light modulation per level")
-    return write_with(path, lambda tmp: wb.save(tmp), force=force)

@@ -145,15 +145,45 @@ def add_parser(sub) -> None:
     o.add_argument("--json", action="store_true",
                    help="print a JSON array (one object per capture) instead of the table")
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
-    o.add_argument("--force", action="store_true", help="replace an existing workbook")
+    o.add_argument("--force", action="store_true",
+                   help="replace an existing workbook (and pictures)")
     o.add_argument("-q", "--quiet", action="store_true",
                    help="no progress, read summary or cautions on stderr")
     o.add_argument("--peek", action="store_true",
                    help="only show what would be read from each capture (layout, column and "
                         "unit, time base, sample rate, samples, lines skipped) and its first "
                         "rows; measure nothing")
+    from .report import add_picture_option
+
+    add_picture_option(p)
     add_batch_options(p)
     p.set_defaults(run=run)
+
+
+def _pictures(args, outcomes, settings):
+    """Waveform and spectrum of each measured capture, written to args.pictures."""
+    from ..errors import FlickerkitError
+    from ..export.figures import capture_pictures, trace_of, write_pictures
+    from ..readers import read_capture
+
+    opts = read_options(args, args.signal)
+    traces = {}
+    records = []
+    for o in outcomes:
+        if o.record is None:
+            continue
+        records.append(o.record)
+        try:
+            cap = read_capture(o.path, opts)
+        except (FlickerkitError, OSError):
+            continue
+        traces[o.record["label"]] = trace_of(cap, o.record.get("frequency_hz"))
+    pics = capture_pictures(records, traces, threshold=settings.svm_threshold)
+    write_pictures(pics, args.pictures, force=args.force)
+    if not args.quiet:
+        print(f"pictures written: {args.pictures}/ ({len(pics)} as PNG and SVG)",
+              file=sys.stderr)
+    return pics
 
 
 def add_batch_options(p: argparse.ArgumentParser) -> None:
@@ -178,6 +208,10 @@ def run(args: argparse.Namespace) -> int:
         check_writable(args.xlsx, force=args.force)
     if getattr(args, "peek", False):
         return peek(args.captures, read_options(args, args.signal))
+    if args.pictures:
+        from ..export.figures import check_picture_folder
+
+        check_picture_folder(args.pictures)
     settings = assess_settings(args)
     outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings)
     records, label_notes = distinct_records(outcomes)
@@ -203,12 +237,18 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(voltage_table(records))
     else:
         sys.stdout.write(summary_table(records))
+    pictures = None
+    if args.pictures and args.signal == "light":
+        pictures = _pictures(args, outcomes, settings)
+    elif args.pictures and not args.quiet:
+        print("flickerkit: note: --pictures draws light captures only; none drawn",
+              file=sys.stderr)
     if args.xlsx:
         from ..export.workbook import VOLTAGE_COLUMNS, MEASURE_COLUMNS, write_measure_workbook
 
         columns = VOLTAGE_COLUMNS if args.signal == "voltage" else MEASURE_COLUMNS
         write_measure_workbook(args.xlsx, records, settings_record(args, settings),
-                               force=args.force, columns=columns)
+                               force=args.force, columns=columns, pictures=pictures)
         if not args.quiet:
             print(f"workbook written: {args.xlsx}", file=sys.stderr)
     if not args.quiet:
@@ -380,8 +420,8 @@ def settings_record(args: argparse.Namespace, settings=None) -> dict:
         record |= {
             "IEEE 1789 headline mode": args.ieee1789_mode, "harmonics reported": args.harmonics,
             "IEEE 1789 boundaries": "RP1 low-risk 0.025f (<90 Hz), 0.08f (90-1250 Hz); RP2 "
-                                    "NOEL 0.01f, 0.0333f (90-3000 Hz); recalled, not read in "
-                                    "the standard (methods brief §2.2)",
+                                    "NOEL 0.01f, 0.0333f (90-3000 Hz); recalled from IEEE "
+                                    "Std 1789-2015, not read in the standard",
             "SVM threshold model": f"{model.name}: {model.formula} ({model.status}; "
                                    f"{model.reference})",
             "SVM band [Hz]": f"{settings.svm_f_min_hz:g} to {DEFAULT_F_MAX_HZ:g}",

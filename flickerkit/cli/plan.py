@@ -76,6 +76,9 @@ def add_parser(sub) -> None:
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
     o.add_argument("--force", action="store_true", help="replace an existing workbook")
     o.add_argument("-q", "--quiet", action="store_true", help="no cautions on stderr")
+    from .report import add_picture_option
+
+    add_picture_option(o)
     p.set_defaults(run=run)
 
 
@@ -144,8 +147,11 @@ def run(args: argparse.Namespace) -> int:
                resolution=res, tolerance=tol)
     from ._driveopts import emit
 
-    return emit(args, out, text, write_workbook,
-                "modelled light: verify the chosen setting by measuring the product.")
+    from ..export.modelbooks import plan_pictures, write_plan_workbook
+
+    return emit(args, out, text, write_plan_workbook,
+                "modelled light: verify the chosen setting by measuring the product.",
+                draw=plan_pictures)
 
 
 def text(out: dict) -> str:
@@ -196,50 +202,3 @@ def text(out: dict) -> str:
     for o in out["options"]:
         s.append(f"  option, {o['option']}: {o['cost']}")
     return "\n".join(s) + "\n"
-
-
-def write_workbook(path, out: dict, *, force: bool = False):
-    from openpyxl import Workbook
-
-    from .. import __version__
-    from ..export.workbook import CAUTION, put, set_properties, write_rows
-    from ..fileio import write_with
-
-    wb = Workbook()
-    ws = wb.active
-    ws.title = "Plan"
-    rows = [["Drive", out["drive"]], ["Targets", ", ".join(out["targets"])],
-            ["Lowest frequency, exact clock [Hz]", out["lowest_frequency_hz"]],
-            ["Clock tolerance [+- %]", out.get("tolerance_percent")],
-            ["Recommended frequency [Hz]", out.get("recommended_frequency_hz")],
-            ["Smallest level [%]", min(out["levels"])],
-            ["Resolution needed", out["resolution"]["need"]],
-            ["Counts needed", out["resolution"]["counts_needed"]],
-            ["Verdict", out.get("verdict")]]
-    rows += [[f"Lowest frequency for {r['targets'][0]} [Hz]", r["frequency_hz"]]
-             for r in out["per_target"]]
-    last = write_rows(ws, ["Item", "Value"], rows, widths=[40, 80])
-    put(ws, last + 2, 1, CAUTION)
-    cols = ["mode", "prescaler", "top", "frequency_hz", "counts_per_period", "bits", "duty_step",
-            "tick_s", "minimum_duty", "minimum_count", "meets"]
-    heads = ["Mode", "Prescaler", "TOP", "Frequency [Hz]", "Counts per period", "Bits",
-             "Duty step [1]", "Tick [s]", "Minimum duty [1]", "Minimum count", "Meets"]
-    ts = wb.create_sheet("Timer settings")
-    write_rows(ts, heads, [[", ".join(r[c]) if c == "meets" else r[c] for c in cols]
-                           for r in out["settings"]])
-    ab = wb.create_sheet("Abrupt changes")
-    write_rows(ab, ["PWM frequency [Hz]", "Target", "Cause", "Worst just below", "Worst at",
-                    "Worst just above", "Inside recommended band"],
-               [[a["frequency_hz"], a["target"], a["cause"], a["figure_below"], a["figure_at"],
-                 a["figure_above"], "yes" if a["inside_band"] else "no"]
-                for a in out.get("abrupt_changes", ())], widths=[18, 10, 70, 16, 16, 16, 12])
-    os_ = wb.create_sheet("Options")
-    write_rows(os_, ["Option", "Cost"], [[o["option"], o["cost"]] for o in out["options"]],
-               widths=[36, 120])
-    ss = wb.create_sheet("Inputs and settings")
-    write_rows(ss, ["Setting", "Value"], [["flickerkit version", __version__],
-                                          ["command", "plan"],
-                                          ["range [Hz]", f"{out['range_hz'][0]:g}..{out['range_hz'][1]:g}"],
-                                          ["timer", str(out["timer"])]], widths=[30, 90])
-    set_properties(wb, "flickerkit frequency plan", "PWM frequency and timer plan")
-    return write_with(path, lambda tmp: wb.save(tmp), force=force)

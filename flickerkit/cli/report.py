@@ -20,13 +20,21 @@ dimming level read from names like ..._level050.csv or ..._50pct.csv.
 
 Criteria (ids for [criteria] apply = [...]):
   ieee1789-low-risk, ieee1789-noel, eu-2019-2020-svm, eu-2019-2020-pst,
-  ca-title24-ja8, seizure-screen-below-90hz, nema77-guidance-svm,
-  nema77-guidance-pst (see README.md for sources and confidence)
+  ca-title24-ja8, gbt50034-pst, gbt50034-svm, seizure-screen-below-90hz,
+  nema77-guidance-svm, nema77-guidance-pst (see README.md for sources and confidence)
 
 examples:
   flickerkit report ardent12_project.toml -o ardent12_record.xlsx
   flickerkit report captures/ -o record.xlsx --force --json > verdicts.json
 """
+
+
+def add_picture_option(p) -> None:
+    """The option that asks for pictures (shared by measure, report, drive and plan)."""
+    p.add_argument("--pictures", metavar="FOLDER",
+                   help="also draw the pictures (waveform and spectrum per capture, IEEE 1789 "
+                        "chart, metrics against level) as PNG and SVG files in FOLDER, and "
+                        "place them in the workbook")
 
 
 def add_parser(sub) -> None:
@@ -37,11 +45,16 @@ def add_parser(sub) -> None:
     p.add_argument("project", metavar="PROJECT", help="project file (.toml) or folder of captures")
     p.add_argument("-o", "--output", metavar="WORKBOOK.xlsx", required=True,
                    help="workbook to write")
-    p.add_argument("--force", action="store_true", help="replace an existing workbook")
+    p.add_argument("--force", action="store_true",
+                   help="replace an existing workbook (and pictures, PDF)")
     p.add_argument("--json", action="store_true",
                    help="print the verdicts and figures as JSON instead of the table")
     p.add_argument("-q", "--quiet", action="store_true",
                    help="no progress bar or read summary on stderr")
+    add_picture_option(p)
+    p.add_argument("--pdf", metavar="RECORD.pdf",
+                   help="also print the workbook to a PDF with LibreOffice (soffice), when it is "
+                        "installed; without it a note says so and the workbook stands")
     add_batch_options(p)
     p.set_defaults(run=run)
 
@@ -53,6 +66,12 @@ def run(args: argparse.Namespace) -> int:
     if args.workers is not None and args.workers < 1:
         raise SettingsError("--workers must be at least 1")
     check_writable(args.output, force=args.force)
+    if args.pictures:
+        from ..export.figures import check_picture_folder
+
+        check_picture_folder(args.pictures)
+    if args.pdf:
+        check_writable(args.pdf, force=args.force)
     from ..project import load_project
     from ..report import build_report
 
@@ -93,7 +112,14 @@ def run(args: argparse.Namespace) -> int:
                          source=str(args.project))
     from ..export.report_workbook import write_report_workbook
 
-    write_report_workbook(args.output, report, force=args.force)
+    pictures = None
+    if args.pictures:
+        from ..export.figures import write_pictures
+        from ..report import report_pictures
+
+        pictures = report_pictures(report)
+        write_pictures(pictures, args.pictures, force=args.force)
+    write_report_workbook(args.output, report, force=args.force, pictures=pictures)
     if args.json:
         from ..export.jsonout import dumps
 
@@ -107,6 +133,18 @@ def run(args: argparse.Namespace) -> int:
     for _label, err in report.failures:
         print(f"flickerkit: error: {err}", file=sys.stderr)
     print(f"workbook written: {args.output}", file=sys.stderr)
+    if pictures:
+        print(f"pictures written: {args.pictures}/ ({len(pictures)} as PNG and SVG)",
+              file=sys.stderr)
+    if args.pdf:
+        from ..errors import OutputError
+        from ..export.pdf import workbook_to_pdf
+
+        try:
+            workbook_to_pdf(args.output, args.pdf, force=args.force)
+            print(f"PDF written: {args.pdf}", file=sys.stderr)
+        except OutputError as exc:
+            print(f"flickerkit: note: {exc}", file=sys.stderr)
     from ..report import CAUTIONS
 
     print("\n".join(f"caution: {c}" for c in CAUTIONS),
@@ -132,8 +170,29 @@ def verdict_table(report) -> str:
 
     prod = report.project.product
     out = [f"{prod.get('name', '')}" + (f" ({prod['model']})" if prod.get("model") else ""),
-           f"judged on {report.project.judged_on.isoformat()}; overall: "
-           f"{report.overall.upper()}", ""]
+           f"judged on {report.project.judged_on.isoformat()}", ""]
+    for g in report.groups:
+        out.append(f"{g.title}: {g.status.upper()}")
+        rows = []
+        for o in g.criteria:
+            w = o.worst
+            tol = o.criterion.verification_tolerance
+            rows.append([o.criterion.id, o.status,
+                         "–" if w is None else fmt(w.level, "g"),
+                         "–" if w is None else fmt(w.measured, ".4g"),
+                         "–" if w is None else fmt(w.limit, ".4g"),
+                         "–" if w is None else fmt(w.margin, "+.3g"),
+                         "–" if tol is None else f"{tol:g}",
+                         ", ".join(f"{x:g} %" for x in o.missing_levels) or "–",
+                         o.decided_by[:50]])
+        out.append(render(["  criterion", "verdict", "worst level [%]", "measured", "limit",
+                           "margin", "verification tolerance", "missing levels",
+                           "decided by"],
+                          [["  " + r[0], *r[1:]] for r in rows],
+                          right=[False, False, True, True, True, True, True, False, False]))
+    out.append(_wrap(report.limiting))
+    out.append("")
+    out.append("every verdict:")
     rows = []
     for v in report.verdicts:
         rows.append([v.criterion, v.label, fmt(v.level, "g"), v.status, fmt(v.measured, ".4g"),
@@ -142,3 +201,9 @@ def verdict_table(report) -> str:
                        "margin", "reason"], rows,
                       right=[False, False, True, False, True, True, True, False]))
     return "\n".join(out)
+
+
+def _wrap(text: str, width: int = 96) -> str:
+    import textwrap
+
+    return "\n".join(textwrap.wrap(text, width, break_on_hyphens=False))

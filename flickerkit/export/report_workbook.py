@@ -17,7 +17,8 @@ import numpy as np
 
 from .. import __version__
 from ..fileio import write_with
-from .workbook import MEASURE_COLUMNS, lookup, print_setup, put, set_properties, write_rows
+from .workbook import (MEASURE_COLUMNS, add_pictures, fit_rows, lookup, print_setup, put,
+                       set_properties, write_rows, write_turned)
 
 STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "insufficient data": "FFEB9C",
                "not applicable": "E7E6E6"}
@@ -42,7 +43,7 @@ METHOD_NOTES: tuple[tuple[str, str, str], ...] = (
     ("Flicker index", "IES Lighting Handbook 5.9.9.4; IEC 60050-845 IEV 845-22-094",
      "Area above the mean over total area, over an integer number of periods. Sourced "
      "definition. On sampled data its bias is about 1/(samples per period)."),
-    ("Fundamental frequency", "this project",
+    ("Fundamental frequency", "flickerkit's own method (no published source)",
      "Autocorrelation of the mean-removed signal, refined at multiples of the period (or by a "
      "least-squares harmonic fit for short captures)."),
     ("IEEE 1789 regions", "IEEE Std 1789-2015, clause 8, Recommended Practices 1 and 2",
@@ -60,10 +61,14 @@ METHOD_NOTES: tuple[tuple[str, str, str], ...] = (
     ("Filtered percent flicker", "California 2022 Reference Appendices, JA10.6",
      "Percent flicker after setting the Fourier components above 40, 90, 200, 400 and 1000 Hz "
      "to zero; a component exactly at a cut-off is kept."),
-    ("Noise floor", "this project",
+    ("Noise floor", "flickerkit's own method (no published source)",
      "Percent flicker that the measured white noise alone would show on steady light "
      "(sigma sqrt(2 ln n)/mean)."),
 )
+
+
+#: Short forms of the statuses in the summary's matrix (a legend follows it).
+_SHORT = {"not applicable": "n/a", "insufficient data": "insufficient"}
 
 
 def _style_status(cell, status: str) -> None:
@@ -75,8 +80,15 @@ def _style_status(cell, status: str) -> None:
         cell.font = Font(bold=True, color=STATUS_FONT[status])
 
 
-def write_report_workbook(path: str | Path, report, *, force: bool = False) -> Path:
-    """Write a :class:`~flickerkit.report.Report` as a workbook, atomically."""
+def write_report_workbook(path: str | Path, report, *, force: bool = False,
+                          pictures=None) -> Path:
+    """Write a :class:`~flickerkit.report.Report` as a workbook, atomically.
+
+    Parameters
+    ----------
+    pictures : sequence of flickerkit.export.figures.Picture, optional
+        Placed as images on the sheets they explain (captures on "Pictures").
+    """
     from openpyxl import Workbook
     from openpyxl.styles import Alignment, Font
 
@@ -92,6 +104,7 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     ws = wb.active
     ws.title = "Summary"
     bold = Font(bold=True)
+    wrap = Alignment(wrap_text=True, vertical="top")
     put(ws, 1, 1, "Temporal light modulation record").font = Font(bold=True, size=14)
     r = 3
     for key in ("name", "model", "maker", "description"):
@@ -102,10 +115,45 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     put(ws, r, 1, "Judged on").font = bold
     put(ws, r, 2, report.project.judged_on.isoformat())
     r += 1
-    put(ws, r, 1, "Overall verdict").font = Font(bold=True, size=12)
-    c = put(ws, r, 2, report.overall.upper())
-    _style_status(c, report.overall)
+    put(ws, r, 1, "Run at").font = bold
+    put(ws, r, 2, report.run_at)
     r += 2
+    put(ws, r, 1, "Verdicts by kind of document (each kind is summed up apart)").font = \
+        Font(bold=True, size=12)
+    heads = ["Criterion", "Verdict", "Worst level [%]", "Capture", "Measured", "Limit",
+             "Margin (+ inside)", "Verification tolerance", "Missing levels [%]", "Decided by"]
+    for g in report.groups:
+        r += 2
+        put(ws, r, 1, f"{g.title}: overall").font = Font(bold=True, size=12)
+        _style_status(put(ws, r, 2, g.status.upper()), g.status)
+        r += 1
+        for j, h in enumerate(heads, start=1):
+            c = put(ws, r, j, h)
+            c.font = bold
+            c.alignment = wrap
+        for o in g.criteria:
+            r += 1
+            w = o.worst
+            tol = o.criterion.verification_tolerance
+            vals = [f"{o.criterion.title} [{o.criterion.id}]", o.status,
+                    None if w is None else w.level, None if w is None else w.label,
+                    None if w is None else w.measured, None if w is None else w.limit,
+                    None if w is None else w.margin,
+                    None if tol is None else f"{tol:g} (context, Annex IV)",
+                    ", ".join(f"{x:g}" for x in o.missing_levels) or None, o.decided_by]
+            for j, v in enumerate(vals, start=1):
+                c = put(ws, r, j, v)
+                c.alignment = wrap
+            _style_status(ws.cell(row=r, column=2), o.status)
+    r += 2
+    put(ws, r, 1, "What limits the product").font = Font(bold=True, size=12)
+    r += 1
+    c = put(ws, r, 1, report.limiting)
+    c.alignment = wrap
+    ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=len(heads))
+    r += 2
+    put(ws, r, 1, "Verdict per criterion and capture").font = Font(bold=True, size=12)
+    r += 1
     labels = list(dict.fromkeys(v.label for v in report.verdicts))
     by_key = {(v.criterion, v.label): v for v in report.verdicts}
     put(ws, r, 1, "Criterion").font = bold
@@ -115,33 +163,37 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
         head = f"{label}" + (f" ({lv:g} %)" if isinstance(lv, (int, float)) else "")
         h = put(ws, r, j, head)
         h.font = bold
-        h.alignment = Alignment(wrap_text=True)
-    header_row = r
+        h.alignment = wrap
     for crit in report.criteria:
         r += 1
-        put(ws, r, 1, f"{crit.title} [{crit.id}]")
+        put(ws, r, 1, f"{crit.title} [{crit.id}]").alignment = wrap
         for j, label in enumerate(labels, start=2):
             v = by_key.get((crit.id, label))
             if v is None:
                 continue
-            text = f"{v.status} *" if v.depends_on_threshold_form else v.status
-            _style_status(put(ws, r, j, text), v.status)
-    ws.freeze_panes = ws.cell(row=header_row + 1, column=2)
+            text = _SHORT.get(v.status, v.status)
+            c = put(ws, r, j, f"{text} *" if v.depends_on_threshold_form else text)
+            _style_status(c, v.status)
+            c.alignment = wrap
+    r += 1
+    put(ws, r, 1, "n/a: not applicable (the criterion's reason is on the Verdicts sheet); "
+                  "insufficient: insufficient data").font = Font(italic=True, size=9)
     if any(v.depends_on_threshold_form for v in report.verdicts):
         r += 1
         put(ws, r, 1, "* depends on the SVM threshold form: the other form gives the other "
-                      "verdict (see Verdicts)")
+                      "verdict (see Verdicts)").font = Font(italic=True, size=9)
     r += 2
     put(ws, r, 1, "Cautions").font = bold
     for text in CAUTIONS:
         r += 1
         cell = put(ws, r, 1, text)
-        cell.alignment = Alignment(wrap_text=True, vertical="top")
-        ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=max(6, len(labels) + 1))
-        ws.row_dimensions[r].height = 45
-    ws.column_dimensions["A"].width = 58
-    for j in range(2, len(labels) + 2):
-        ws.column_dimensions[ws.cell(row=1, column=j).column_letter].width = 22
+        cell.alignment = wrap
+        ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=len(heads))
+    for j, width in enumerate([44, 14, 9, 22, 10, 10, 10, 14, 10, 32], start=1):
+        ws.column_dimensions[ws.cell(row=1, column=j).column_letter].width = width
+    for j in range(len(heads) + 1, len(labels) + 2):
+        ws.column_dimensions[ws.cell(row=1, column=j).column_letter].width = 14
+    fit_rows(ws)
 
     # ---------------------------------------------------------------- verdicts
     vs = wb.create_sheet("Verdicts")
@@ -149,23 +201,28 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     rows = []
     for v in report.verdicts:
         c = crit_by_id.get(v.criterion)
-        rows.append([v.criterion, c.title if c else "", v.label, v.level, v.status, v.measured,
-                     v.limit, v.margin, c.unit if c else "", v.reason,
-                     c.source if c else "", c.confidence if c else "",
-                     v.threshold_form or ""])
-    last = write_rows(vs, ["Criterion", "Title", "Capture", "Dimming level [%]", "Verdict",
-                           "Measured", "Limit", "Margin (positive = inside)", "Unit", "Reason",
-                           "Source", "Confidence in the limit",
-                           "Depends on the SVM threshold form"], rows,
-                      widths=[24, 40, 26, 10, 16, 12, 10, 14, 6, 60, 50, 12, 50])
+        tol = None if c is None else c.verification_tolerance
+        rows.append([v.criterion, c.kind if c else "", v.label, v.level, v.status, v.measured,
+                     v.limit, v.margin, c.unit if c else "",
+                     None if tol is None else f"{tol:g} (context)", v.reason,
+                     c.confidence if c else "", v.threshold_form or ""])
+    last = write_rows(vs, ["Criterion", "Kind", "Capture", "Level [%]", "Verdict",
+                           "Measured", "Limit", "Margin (positive = inside)", "Unit",
+                           "Verification tolerance (not a loosened limit)", "Reason",
+                           "Confidence in the limit", "Depends on the SVM threshold form"],
+                      rows, widths=[22, 19, 22, 9, 13, 10, 10, 10, 5, 14, 32, 11, 20])
     for i in range(2, last + 1):
         _style_status(vs.cell(row=i, column=5), vs.cell(row=i, column=5).value)
+        for j in (2, 3, 10, 11):
+            vs.cell(row=i, column=j).alignment = wrap
+    for cell in vs[1]:
+        cell.alignment = wrap
+    fit_rows(vs)
 
     # ---------------------------------------------------------------- metrics
     ms = wb.create_sheet("Metrics")
-    write_rows(ms, [h for h, _ in REPORT_COLUMNS],
-               ([lookup(rec, key) for _, key in REPORT_COLUMNS] for rec in report.records),
-               widths=[max(12, min(30, len(h) + 2)) for h, _ in REPORT_COLUMNS])
+    # turned: figures run down, captures across (45 figures would not fit a page's width)
+    write_turned(ms, REPORT_COLUMNS, report.records)
 
     hs = wb.create_sheet("Harmonics")
     hrows = []
@@ -177,9 +234,13 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     write_rows(hs, ["Capture", "Dimming level [%]", "Harmonic order", "Frequency [Hz]",
                     "Amplitude / mean [1]", "Amplitude / mean [%]", "Phase [deg]"], hrows,
                widths=[26, 12, 10, 14, 18, 18, 12])
+    for cell in hs[1]:
+        cell.alignment = wrap
+    fit_rows(hs)
 
-    _ieee_chart_sheet(wb, report.records)
-    _level_sheet(wb, report.records)
+    anchors = {}
+    anchors["ieee1789_chart"] = _ieee_chart_sheet(wb, report.records)
+    anchors["metrics_by_level"] = _level_sheet(wb, report.records)
     if report.steps is not None:
         from .stepsbook import add_steps_sheets
 
@@ -196,9 +257,10 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
              "Sample rate [Hz]", "Duration [s]", "Samples", "Column measured", "Unit",
              "Why this column", "Layout read", "Time base from", "Lines skipped",
              "Dark level [input unit]", "Dark capture", "Dark capture SHA-256", "Model"]
-    last = write_rows(ins, heads, ([i.get(k) for k in keys] for i in report.inputs),
-                      widths=[24, 10, 50, 22, 12, 66, 14, 12, 12, 14, 10, 30, 50, 50, 10, 14,
-                              40, 66, 60])
+    # turned: one column per input, fields down (the fields would not fit a page's width)
+    ncol = max(1, len(report.inputs))
+    last = write_turned(ins, list(zip(heads, keys)), list(report.inputs), head_width=24,
+                        value_width=max(18, min(30, 110 // ncol)))
     r = last + 2
     put(ins, r, 1, "Setting").font = bold
     put(ins, r, 2, "Value").font = bold
@@ -206,23 +268,21 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     for rec in report.records[:1]:
         if rec.get("pst_lm_calibration"):
             settings["Pst LM calibration"] = str(rec["pst_lm_calibration"])
-    for k, v in settings.items():
-        r += 1
-        put(ins, r, 1, str(k))
-        put(ins, r, 2, v if isinstance(v, (int, float)) or v is None else str(v))
+    lines: list[tuple[str, object]] = [(str(k), v if isinstance(v, (int, float)) or v is None
+                                        else str(v)) for k, v in settings.items()]
     for rec in report.records:
-        for n in rec.get("notes") or []:
-            r += 1
-            put(ins, r, 1, f"note: {rec['label']}")
-            put(ins, r, 2, n)
-        for w in rec.get("warnings") or []:
-            r += 1
-            put(ins, r, 1, f"warning: {rec['label']}")
-            put(ins, r, 2, w)
-    for label, err in report.failures:
+        lines += [(f"note: {rec['label']}", n) for n in rec.get("notes") or []]
+        lines += [(f"warning: {rec['label']}", w) for w in rec.get("warnings") or []]
+    lines += [(f"not measured: {label}", err) for label, err in report.failures]
+    first = r + 1
+    for k, v in lines:
         r += 1
-        put(ins, r, 1, f"not measured: {label}")
-        put(ins, r, 2, err)
+        put(ins, r, 1, k).alignment = wrap
+        put(ins, r, 2, v).alignment = Alignment(wrap_text=True, vertical="top",
+                                                 horizontal="left")
+        if ncol > 1:
+            ins.merge_cells(start_row=r, start_column=2, end_row=r, end_column=ncol + 1)
+    fit_rows(ins, first)
 
     # ---------------------------------------------------------------- method notes
     ns = wb.create_sheet("Method notes")
@@ -230,11 +290,22 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     nrows += [[f"Criterion {c.id}", c.source, f"{c.note} Applies to: {c.applies_to}. "
                f"Confidence: {c.confidence}." + (f" Exemptions: {c.exemptions}." if c.exemptions
                                                  else "")] for c in report.criteria]
-    write_rows(ns, ["Item", "Source", "How, and how sure"], nrows, widths=[30, 60, 120])
-    for row in ns.iter_rows(min_row=2):
+    nrows += [[f"Criterion {c.id}: text read", c.read_in, c.tolerance_note]
+              for c in report.criteria if c.read_in or c.tolerance_note]
+    write_rows(ns, ["Item", "Source", "How, and how sure"], nrows, widths=[26, 44, 76])
+    for row in ns.iter_rows(min_row=1):
         for cell in row:
             cell.alignment = Alignment(wrap_text=True, vertical="top")
-    print_setup(wb)
+    fit_rows(ns)
+    if pictures:
+        add_pictures(wb, [p for p in pictures if p.sheet == "Pictures"])
+        add_pictures(wb, [p for p in pictures if p.sheet != "Pictures"],
+                     anchors={k: v for k, v in anchors.items() if v})
+        if "Pictures" in wb.sheetnames:  # captures' pictures after the metrics they explain
+            wb.move_sheet("Pictures", offset=wb.sheetnames.index("Harmonics")
+                          - wb.sheetnames.index("Pictures") + 1)
+    print_setup(wb, product=_product_line(prod), document="Temporal light modulation record",
+                run_at=report.run_at, title_rows={"Pictures": 0})
 
     def save(tmp: Path) -> None:
         wb.save(tmp)
@@ -242,7 +313,13 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False) -> P
     return write_with(path, save, force=force)
 
 
-def _ieee_chart_sheet(wb, records) -> None:
+def _product_line(prod: dict) -> str:
+    """Product name, and the model when both fit a page header's third."""
+    line = " ".join(str(prod[k]) for k in ("name", "model") if prod.get(k))
+    return line if len(line) <= 40 else str(prod.get("name", line))
+
+
+def _ieee_chart_sheet(wb, records) -> str:
     """Boundary lines of IEEE 1789 and each capture's point, on log-log axes."""
     from openpyxl.chart import Reference, ScatterChart, Series
 
@@ -256,7 +333,7 @@ def _ieee_chart_sheet(wb, records) -> None:
     write_rows(ws, ["Frequency [Hz]", "Low-risk limit [%] (100 = no restriction)",
                     "NOEL limit [%] (100 = no restriction)"],
                ([float(a), float(b), float(c)] for a, b, c in zip(f, lr, noel)),
-               widths=[16, 36, 36])
+               widths=[14, 20, 20])
     n = f.size
     pts = [(rec.get("frequency_hz"), rec.get("percent_flicker"), rec["label"])
            for rec in records if rec.get("frequency_hz") and rec.get("percent_flicker")]
@@ -288,20 +365,34 @@ def _ieee_chart_sheet(wb, records) -> None:
         s.graphicalProperties.line.solidFill = colour
         s.graphicalProperties.line.width = 22000
         ch.series.append(s)
-    if pts:
-        s = Series(Reference(ws, min_col=7, min_row=2, max_row=len(pts) + 1),
-                   Reference(ws, min_col=6, min_row=2, max_row=len(pts) + 1), title="Captures")
-        s.marker.symbol = "circle"
+    colours = ("1F4E79", "C55A11", "548235", "7030A0", "BF9000", "2E75B6")
+    symbols = ("circle", "diamond", "square", "triangle", "x", "star")
+    for i, (_, _, label) in enumerate(pts):  # one series per capture: the legend labels it
+        row = i + 2
+        s = Series(Reference(ws, min_col=7, min_row=row, max_row=row),
+                   Reference(ws, min_col=6, min_row=row, max_row=row), title=str(label))
+        s.marker.symbol = symbols[i % len(symbols)]
         s.marker.size = 8
-        s.marker.graphicalProperties.solidFill = "000000"
-        s.marker.graphicalProperties.line.solidFill = "000000"
+        s.marker.graphicalProperties.solidFill = colours[i % len(colours)]
+        s.marker.graphicalProperties.line.solidFill = colours[i % len(colours)]
         s.graphicalProperties.line.noFill = True
         ch.series.append(s)
-    ch.height, ch.width = 12, 22
-    ws.add_chart(ch, "I2")
+    ch.height, ch.width = 10, 15
+    # the labelled picture (when drawn) goes first, under the points; this chart below it
+    from openpyxl.worksheet.pagebreak import Break
+
+    top = len(pts) + 4
+    ws.row_breaks.append(Break(id=top + 24))
+    ws.add_chart(ch, f"E{top + 26}")
+    # printed: the points, the labelled picture and the chart; the boundary table (the
+    # chart's data, columns A-C) stays in the workbook but off the printed pages
+    ws.print_area = f"E1:L{top + 46}"
+    for col, w in (("D", 3), ("E", 24), ("F", 14), ("G", 16)):
+        ws.column_dimensions[col].width = w
+    return f"E{top}"
 
 
-def _level_sheet(wb, records) -> None:
+def _level_sheet(wb, records) -> str | None:
     """Metrics against dimming level, with a chart."""
     from openpyxl.chart import Reference, ScatterChart, Series
 
@@ -314,29 +405,24 @@ def _level_sheet(wb, records) -> None:
     last = write_rows(ws, heads, ([lookup(r, k) for k in keys] for r in rows),
                       widths=[16, 18, 16, 10, 10, 22])
     if not rows:
-        return
+        return None
     ch = ScatterChart()
-    ch.title = "Percent flicker and SVM against dimming level"
+    ch.title = "Percent flicker against dimming level"
     ch.style = 13
     ch.x_axis.title = "Dimming level [%]"
-    ch.y_axis.title = "Percent flicker [%] / SVM x 100"
+    ch.y_axis.title = "Percent flicker [%]"
     ch.x_axis.delete = False
     ch.y_axis.delete = False
-    ch.legend.position = "b"
+    ch.legend = None
     xs = Reference(ws, min_col=1, min_row=2, max_row=last)
     s = Series(Reference(ws, min_col=2, min_row=2, max_row=last), xs, title="Percent flicker [%]")
     s.marker.symbol = "circle"
     s.smooth = False
     ch.series.append(s)
-    # SVM scaled for one axis: a helper column
-    put(ws, 1, 8, "SVM x 100 (chart helper)")
-    for i, r in enumerate(rows, start=2):
-        svm = lookup(r, "svm")
-        put(ws, i, 8, None if svm is None else float(svm) * 100.0)
-    s2 = Series(Reference(ws, min_col=8, min_row=2, max_row=last), xs, title="SVM x 100")
-    s2.marker.symbol = "triangle"
-    s2.smooth = False
-    ch.series.append(s2)
-    ch.height, ch.width = 10, 20
-    ws.add_chart(ch, "J2")
+    ch.height, ch.width = 9, 16
+    # the picture of every metric (when drawn) first; this chart on the next page
+    ws.add_chart(ch, f"A{last + 28}")
+    from openpyxl.worksheet.pagebreak import Break
 
+    ws.row_breaks.append(Break(id=last + 26))
+    return f"A{last + 3}"

@@ -53,7 +53,7 @@ def write_steps_workbook(path: str | Path, table: Any, settings: dict[str, Any],
     wb = Workbook()
     set_properties(wb, "flickerkit brightness table", "Brightness steps for a PWM counter")
     add_steps_sheets(wb, table, settings, summary_sheet=wb.active)
-    print_setup(wb)
+    print_setup(wb, document="Brightness table for a PWM counter")
 
     def save(tmp: Path) -> None:
         wb.save(tmp)
@@ -92,7 +92,12 @@ def add_steps_sheets(wb, table: Any, settings: dict[str, Any], *, summary_sheet=
 
     last = write_rows(ws, [c[0] for c in present],
                       ([cell_value(r, c[1]) for c in present] for r in rows),
-                      widths=[max(10, len(c[0]) + 2) for c in present])
+                      widths=[max(8, min(12, len(c[0]) + 2)) for c in present])
+    from openpyxl.styles import Alignment as _Al
+
+    for cell in ws[1]:
+        cell.alignment = _Al(wrap_text=True, vertical="top")
+    ws.row_dimensions[1].height = 42
     for j, (_, _, fmt) in enumerate(present, start=1):
         if fmt:
             for r in range(2, last + 1):
@@ -116,6 +121,7 @@ def add_steps_sheets(wb, table: Any, settings: dict[str, Any], *, summary_sheet=
     c = put(ws_sum, r, 1, CAUTION)
     c.alignment = Alignment(wrap_text=True, vertical="top")
     ws_sum.merge_cells(start_row=r, start_column=1, end_row=r + 4, end_column=2)
+    chart_row = r + 6
     ws_sum.column_dimensions["A"].width = 34
     ws_sum.column_dimensions["B"].width = 70
 
@@ -140,7 +146,7 @@ def add_steps_sheets(wb, table: Any, settings: dict[str, Any], *, summary_sheet=
     s.smooth = False
     chart.series.append(s)
     chart.height, chart.width = 10, 18
-    ws_sum.add_chart(chart, "D3")
+    ws_sum.add_chart(chart, f"A{chart_row}")  # below the summary: the page stays one wide
 
 
 def _summary_lines(table: Any, s: dict) -> list[tuple[str, Any]]:
