@@ -522,8 +522,12 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
                                                        * period.frequency_hz))
         if bins.size:
             # harmonic h is at h f0 (its bin's frequency carries the span's rounding)
+            order = np.arange(1, bins.size + 1)
+            u0 = max(modul.fundamental_uncertainty_hz,
+                     modulation.EDGE_RTOL * period.frequency_hz)
             per_h = ieee1789.classify_components(
-                period.frequency_hz * np.arange(1, bins.size + 1), spec.amplitudes[bins])
+                period.frequency_hz * order, spec.amplitudes[bins],
+                edge_tolerance_hz=u0 * order)
         reading = per_h if settings.ieee1789_mode == "per-harmonic" and per_h else fund
         head_ieee = _composite_ieee(reading, modul, filt)
     below = _below_90(modul, filt)
