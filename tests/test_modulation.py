@@ -321,3 +321,20 @@ def test_composite_verdicts_are_the_same_on_every_capture(case):
         assert f"{f_mod:g} Hz" in rec["ieee1789"]["decided_by"]
         assert _judge(rec, "seizure-screen-below-90hz").status == seizure
         assert not any("noise limits" in w for w in rec["warnings"])  # noise-free light
+
+
+def test_dither_sub_harmonic_sets_the_repetition_period():
+    # a 1 kHz PWM plus a 10 us pulse every fourth period (a dither step): the light repeats
+    # at 250 Hz. analytic: a pulse train of duty q = 10 us x 250 Hz has components
+    # 2 q sinc(k q) at k x 250 Hz; relative to the mean 0.5 + q
+    fs, d = 200_000.0, 0.8
+    q = 10e-6 * 250.0
+    x = pwm(1000.0, 0.5, 0.0, fs, d, phase=0.05) + pwm(250.0, q, 0.0, fs, d, phase=0.3)
+    a = assess(make_capture(x, fs))
+    m = a.modulation
+    assert m.repetition_hz == pytest.approx(250.0, rel=1e-6)
+    for k in (1, 2, 3):
+        want = 2 * q * np.sinc(k * q) / (0.5 + q)
+        got = [c for c in m.components if abs(c.frequency_hz - 250.0 * k) < 0.5]
+        assert got and got[0].amplitude == pytest.approx(want, rel=1e-2), k
+        assert got[0].kind == "unrelated" and got[0].order == k
