@@ -21,6 +21,7 @@ from .capture import Capture
 from .errors import CaptureWarning, FlickerkitWarning, InputError, SettingsError
 from .filtered import FilteredFlicker, filtered_percent_flicker
 from .flickermeter import Calibration, PstResult
+from .modulation import Acquisition, LowFrequencyModulation, ModulationAnalysis
 from .periodicity import SEGMENT_SAMPLES, Periodicity, fundamental_frequency, known_fundamental
 from .spectrum import (SINGLE_FFT_MAX_SAMPLES, WINDOW_SAMPLES, Spectrum, averaged_spectrum,
                        modulation_spectrum)
@@ -197,11 +198,11 @@ class Assessment:
     pst_lm: PstResult | None = None
     pst_lm_calibration: str = ""
     filtered: FilteredFlicker | None = None
-    modulation: modulation.ModulationAnalysis | None = None
-    below_90hz: modulation.LowFrequencyModulation | None = None
+    modulation: ModulationAnalysis | None = None
+    below_90hz: LowFrequencyModulation | None = None
     ieee1789_headline: ieee1789.Ieee1789Result | None = None
     edge_notes: tuple[str, ...] = ()
-    acquisition: modulation.Acquisition | None = None
+    acquisition: Acquisition | None = None
     percent_flicker_raw: float | None = None
     flicker_index_raw: float | None = None
     headline_estimate: str = "raw"
@@ -463,7 +464,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     headline, noise_limit = "raw", 0.0
     if template is not None and real_noise and np.isfinite(noise_pf) \
             and noise_pf > NOISE_HEADLINE_SHARE * pf_raw:
-        used = int(min(n, metrics.NOISE_SAMPLES) // period.period_samples)
+        used = int(min(n, metrics.NOISE_SAMPLES) // float(period.period_samples or n))
         rob = metrics.robust_flicker(template, noise, used)
         if np.isfinite(rob.percent_flicker):
             pf, fi, headline, noise_limit = (rob.percent_flicker, rob.flicker_index, rob.method,
@@ -521,8 +522,12 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
                                                        * period.frequency_hz))
         if bins.size:
             # harmonic h is at h f0 (its bin's frequency carries the span's rounding)
+            order = np.arange(1, bins.size + 1)
+            u0 = max(modul.fundamental_uncertainty_hz,
+                     modulation.EDGE_RTOL * period.frequency_hz)
             per_h = ieee1789.classify_components(
-                period.frequency_hz * np.arange(1, bins.size + 1), spec.amplitudes[bins])
+                period.frequency_hz * order, spec.amplitudes[bins],
+                edge_tolerance_hz=u0 * order)
         reading = per_h if settings.ieee1789_mode == "per-harmonic" and per_h else fund
         head_ieee = _composite_ieee(reading, modul, filt)
     below = _below_90(modul, filt)

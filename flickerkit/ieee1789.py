@@ -298,7 +298,8 @@ def judge_modulation(reading: Ieee1789Result,
     return best
 
 
-def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> Ieee1789Result:
+def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray, *,
+                        edge_tolerance_hz: np.ndarray | float = 0.0) -> Ieee1789Result:
     """Per-harmonic mode: judge each Fourier component at its own frequency.
 
     Parameters
@@ -307,6 +308,9 @@ def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> I
         Component frequencies [Hz] (harmonics 1, 2, ... in order).
     amplitudes : numpy.ndarray
         Amplitudes relative to the mean, C_k [unitless]; ``Mod%_k = 100 C_k``.
+    edge_tolerance_hz : float or numpy.ndarray, optional
+        Frequency uncertainty of each component [Hz]: within it of a break a
+        component is judged on the break (module notes); 0 for exact frequencies.
 
     Returns
     -------
@@ -321,10 +325,14 @@ def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> I
     fundamental mode for harmonic-rich waveforms: overall Mod% can exceed
     every single ``Mod%_k``.
     """
-    f = np.asarray(frequencies_hz, dtype=np.float64)
+    f_in = np.asarray(frequencies_hz, dtype=np.float64)
     m = 100.0 * np.asarray(amplitudes, dtype=np.float64)
-    if f.size == 0:
+    if f_in.size == 0:
         raise ValueError("no components to judge")
+    f = f_in.copy()
+    tol = np.broadcast_to(np.asarray(edge_tolerance_hz, dtype=np.float64), f.shape)
+    for b in BREAKS_HZ:
+        f = np.where(np.abs(f - b) <= tol, b, f)
     lr = low_risk_limit_percent(f)
     noel = noel_limit_percent(f)
     rank = np.array([REGIONS.index(r) for r in np.atleast_1d(region_of(f, m))])
@@ -335,7 +343,7 @@ def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> I
     i = int(order[0])
     return Ieee1789Result(
         region=REGIONS[rank[i]],
-        frequency_hz=float(f[i]),
+        frequency_hz=float(f_in[i]),
         modulation_percent=float(m[i]),
         low_risk_limit_percent=float(lr[i]),
         noel_limit_percent=float(noel[i]),
@@ -344,4 +352,6 @@ def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray) -> I
         mode="per-harmonic",
         harmonic=i + 1,
         decided_by=f"harmonic {i + 1}",
+        edge=(f"{f_in[i]:.6g} Hz is on the {f[i]:g} Hz break within its uncertainty"
+              if f[i] != f_in[i] else ""),
     )

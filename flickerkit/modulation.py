@@ -279,7 +279,6 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     K = int(spectrum.amplitudes.shape[0])
     df = spectrum.resolution_hz
     f0 = spectrum.fundamental_hz
-    nyq = sample_rate_hz / 2.0
     if K < 8 or not np.isfinite(df) or df <= 0:
         return ModulationAnalysis((), 0.0, 0.0, float(df), f0, f0, (), "too few bins to analyse",
                                   EDGE_RTOL * f0 if f0 else 0.0)
@@ -374,12 +373,13 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
         fit.append(float(pos[i] * df))
     # the period estimate's own error shows as the fundamental's offset from h = 1
     u0 = EDGE_RTOL * f0 if f0 else 0.0
-    for c, f_fit in zip(comps, fit):
-        if c.harmonic == 1:
-            u0 = max(u0, 2.0 * abs(f_fit - c.frequency_hz))
+    for comp, f_fit in zip(comps, fit):
+        if comp.harmonic == 1:
+            u0 = max(u0, 2.0 * abs(f_fit - comp.frequency_hz))
     if f0:
         comps = [replace(c, uncertainty_hz=c.harmonic * u0) if c.harmonic else c for c in comps]
-        tv = alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1) if alias_bound else 0.0
+        tv = (alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1)
+              if alias_bound and period_samples else 0.0)
         comps = [replace(c, kind="possible alias")
                  if c.kind == "unrelated" and c.amplitude <= alias_bound
                  and _alias_of_harmonic(c, f0, u0, sample_rate_hz, tv) else c for c in comps]
@@ -433,9 +433,7 @@ def hann_amplitudes_at(spectrum: Spectrum, bins: np.ndarray) -> np.ndarray:
 def _result(comps: list[Component], threshold: float, alias_bound: float, df: float,
             f0: float | None, spectrum: Spectrum, noise: float,
             u0: float = 0.0) -> ModulationAnalysis:
-    span_s = spectrum.n_samples / (spectrum.frequencies_hz[-1] * 2.0) \
-        if spectrum.frequencies_hz[-1] > 0 else 0.0
-    span_s = 1.0 / df if df > 0 else span_s
+    span_s = 1.0 / df if df > 0 else 0.0  # the span lasts one over the bin spacing
     unrelated = [c for c in comps if c.kind == "unrelated"]
     rep = f0
     if unrelated:

@@ -130,7 +130,7 @@ def _captures(make, seed):
 
 
 @pytest.mark.parametrize("case", ["svm 80 Hz", "ja10 40 Hz", "ja10 200 Hz", "ieee 90 Hz",
-                                  "ieee 3 kHz", "seizure 90 Hz"])
+                                  "ieee 3 kHz", "ieee 3 kHz per-harmonic", "seizure 90 Hz"])
 def test_edges_are_decided_by_rule_on_every_capture(case):
     # twelve captures of the same light, random start phase, length and sample rate
     # (seeded): the figure on an edge must be the same every time, and said to be on it
@@ -153,6 +153,12 @@ def test_edges_are_decided_by_rule_on_every_capture(case):
         # at 3000 Hz the NOEL line applies: 0.0333 x 3000 = 99.9 % < 100 % -> low-risk
         "ieee 3 kHz": (lambda fs, d, ph: pwm(3000.0, 0.5, 0.0, fs, d, phase=ph / 6.3),
                        lambda r: r["ieee1789"]["region"], "low-risk"),
+        # per-harmonic: the 3 kHz fundamental, C1 = 4/pi (analytic, 50 % PWM) > 99.9 %:
+        # low-risk on every capture (the line applies on the break)
+        "ieee 3 kHz per-harmonic": (lambda fs, d, ph: pwm(3000.0, 0.5, 0.0, fs, d,
+                                                          phase=ph / 6.3),
+                                    lambda r: r["ieee1789"]["per_harmonic"]["region"],
+                                    "low-risk"),
         # 90 Hz is not below 90 Hz: the seizure screen has nothing to judge
         "seizure 90 Hz": (lambda fs, d, ph: sine(90.0, 0.2, fs, d, phase=ph),
                           lambda r: _judge(r, "seizure-screen-below-90hz").status,
@@ -315,3 +321,20 @@ def test_composite_verdicts_are_the_same_on_every_capture(case):
         assert f"{f_mod:g} Hz" in rec["ieee1789"]["decided_by"]
         assert _judge(rec, "seizure-screen-below-90hz").status == seizure
         assert not any("noise limits" in w for w in rec["warnings"])  # noise-free light
+
+
+def test_dither_sub_harmonic_sets_the_repetition_period():
+    # a 1 kHz PWM plus a 10 us pulse every fourth period (a dither step): the light repeats
+    # at 250 Hz. analytic: a pulse train of duty q = 10 us x 250 Hz has components
+    # 2 q sinc(k q) at k x 250 Hz; relative to the mean 0.5 + q
+    fs, d = 200_000.0, 0.8
+    q = 10e-6 * 250.0
+    x = pwm(1000.0, 0.5, 0.0, fs, d, phase=0.05) + pwm(250.0, q, 0.0, fs, d, phase=0.3)
+    a = assess(make_capture(x, fs))
+    m = a.modulation
+    assert m.repetition_hz == pytest.approx(250.0, rel=1e-6)
+    for k in (1, 2, 3):
+        want = 2 * q * np.sinc(k * q) / (0.5 + q)
+        got = [c for c in m.components if abs(c.frequency_hz - 250.0 * k) < 0.5]
+        assert got and got[0].amplitude == pytest.approx(want, rel=1e-2), k
+        assert got[0].kind == "unrelated" and got[0].order == k

@@ -453,8 +453,11 @@ def summary_table(records: list[dict]) -> str:
     rows = []
     for r in records:
         ieee = r.get("ieee1789") or {}
+        region = ieee.get("region", "–")
+        if (r.get("acquisition") or {}).get("folding_suspected"):
+            region = "insufficient (aliasing)"
         rows.append([r["label"], fmt(r["frequency_hz"], ".5g"), fmt(r["percent_flicker"], ".3f"),
-                     fmt(r["flicker_index"], ".4f"), ieee.get("region", "–"),
+                     fmt(r["flicker_index"], ".4f"), region,
                      fmt(r.get("svm"), ".3f"), fmt(r.get("pst_lm"), ".3f"),
                      str(r["periods"]), fmt((r.get("noise") or {}).get("percent_flicker_floor"),
                                             ".2g")])

@@ -63,7 +63,23 @@ METHOD_NOTES: tuple[tuple[str, str, str], ...] = (
      "to zero; a component exactly at a cut-off is kept."),
     ("Noise floor", "flickerkit's own method (no published source)",
      "Percent flicker that the measured white noise alone would show on steady light "
-     "(sigma sqrt(2 ln n)/mean)."),
+     "(sigma sqrt(2 ln n)/mean). When it exceeds 1 % of the raw figure, the headline percent "
+     "flicker and flicker index are the period-averaged waveform's (raw min/max kept beside)."),
+    ("Composite light", "this project",
+     "Every spectral component above the noise is listed (Hann-windowed whole-period "
+     "spectrum). Components not harmonics of the strongest period are judged against IEEE 1789 "
+     "at their own frequency, with the band-limited depth of the segment holding them; the "
+     "headline region is the worst and names what decided it. The seizure screen judges the "
+     "light low-passed below 90 Hz. An extension of this project: IEEE 1789 does not say how "
+     "to read light with more than one modulation."),
+    ("Band edges", "this project",
+     "A component within its frequency uncertainty (at least 20 ppm) of the SVM band ends, a "
+     "JA10.6 cut-off or an IEEE 1789 break is taken as on it: included, kept, 90 Hz in the "
+     "upper segment, the line applying at 1250 and 3000 Hz; noted per capture."),
+    ("Aliasing", "this project; sampling theorem",
+     "With the detector bandwidth above half the sample rate and content in the top half of "
+     "the band, what the capture shows may be folded down from above: verdicts are "
+     "insufficient data."),
 )
 
 
