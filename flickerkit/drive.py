@@ -106,6 +106,11 @@ def _e2(z: np.ndarray) -> np.ndarray:
     return out
 
 
+#: A repetition period longer than this many periods of the strongest modulation is not
+#: sampled whole (the capture holds whole periods of the strongest modulation). Chosen here.
+MAX_REPETITION_RATIO = 64
+
+
 def _common_frequency(f1: float, f2: float) -> float | None:
     """Largest frequency of which both are integer multiples, or None [Hz]."""
     ratio = Fraction(f1 / f2).limit_denominator(_MAX_DENOMINATOR)
@@ -587,6 +592,39 @@ class Light:
         return k / self.trains[0].period_s
 
     @cached_property
+    def dominant_hz(self) -> float | None:
+        """Frequency of the light's strongest periodic modulation [Hz] (None when steady).
+
+        The trains' repetition frequency or the ripple's, whichever has the larger
+        fundamental component relative to the mean: the period ``measure`` finds in
+        a capture of this light and the one its figures are referred to, so that a
+        model and a faithful capture of it are judged alike. The other modulation,
+        when not a harmonic of it, is judged at its own frequency, as in
+        :mod:`flickerkit.modulation`.
+        """
+        fb = self.base_frequency_hz
+        fr = self.ripple.frequency_hz if self.ripple and self.ripple.percent > 0 else None
+        if fb is None or fr is None:
+            return fb if fr is None else fr
+        return fb if self.base_amplitude >= self.ripple_amplitude else fr
+
+    @cached_property
+    def base_amplitude(self) -> float:
+        """Fundamental component of the trains' sum relative to its mean [unitless]."""
+        k = self._base_divisor
+        mean = sum(tr.mean for tr in self.trains)
+        if k == 0 or mean <= 0:
+            return 0.0
+        c = sum(complex(tr.coefficients(np.array([k]))[0]) for tr in self.trains)
+        return float(2.0 * abs(c) / mean)
+
+    @cached_property
+    def ripple_amplitude(self) -> float:
+        """Fundamental component of the ripple relative to the mean [unitless]."""
+        _, rho = self._ripple_terms()
+        return float(abs(rho[0])) if rho.size else 0.0
+
+    @cached_property
     def fundamental_hz(self) -> float | None:
         """Repetition frequency of the light, None when steady or without one [Hz]."""
         fb = self.base_frequency_hz
@@ -805,6 +843,15 @@ class Light:
         """Choose sample rate and length; returns (rate [Hz], samples, notes)."""
         notes: list[str] = []
         f0 = self.fundamental_hz
+        fd = self.dominant_hz
+        if fd is not None and (f0 is None or f0 < fd / MAX_REPETITION_RATIO):
+            # PWM and ripple share no period within reach (2000.06 Hz on 100 Hz ripple repeat
+            # every 50 s): whole periods of the strongest modulation, the other one leaks
+            notes.append(f"the light repeats only every {1 / f0:.3g} s" if f0 else
+                         "the drive's PWM and ripple have no common period")
+            notes[-1] += (f"; the capture holds whole periods of its strongest modulation "
+                          f"({fd:.6g} Hz), not of the light's repetition")
+            f0 = fd
         if f0 is None:
             if self.base_frequency_hz is not None or (self.ripple and self.ripple.percent > 0):
                 notes.append("the drive's PWM and ripple have no common period within reach; "
@@ -880,8 +927,9 @@ class Light:
         edges = np.arange(n + 1, dtype=np.float64) / fs
         x = self.interval_means(edges)
         np.maximum(x, 0.0, out=x)
-        f0 = self.fundamental_hz
+        f0 = self.dominant_hz  # the period measure finds; the repetition period beside it
         meta = {"model": self.description, "fundamental_hz": f0,
+                "repetition_hz": self.fundamental_hz,
                 "periods": (n * f0 / fs) if f0 else None, "sampling": "interval average"}
         return make_capture(x, fs, label=label or self.description,
                             source=f"model: {self.description}",

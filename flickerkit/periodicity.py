@@ -141,7 +141,7 @@ def fundamental_frequency(
     >>> t = np.arange(20000) / 20000.0
     >>> p = fundamental_frequency(1 + 0.3 * np.sin(2 * np.pi * 100 * t), 20000.0)
     >>> f"{p.frequency_hz:.4f} Hz", p.periods   # 1e-5 from the true 100 Hz
-    ('99.9990 Hz', 100)
+    ('100.0000 Hz', 100)
     """
     x = np.asarray(samples[:SEGMENT_SAMPLES], dtype=np.float64)
     if n_total is None:

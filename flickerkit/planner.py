@@ -158,6 +158,21 @@ def svm_of_series(fs) -> float:
                                          f_max_hz=SVM_F_MAX_HZ))
 
 
+def _with_unrelated(light, f0: float, res):
+    """The IEEE 1789 reading, or worse: the other modulation (PWM or ripple) at its own
+    frequency when it is not a harmonic of ``f0`` (as ``assess`` judges a capture)."""
+    fb, amp_b = light.base_frequency_hz, light.base_amplitude
+    fr = light.ripple.frequency_hz if light.ripple and light.ripple.percent > 0 else None
+    other = [(f, a) for f, a in ((fb, amp_b), (fr, light.ripple_amplitude))
+             if f is not None and f != f0 and a > 0]
+    comps = []
+    for f, a in other:
+        ratio = f / f0
+        if round(ratio) == 0 or abs(ratio - round(ratio)) > 1e-9 * ratio:
+            comps.append((f, a, 0.0))
+    return ieee1789.judge_modulation(res, comps, []) if comps else res
+
+
 def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = True
             ) -> LevelFigures:
     """Perception figures of a model (closed-form path).
@@ -172,10 +187,12 @@ def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = 
         Compute the SVM (skip it when no target needs it).
     """
     light = model.light()
-    f0 = light.fundamental_hz
+    f0 = light.dominant_hz
     fs = light.fourier_series(SVM_F_MAX_HZ if need_svm else 0.0)
     pf = light.modulation_percent()
     res = ieee1789.classify(f0, pf) if f0 else None
+    if res is not None:
+        res = _with_unrelated(light, f0, res)
     sv = svm_of_series(fs) if need_svm else float("nan")
     return LevelFigures(level, fs.mean, f0, pf, res, sv)
 

@@ -85,7 +85,7 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
     light = model.light()
     pf = light.modulation_percent()
     fi = light.flicker_index()
-    f0 = light.fundamental_hz
+    f0 = light.dominant_hz
     fs = light.fourier_series(svm.DEFAULT_F_MAX_HZ)
     sv = svm.svm_result_from_components(
         fs.frequencies_hz, fs.amplitudes, threshold=settings.svm_threshold,
@@ -96,7 +96,16 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
                 "svm": a.svm.value if a.svm else None,
                 "sample_rate_hz": a.sample_rate_hz, "n_samples": a.n_samples}
     fund = ieee1789.classify(f0, pf) if f0 else a.ieee1789_fundamental
-    a = replace(a, percent_flicker=pf, flicker_index=fi, ieee1789_fundamental=fund, svm=sv)
+    # the headline is the worst of the standard's reading (on the exact figure) and the
+    # model's other modulation (PWM or ripple) at its own frequency, from the model itself:
+    # the sampled capture's components would carry the sampling's aliases
+    from .planner import _with_unrelated
+
+    reading = (a.ieee1789_per_harmonic if settings.ieee1789_mode == "per-harmonic"
+               and a.ieee1789_per_harmonic else fund)
+    head = _with_unrelated(light, f0, reading) if (reading is not None and f0) else reading
+    a = replace(a, percent_flicker=pf, flicker_index=fi, ieee1789_fundamental=fund, svm=sv,
+                ieee1789_headline=head)
     rec = a.to_dict()
     rec["warnings"] = [w + ("; the headline percent flicker, flicker index and SVM are the "
                             "model's exact figures, capture_figures those of the capture")

@@ -364,7 +364,8 @@ def test_report_requires_the_column_when_ambiguous(tmp_path, light, gate, capsys
     from openpyxl import load_workbook
 
     ins = load_workbook(out)["Inputs"]
-    row = dict(zip([x.value for x in ins[1]], next(ins.iter_rows(min_row=2, values_only=True))))
+    # the Inputs sheet is turned: fields down column A, one capture per column from B
+    row = {r[0]: r[1] for r in ins.iter_rows(min_row=1, values_only=True) if r[0]}
     assert row["Column measured"] == "CH2" and row["Unit"] == "V"
     assert row["Time base from"] == "column 'Time' in s (units row)"
     assert row["Lines skipped"] == 2 and "names + units rows" in row["Layout read"]

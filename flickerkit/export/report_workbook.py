@@ -18,7 +18,7 @@ import numpy as np
 from .. import __version__
 from ..fileio import write_with
 from .workbook import (MEASURE_COLUMNS, add_pictures, fit_rows, lookup, print_setup, put,
-                       set_properties, write_rows, write_turned)
+                       set_properties, workbook_text, write_rows, write_turned)
 
 STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "insufficient data": "FFEB9C",
                "not applicable": "E7E6E6"}
@@ -386,7 +386,7 @@ def _ieee_chart_sheet(wb, records) -> str:
     for i, (_, _, label) in enumerate(pts):  # one series per capture: the legend labels it
         row = i + 2
         s = Series(Reference(ws, min_col=7, min_row=row, max_row=row),
-                   Reference(ws, min_col=6, min_row=row, max_row=row), title=str(label))
+                   Reference(ws, min_col=6, min_row=row, max_row=row), title=workbook_text(str(label))[0])
         s.marker.symbol = symbols[i % len(symbols)]
         s.marker.size = 8
         s.marker.graphicalProperties.solidFill = colours[i % len(colours)]

@@ -187,8 +187,9 @@ def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0, max_row: int | None = 
 
 
 def _hf(text: str, limit: int = 40) -> str:
-    """Header or footer text: '&' escaped, cut to fit a third of a portrait page."""
-    text = str(text)
+    """Header or footer text: control characters marked, '&' escaped, cut to fit a third
+    of a portrait page."""
+    text = workbook_text(str(text))[0]
     if len(text) > limit:
         text = text[:limit - 1].rstrip() + "…"
     return text.replace("&", "&&")
