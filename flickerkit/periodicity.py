@@ -81,6 +81,27 @@ def _autocorrelation(x0: np.ndarray, max_lag: int) -> np.ndarray:
     return r / r[0]
 
 
+#: A candidate period holds the strongest component this close to a whole number of
+#: times (plus the errors of both estimates) [cycles]. Chosen here.
+_HARMONIC_TOL = 0.005
+
+
+def _strongest_frequency(seg: np.ndarray, max_lag: int) -> float | None:
+    """Frequency of the strongest component of ``seg`` [cycles per sample], among those whose
+    period fits in ``max_lag`` samples; None when the segment is too short."""
+    n = seg.size
+    if n < 8:
+        return None
+    spec = np.abs(np.fft.rfft(seg - seg.mean()))
+    k_min = max(1, int(np.ceil(n / max_lag)))
+    if k_min >= spec.size:
+        return None
+    k = k_min + int(np.argmax(spec[k_min:]))
+    if 0 < k < spec.size - 1:  # interpolate between bins
+        k = k + _parabolic_peak(spec[k - 1], spec[k], spec[k + 1])
+    return float(k) / n
+
+
 def _parabolic_peak(y_minus: float, y0: float, y_plus: float) -> float:
     """Offset (-0.5..0.5) of a parabola's vertex through three equally spaced points."""
     denom = y_minus - 2.0 * y0 + y_plus
@@ -183,11 +204,36 @@ def fundamental_frequency(
         interior >= _PEAK_RATIO * r_max)
     peaks = np.flatnonzero(is_peak) + 1 + k0
     lag = int(peaks[0]) if peaks.size else int(np.argmax(region)) + k0
+    # the period holds the strongest spectral component a whole number of times: a first
+    # peak that does not is a near-coincidence of two modulations (100 Hz ripple on 1 kHz:
+    # 9 ms, where the 1 kHz is in phase and the 100 Hz nearly so), not the period
+    f_strong = _strongest_frequency(seg, max_lag)
+    unrelated = False
+    if f_strong is not None:
+        # error of h: the strongest frequency to a quarter bin, the lag to two samples
+        tol = _HARMONIC_TOL + 0.25 * peaks / n + 2.0 * f_strong
+        h = f_strong * peaks
+        fits = (np.round(h) >= 1) & (np.abs(h - np.round(h)) <= tol)
+        if fits.any():
+            lag = int(peaks[np.argmax(fits)])
+        else:  # no common period: the strongest modulation's own
+            own = int(round(1.0 / f_strong))
+            if k0 <= own < max_lag and rs[own] >= min_strength:
+                lag, unrelated = own, True
     # move to the local maximum of the raw autocorrelation near the smoothed one
     lo, hi = max(lag - 1, 1), min(lag + 2, max_lag + 1)
     lag = lo + int(np.argmax(r[lo:hi]))
     period = lag + (_parabolic_peak(r[lag - 1], r[lag], r[lag + 1]) if 0 < lag < max_lag else 0.0)
     strength = float(r[lag])
+
+    if unrelated:
+        # the autocorrelation's peaks mix both modulations: the strongest one's own period
+        # from its spectral peak, refined by its phase drift alone
+        period = 1.0 / f_strong
+        if n / period >= FIT_BELOW_PERIODS:
+            period = _refine_by_phase(seg, period)
+        periods = int(np.floor(n_total / period + 0.01))
+        return Periodicity(sample_rate_hz / period, period, periods, float(rs[lag]))
 
     # refine at growing multiples of the period, within the segment
     period = _refine(r, period, max_lag)
