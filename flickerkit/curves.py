@@ -363,19 +363,41 @@ def read_two_columns(path: str | Path, what: str = "two-column file"
         If the file cannot be read, a cell is not a number, it holds fewer
         than two rows, or it has other than two columns.
     """
+    import tempfile
+
     from .readers import ReadOptions, read_capture
+    from .sidefile import decode, read_bytes
 
-    def column(k: int) -> np.ndarray:
-        # a sample rate is given only so that no column is taken for time
-        cap = read_capture(path, ReadOptions(column=k, sample_rate_hz=1.0))
-        return np.asarray(cap.samples[:], dtype=np.float64)
+    # The side-file checks first (device, FIFO, size bound, encoding), so that a bad file is
+    # named as the side file it is; a UTF-16/32 table (byte-order mark) is read as UTF-8.
+    # Trailing '#' comment lines (after the last row) are dropped; line numbers stay true.
+    data = read_bytes(path, what)
+    text = decode(data, str(path), what)
+    lines = text.splitlines()
+    while lines and (not lines[-1].strip() or lines[-1].lstrip().startswith("#")):
+        lines.pop()
+    trimmed = "\n".join(lines) + "\n"
+    with tempfile.TemporaryDirectory(prefix="flickerkit-sidefile-") as tmp:
+        src = Path(path)
+        if trimmed.encode("utf-8") != data:
+            src = Path(tmp) / Path(path).name
+            src.write_text(trimmed, encoding="utf-8")
 
-    second = column(2)  # read first: a bad cell in either column is then located
-    first = column(1)
-    try:
-        column(3)
-    except InputError:
-        return first, second
+        def column(k: int) -> np.ndarray:
+            # a sample rate is given only so that no column is taken for time
+            try:
+                cap = read_capture(src, ReadOptions(column=k, sample_rate_hz=1.0))
+            except InputError as exc:
+                exc.source = str(path)
+                raise
+            return np.asarray(cap.samples[:], dtype=np.float64)
+
+        second = column(2)  # read first: a bad cell in either column is then located
+        first = column(1)
+        try:
+            column(3)
+        except InputError:
+            return first, second
     raise InputError(f"the {what} has more than two columns; it must hold exactly two",
                      source=str(path))
 

@@ -109,6 +109,20 @@ def test_user_criterion_on_a_text_or_list_metric_is_refused(lab, capsys, metric,
                     f"is {kind}, not a number")
 
 
+@pytest.mark.parametrize("metric,match", [
+    ("percent_flikcer", "did you mean 'percent_flicker'"),   # a typo, not a short capture
+    ("read", "is a table, not a number"),                     # the read echo has no 'value'
+    ("svm_detail.nosuch", "is not a figure of the record")])
+def test_user_criterion_on_an_unknown_metric_is_refused(lab, capsys, metric, match):
+    # Second review: a misspelt metric was judged "insufficient data (capture too short ...)",
+    # exit 0 -- a mistake in the criteria file passed off as a property of the capture.
+    (lab / "rules.toml").write_text(f'[[criterion]]\nid = "mine"\nlimit = 1\nmetric = "{metric}"\n')
+    p = _project(lab, '[[capture]]\nlevel = 100\nfile = "a/cap.csv"\n'
+                      '[criteria]\nfile = "rules.toml"\napply = ["mine"]\n')
+    line = _one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q", "-j", "1"], match)
+    assert "'mine'" in line and not (lab / "r.xlsx").exists()
+
+
 def test_control_characters_become_visible_markers(lab, capsys):
     from openpyxl import load_workbook
 
