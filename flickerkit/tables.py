@@ -310,6 +310,12 @@ def _leading_empty(line: str, sep: str) -> int:
     return n if n < len(raw) else 0
 
 
+#: A row that starts with a calendar date (2026-11-20, 20.11.2026, 11/20/2026) or a clock time
+#: (10:00:00.000020), as data loggers write; refused with what to do.
+_DATE_OR_CLOCK = re.compile(r'^"?(\d{1,4}[-./]\d{1,2}[-./]\d{1,4}|\d{1,2}:\d{2}(:\d{2})?)'
+                            r'([ T\t,;]|[.,]\d|"|$)')
+
+
 def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int, int]:
     """Separator, decimal mark, first data line, numeric columns per row, side columns.
 
@@ -344,6 +350,11 @@ def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int, int]:
             if best is None or score > best[:2]:
                 best = (score[0], k, sep, dec, lead)
     if best is None or best[0] < max(1, len(tail) // 2):
+        if tail and sum(bool(_DATE_OR_CLOCK.match(ln.strip())) for ln in tail) >= len(tail) // 2:
+            raise InputError("the rows start with a date or clock time, which is not read as a "
+                             "time base; export the time as seconds (or ms, us) from the start, "
+                             "or delete the date/time column(s) and give --sample-rate HZ",
+                             source=name)
         raise InputError("no numeric table found: the last lines are not rows of numbers "
                          "with a common separator (comma, semicolon, tab or space)",
                          source=name)

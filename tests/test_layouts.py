@@ -385,3 +385,23 @@ def test_npy_sample_count_or_slow_column_1_is_refused(tmp_path, light):
     np.save(r, np.column_stack([np.arange(light.size) * DT, light]))
     check(read_capture(r), light)
     assert read_capture(r).read.time_base == "column 1 (seconds)"
+
+
+@pytest.mark.parametrize("stamp", ["date-and-clock", "iso"])
+def test_logger_date_time_column_is_refused_with_what_to_do(tmp_path, capsys, stamp):
+    # Second review: a tab-separated logger file with a date-time column was refused as
+    # "no numeric table found", which does not say what is wrong or how to fix it.
+    lines = ["Date\tTime\tCh1 (V)" if stamp != "iso" else "DateTime\tCh1 (V)"]
+    for i in range(40):
+        us = i * 20  # 50 kHz
+        clock = f"10:00:00.{us:06d}"
+        lines.append(f"2026-11-20\t{clock}\t{1 + 0.3 * np.sin(i):.5f}" if stamp != "iso"
+                     else f"2026-11-20T{clock}\t{1 + 0.3 * np.sin(i):.5f}")
+    p = tmp_path / "logger.txt"
+    p.write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError, match="date or clock time") as exc:
+        read_capture(p)
+    assert "--sample-rate" in str(exc.value) and "logger.txt" in str(exc.value)
+    assert main(["measure", str(p), "-q"]) == 1
+    err = capsys.readouterr().err
+    assert len(err.strip().splitlines()) == 1 and "Traceback" not in err
