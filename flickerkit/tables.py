@@ -238,6 +238,11 @@ class TableLayout:
 def _decode_head(p: Path) -> tuple[str, str]:
     with p.open("rb") as fh:
         raw = fh.read(_HEAD_BYTES)
+    if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or (
+            len(raw) >= 64 and raw[1:64:2].count(0) > 24 and raw[0:64:2].count(0) == 0):
+        # UTF-16 (spreadsheet "Unicode text" exports); UTF-32 starts with FF FE too
+        raise InputError("is UTF-16/32 text (a spreadsheet's 'Unicode text' export?), not read: "
+                         "save it as UTF-8 or plain text (CSV)", source=str(p))
     if b"\x00" in raw[:4096]:
         raise InputError("looks like a binary file, not a text table (use .wav or .npy "
                          "for binary captures)", source=str(p))

@@ -405,3 +405,14 @@ def test_logger_date_time_column_is_refused_with_what_to_do(tmp_path, capsys, st
     assert main(["measure", str(p), "-q"]) == 1
     err = capsys.readouterr().err
     assert len(err.strip().splitlines()) == 1 and "Traceback" not in err
+
+
+@pytest.mark.parametrize("codec", ["utf-16", "utf-16-le"])
+def test_utf16_table_is_named_as_such(tmp_path, codec):
+    # Second review: a UTF-16 table (with or without byte-order mark) was called "a binary
+    # file ... use .wav or .npy", which sends the user the wrong way.
+    p = tmp_path / "unicode.txt"
+    p.write_bytes(("time\tlight\n" + "".join(f"{i / 5e4:.6f}\t{1 + 0.3 * np.sin(i):.5f}\n"
+                                             for i in range(50))).encode(codec))
+    with pytest.raises(InputError, match="UTF-16.*save it as UTF-8"):
+        read_capture(p)
