@@ -83,6 +83,9 @@ TEXT_CHUNK_ROWS = 1_000_000
 MIN_UNITLESS_RATE_HZ = 1000.0
 #: Rates that make sense for a light capture, used to suggest a time unit [Hz].
 PLAUSIBLE_RATE_HZ = (1000.0, 1e10)
+#: Below this rate [Hz] a time column without a unit that passes as seconds is warned about:
+#: as ms it would be 1-10 MHz, a common scope rate (common practice, no source).
+SLOW_UNITLESS_RATE_HZ = 10000.0
 #: Two statements of one sample rate agree within this fraction.
 RATE_AGREEMENT = 0.01
 #: Horizontal divisions assumed when a file gives time per division but no count
@@ -857,6 +860,13 @@ def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
     """Refuse a rate from a time base without a unit that is too slow for light; warn of a
     slow one with a unit."""
     tb = lay.time
+    if (tb is not None and tb.unitless and tb.column is not None and "column" in tb.source
+            and MIN_UNITLESS_RATE_HZ <= fs < SLOW_UNITLESS_RATE_HZ):
+        # Passes as seconds, but a scope's ms column (fast sampling) looks the same: say so.
+        return [f"time column {lay.label(tb.column)!r} has no unit and was read as seconds "
+                f"({fs:.6g} Hz); if it is in ms the rate is {fs * 1e3:.6g} Hz and every "
+                f"frequency 1000 times higher: give --time-unit ms, or --time-unit s to "
+                f"confirm seconds"]
     if tb is None or fs >= MIN_UNITLESS_RATE_HZ:
         return []
     if not tb.unitless:

@@ -416,3 +416,23 @@ def test_utf16_table_is_named_as_such(tmp_path, codec):
                                              for i in range(50))).encode(codec))
     with pytest.raises(InputError, match="UTF-16.*save it as UTF-8"):
         read_capture(p)
+
+
+def test_unitless_ms_column_that_passes_as_slow_seconds_is_warned(tmp_path):
+    # Second review: 2 MHz sampling with time in ms and no unit read as a 100 s capture at
+    # 2 kHz; the 1234.56 Hz light was reported as 1.23 Hz with exit 0 and no word about the
+    # unit. Analytic: 1 + 0.3 sin(2 pi 1234.56 t) has percent flicker 30 % at 1234.56 Hz.
+    fs, f = 2e6, 1234.56
+    t = np.arange(20000) / fs
+    light = 1 + 0.3 * np.sin(2 * np.pi * f * t)
+    p = tmp_path / "fast_ms.csv"
+    p.write_text("time,light\n" + "".join(f"{a * 1e3:.7f},{v:.6f}\n" for a, v in zip(t, light)))
+    cap = read_capture(p)
+    assert cap.sample_rate_hz == pytest.approx(2000.0, rel=1e-6)  # read as seconds, as before
+    assert any("no unit" in w and "--time-unit ms" in w and "2e+06 Hz" in w
+               for w in cap.warnings), cap.warnings
+    ok = read_capture(p, ReadOptions(time_unit="ms"))
+    assert ok.sample_rate_hz == pytest.approx(fs, rel=1e-6)
+    assert not any("no unit" in w for w in ok.warnings)
+    sec = read_capture(p, ReadOptions(time_unit="s"))  # saying "seconds" silences it
+    assert not any("no unit" in w for w in sec.warnings)
