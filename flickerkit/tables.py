@@ -687,7 +687,14 @@ def table_layout(p: Path, options: ReadOptions) -> tuple[TableLayout, list[str]]
         warns.append(f"the file gives time per division but not the number of divisions: "
                      f"{DEFAULT_DIVISIONS} assumed; frequencies scale with it (give "
                      f"--sample-rate HZ to be sure)")
-    channels = [c for c in range(k) if c != tcol]
+    # A sample-index column beside a time column is no channel (it measured as the light).
+    extra_index = [c for c in range(k) if c != tcol and kind == "time" and names_f
+                   and _INDEX_NAMES.match(names[c])
+                   and _int_sequence(head[:, c], consecutive=True)]
+    for c in extra_index:
+        notes.append(f"column {label(c)!r} is a sample index beside the time column; not "
+                     f"taken as a channel")
+    channels = [c for c in range(k) if c != tcol and c not in extra_index]
     sig, choice = _choose_signal(names, units, channels, tcol, tb, options, label, warns, name)
     if sig == tcol:  # a time-like column asked for as the signal, with a rate given
         index_col = None

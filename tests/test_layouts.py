@@ -436,3 +436,21 @@ def test_unitless_ms_column_that_passes_as_slow_seconds_is_warned(tmp_path):
     assert not any("no unit" in w for w in ok.warnings)
     sec = read_capture(p, ReadOptions(time_unit="s"))  # saying "seconds" silences it
     assert not any("no unit" in w for w in sec.warnings)
+
+
+def test_index_column_beside_a_time_column_is_not_a_channel(tmp_path):
+    # Second review: "Index,Time (s),CH1" measured the index column as the light (100 %
+    # flicker, no frequency) with exit 0. Analytic: 1 + 0.3 sin(2 pi 1234.56 t) has percent
+    # flicker 30 % at 1234.56 Hz.
+    fs, f = 50000.0, 1234.56
+    t = np.arange(5000) / fs
+    light = 1 + 0.3 * np.sin(2 * np.pi * f * t)
+    p = tmp_path / "idx_time.csv"
+    p.write_text("Index,Time (s),CH1\n" + "".join(f"{i},{a:.8e},{v:.6f}\n"
+                                                  for i, (a, v) in enumerate(zip(t, light))))
+    cap = read_capture(p)
+    assert cap.read.column == "CH1" and cap.sample_rate_hz == pytest.approx(fs, rel=1e-6)
+    a = assess(cap)
+    assert a.percent_flicker == pytest.approx(30.0, abs=0.1)
+    assert a.frequency_hz == pytest.approx(f, rel=1e-3)
+    assert read_capture(p, ReadOptions(column="Index")).read.column == "Index"  # still namable
