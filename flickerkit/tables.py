@@ -712,6 +712,16 @@ def _time_column_base(c: int, label: str, unit_text: str | None, name: str, head
                       notes: list[str], warns: list[str]) -> TimeBase:
     """A time column's scale, from the option, the header or units row, or the stated rate."""
     if opt_unit is not None:
+        own_text = _bare(unit_text or "")
+        own = TIME_UNITS.get(own_text) if own_text else None
+        if own is None and header:
+            own = _unit_of(name)
+        if own is not None and own != opt_unit:
+            warns.append(f"time column {label!r} states {_unit_name(own)} "
+                         f"({(unit_text or name).strip()!r}) but --time-unit (or time_unit) "
+                         f"says {_unit_name(opt_unit)}, which was used: every frequency is "
+                         f"{own / opt_unit:g} times what the file's unit gives; drop the "
+                         f"option if the file is right")
         return TimeBase(c, opt_unit, source=f"column {label!r} in {_unit_name(opt_unit)} "
                                             f"(--time-unit)")
     u = _bare(unit_text or "")

@@ -454,3 +454,16 @@ def test_index_column_beside_a_time_column_is_not_a_channel(tmp_path):
     assert a.percent_flicker == pytest.approx(30.0, abs=0.1)
     assert a.frequency_hz == pytest.approx(f, rel=1e-3)
     assert read_capture(p, ReadOptions(column="Index")).read.column == "Index"  # still namable
+
+
+def test_time_unit_option_against_the_files_own_unit_is_warned(tmp_path):
+    # Second review: --time-unit ms on a file whose units row says "Second" rescaled the time
+    # 1000-fold without a word (exit 0); a project-wide time_unit does the same to every capture.
+    t = np.arange(2000) / 48000.0
+    p = tmp_path / "units.csv"
+    p.write_text("Time,PD\nSecond,Volt\n" + "".join(f"{a:.9e},{1 + 0.3 * np.sin(900 * a):.6f}\n"
+                                                    for a in t))
+    cap = read_capture(p, ReadOptions(time_unit="ms"))
+    assert any("Second" in w and "--time-unit" in w for w in cap.warnings), cap.warnings
+    same = read_capture(p, ReadOptions(time_unit="s"))
+    assert not any("--time-unit" in w for w in same.warnings)
