@@ -281,6 +281,10 @@ def load_project(path: str | Path) -> Project:
     )
 
 
+def _level_text(level: float | None) -> str:
+    return "no level" if level is None else f"level {level:g} %"
+
+
 def _distinct(entries: list[CaptureEntry], where: str = "") -> list[CaptureEntry]:
     """Give captures that share a label (same name in two folders, a file listed twice) labels
     of their own, so that none hides another in the record. One file (any spelling, hard
@@ -298,10 +302,9 @@ def _distinct(entries: list[CaptureEntry], where: str = "") -> list[CaptureEntry
         key = (st.st_dev, st.st_ino)
         if key in seen and seen[key][1].level != e.level:
             j, first = seen[key]
-            lv = (lambda x: "no level" if x is None else f"level {x:g} %")
             raise SettingsError(
-                f"{where} [[capture]] {j} ({first.file}, {lv(first.level)}) and [[capture]] {i} "
-                f"({e.file}, {lv(e.level)}) are the same file: one capture cannot record two "
+                f"{where} [[capture]] {j} ({first.file}, {_level_text(first.level)}) and "
+                f"[[capture]] {i} ({e.file}, {_level_text(e.level)}) are the same file: one capture cannot record two "
                 f"dimming levels; correct the file name")
         seen.setdefault(key, (i, e))
     labels, notes = unique_labels([e.label for e in entries], [str(e.file) for e in entries])
