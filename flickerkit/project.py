@@ -304,8 +304,8 @@ def _distinct(entries: list[CaptureEntry], where: str = "") -> list[CaptureEntry
             j, first = seen[key]
             raise SettingsError(
                 f"{where} [[capture]] {j} ({first.file}, {_level_text(first.level)}) and "
-                f"[[capture]] {i} ({e.file}, {_level_text(e.level)}) are the same file: one capture cannot record two "
-                f"dimming levels; correct the file name")
+                f"[[capture]] {i} ({e.file}, {_level_text(e.level)}) are the same file: one "
+                f"capture cannot record two dimming levels; correct the file name")
         seen.setdefault(key, (i, e))
     labels, notes = unique_labels([e.label for e in entries], [str(e.file) for e in entries])
     return [e if note is None else replace(e, label=lab, label_note=note)
