@@ -242,7 +242,7 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     read = _read_record(meta, samples, fs, options, suffix)
     meta["read"] = read.to_dict()
     if options.dark is not None:
-        dark, dark_note = _dark_level(options.dark, options)
+        dark, dark_note = _dark_level(options.dark, options, name)
         if isinstance(samples, FileSignal):
             samples = samples.with_dark(dark)
         else:
@@ -329,15 +329,34 @@ def _read_raw(p: Path, options: ReadOptions):
     return sig, float(options.sample_rate_hz), notes, warns, meta
 
 
-def _dark_level(dark: float | str, options: ReadOptions) -> tuple[float, str]:
+def _dark_number(value: float) -> tuple[float, str]:
+    from .assess import MAX_MAGNITUDE
+
+    if not np.isfinite(value):
+        raise InputError(f"dark level {value!r} is not a finite number", source="--dark")
+    if abs(value) > MAX_MAGNITUDE:
+        raise InputError(f"dark level {value:.6g} is beyond any plausible signal "
+                         f"(|x| <= {MAX_MAGNITUDE:g})", source="--dark")
+    return float(value), f"dark level {float(value):.6g} subtracted"
+
+
+def _dark_level(dark: float | str, options: ReadOptions,
+                capture: str | None = None) -> tuple[float, str]:
     if isinstance(dark, (int, float)):
-        if not np.isfinite(dark):
-            raise InputError(f"dark level {dark!r} is not a finite number", source="--dark")
-        return float(dark), f"dark level {float(dark):.6g} subtracted"
+        return _dark_number(float(dark))
     try:
-        return float(dark), f"dark level {float(dark):.6g} subtracted"
+        value = float(dark)
     except ValueError:
         pass
+    else:
+        return _dark_number(value)
+    if capture is not None:
+        try:
+            if os.path.samefile(dark, capture):
+                raise InputError(f"the dark capture {dark} is the capture itself: give the "
+                                 f"capture taken with the light off", source="--dark")
+        except OSError:
+            pass  # a missing dark file is reported when it is read
     sub = ReadOptions(column=options.column, sample_rate_hz=options.sample_rate_hz or 1.0,
                       time_unit=options.time_unit, fill_gaps=options.fill_gaps,
                       resample=options.resample)
