@@ -467,3 +467,18 @@ def test_time_unit_option_against_the_files_own_unit_is_warned(tmp_path):
     assert any("Second" in w and "--time-unit" in w for w in cap.warnings), cap.warnings
     same = read_capture(p, ReadOptions(time_unit="s"))
     assert not any("--time-unit" in w for w in same.warnings)
+
+
+@pytest.mark.parametrize("unit,scale", [("mSec", 1e3), ("msec", 1e3), ("usec", 1e6),
+                                        ("Milliseconds", 1e3), ("microsecond", 1e6)])
+def test_spelt_out_time_units_on_the_units_row(tmp_path, unit, scale):
+    # Second review: a units row with "mSec" under "Time" was refused as "no time column";
+    # analytic: 1 + 0.3 sin(2 pi 237.3 t) sampled at 48 kHz, percent flicker 30 %.
+    fs = 48000.0
+    t = np.arange(4800) / fs
+    p = tmp_path / "u.csv"
+    p.write_text(f"Time,PD\n{unit},V\n" + "".join(
+        f"{a * scale:.9g},{1 + 0.3 * np.sin(2 * np.pi * 237.3 * a):.6f}\n" for a in t))
+    cap = read_capture(p)
+    assert cap.sample_rate_hz == pytest.approx(fs, rel=1e-6)
+    assert assess(cap).percent_flicker == pytest.approx(30.0, abs=0.1)
