@@ -368,7 +368,10 @@ def get(ids: Sequence[str] | None = None,
     return out
 
 
-def _lookup(record: Mapping[str, Any], dotted: str) -> Any:
+_MISSING = object()
+
+
+def _lookup(record: Mapping[str, Any], dotted: str, missing: Any = None) -> Any:
     cur: Any = record
     for part in dotted.split("."):
         if isinstance(cur, Mapping) and part in cur:
@@ -377,11 +380,35 @@ def _lookup(record: Mapping[str, Any], dotted: str) -> Any:
             # filtered_percent_flicker.200 -> a {cut-off: value} mapping keyed by number
             match = [v for k, v in cur.items() if _same_number(k, part)]
             if not match:
-                return None
+                return missing
             cur = match[0]
         else:
-            return None
+            return missing
     return cur
+
+
+def _figure_paths(record: Mapping[str, Any]) -> list[str]:
+    """Dotted paths of the numbers in a record (for 'did you mean')."""
+    out = []
+    for k, v in record.items():
+        if isinstance(v, Mapping):
+            out += [f"{k}.{k2}" for k2, v2 in v.items()
+                    if isinstance(v2, (int, float)) and not isinstance(v2, bool)]
+        elif v is None or (isinstance(v, (int, float)) and not isinstance(v, bool)):
+            out.append(str(k))
+    return out
+
+
+def _unknown_metric(record: Mapping[str, Any], criterion: Criterion) -> SettingsError:
+    import difflib
+
+    paths = _figure_paths(record)
+    near = difflib.get_close_matches(criterion.metric, paths, n=1)
+    hint = f"did you mean {near[0]!r}? " if near else ""
+    top = ", ".join(p for p in paths if "." not in p)
+    return SettingsError(f"criterion {criterion.id!r}: metric {criterion.metric!r} is not a "
+                         f"figure of the record; {hint}(figures: {top}; nested ones as "
+                         f"'table.key', see README.md 'What measure reports')")
 
 
 def _same_number(a: Any, b: str) -> bool:
@@ -529,8 +556,17 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                            reason="no modulation below 90 Hz")
         measured = record.get("percent_flicker")
     else:
-        measured = _lookup(record, criterion.metric)
+        measured = _lookup(record, criterion.metric, _MISSING)
+        if measured is _MISSING:
+            if "percent_flicker" not in record:      # not a measured record: nothing to judge
+                measured = None
+            else:
+                raise _unknown_metric(record, criterion)
     if isinstance(measured, Mapping):
+        if "value" not in measured:
+            raise SettingsError(f"criterion {criterion.id!r}: metric {criterion.metric!r} is a "
+                                f"table, not a number; name one of its figures as "
+                                f"'{criterion.metric}.KEY'")
         measured = measured.get("value")
     if measured is None or (isinstance(measured, float) and not math.isfinite(measured)):
         return Verdict(**v, status="insufficient data", measured=None, limit=limit, margin=None,

@@ -10,7 +10,7 @@ also usable on its own.
 ============  ==============================================  ==================
 method        law (v -> Y)                                    default range
 ============  ==============================================  ==================
-``cie1976``   CIE 1976 lightness L* (closed form), v = L*      0 .. 100 %
+``cie1976``   CIE 1976 lightness L* (colour-science), v = L*  0 .. 100 %
 ``gamma``     power law Y = v ** gamma                        0 .. 100 %
 ``iec62386``  logarithmic, log10(Y) = v (IEC 62386-102)       0.1 .. 100 %
 ``linear``    Y = v                                           0 .. 100 %
@@ -38,10 +38,6 @@ IEC62386_LEVELS = 254
 #: Default exponent of the power-law curve (display-like gamma, brief §1.3).
 DEFAULT_GAMMA = 2.2
 
-#: CIE 15:2004 constants of L*: epsilon = (6/29)^3 and kappa = (29/3)^3 (exact rationals).
-_CIE_EPSILON = 216.0 / 24389.0
-_CIE_KAPPA = 24389.0 / 27.0
-
 _COLOUR_WARNING = r'"Matplotlib" related API features are not available'
 
 
@@ -67,7 +63,7 @@ def _colour():
 
 
 def lightness(relative_light: np.ndarray | float) -> np.ndarray:
-    """CIE 1976 lightness L* of relative light (closed form).
+    """CIE 1976 lightness L* of relative light, through colour-science.
 
     Parameters
     ----------
@@ -82,26 +78,26 @@ def lightness(relative_light: np.ndarray | float) -> np.ndarray:
     Notes
     -----
     ``L* = 116 (Y/Yn)^(1/3) - 16`` above Y/Yn = 216/24389, else
-    ``L* = (24389/27) Y/Yn``, with the exact rational constants of CIE 15:2004.
-    The closed form spares the 0.8 s import of colour-science, whose
-    ``colour.lightness(100 Y, method="CIE 1976")`` the tests compare it with.
+    ``L* = (24389/27) Y/Yn``. Computed by ``colour.lightness(100 Y,
+    method="CIE 1976")``.
 
     References
     ----------
     CIE 15:2004 Colorimetry, CIE 1976 L*a*b* (also ISO/CIE 11664-4).
-    colour-science 0.4.7, ``colour.lightness`` (the cross-check).
+    colour-science 0.4.7, ``colour.lightness``.
 
     Examples
     --------
     >>> round(float(lightness(0.184)), 4)
     49.9777
     """
+    colour = _colour()
     y = np.asarray(relative_light, dtype=np.float64)
-    return np.where(y > _CIE_EPSILON, 116.0 * np.cbrt(y) - 16.0, _CIE_KAPPA * y)
+    return np.asarray(colour.lightness(100.0 * y, method="CIE 1976"), dtype=np.float64)
 
 
 def luminance(lightness_value: np.ndarray | float) -> np.ndarray:
-    """Relative light of a CIE 1976 lightness L* (closed form).
+    """Relative light of a CIE 1976 lightness L*, through colour-science.
 
     Parameters
     ----------
@@ -116,20 +112,21 @@ def luminance(lightness_value: np.ndarray | float) -> np.ndarray:
     Notes
     -----
     ``Y/Yn = ((L* + 16)/116)^3`` above L* = 8, else ``L* 27/24389``.
-    The tests compare it with ``colour.luminance(L*, method="CIE 1976") / 100``.
+    Computed by ``colour.luminance(L*, method="CIE 1976") / 100``.
 
     References
     ----------
     CIE 15:2004 Colorimetry, CIE 1976 L*a*b*. colour-science 0.4.7,
-    ``colour.luminance`` (the cross-check).
+    ``colour.luminance``.
 
     Examples
     --------
     >>> round(float(luminance(50.0)), 6)
     0.184187
     """
+    colour = _colour()
     L = np.asarray(lightness_value, dtype=np.float64)
-    return np.where(L > 8.0, ((L + 16.0) / 116.0) ** 3, L / _CIE_KAPPA)
+    return np.asarray(colour.luminance(L, method="CIE 1976"), dtype=np.float64) / 100.0
 
 
 # --------------------------------------------------------------------------- IEC 62386
@@ -369,23 +366,30 @@ def read_two_columns(path: str | Path, what: str = "two-column file"
     import tempfile
 
     from .readers import ReadOptions, read_capture
-    from .sidefile import read_text
+    from .sidefile import decode, read_bytes
 
-    # the care side files get (regular file, size bound, encoding), then the capture table
-    # reader on the checked text; comment lines are blanked so line numbers stay the file's
-    text = read_text(path, what)
-    lines = ["" if ln.lstrip().startswith("#") else ln for ln in text.splitlines()]
-    with tempfile.TemporaryDirectory(prefix="flickerkit-table-") as tmp:
-        plain = Path(tmp) / (Path(path).stem + ".csv")
-        plain.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    # The side-file checks first (device, FIFO, size bound, encoding), so that a bad file is
+    # named as the side file it is; a UTF-16/32 table (byte-order mark) is read as UTF-8.
+    # Trailing '#' comment lines (after the last row) are dropped; line numbers stay true.
+    data = read_bytes(path, what)
+    text = decode(data, str(path), what)
+    lines = text.splitlines()
+    while lines and (not lines[-1].strip() or lines[-1].lstrip().startswith("#")):
+        lines.pop()
+    trimmed = "\n".join(lines) + "\n"
+    with tempfile.TemporaryDirectory(prefix="flickerkit-sidefile-") as tmp:
+        src = Path(path)
+        if trimmed.encode("utf-8") != data:
+            src = Path(tmp) / Path(path).name
+            src.write_text(trimmed, encoding="utf-8")
 
         def column(k: int) -> np.ndarray:
             # a sample rate is given only so that no column is taken for time
             try:
-                cap = read_capture(plain, ReadOptions(column=k, sample_rate_hz=1.0))
+                cap = read_capture(src, ReadOptions(column=k, sample_rate_hz=1.0))
             except InputError as exc:
-                raise InputError(exc.message, source=str(path), line=exc.line,
-                                 column=exc.column) from None
+                exc.source = str(path)
+                raise
             return np.asarray(cap.samples[:], dtype=np.float64)
 
         second = column(2)  # read first: a bad cell in either column is then located

@@ -56,6 +56,7 @@ Layout (every table but ``[product]`` and one of ``[[capture]]``/``[captures]``/
 from __future__ import annotations
 
 import datetime as _dt
+import os
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -236,7 +237,7 @@ def load_project(path: str | Path) -> Project:
                                 f"capture files in {base}")
         entries += [CaptureEntry(x, level_from_name(x.name), x.name, dict(read)) for x in files]
 
-    entries = _distinct(entries)
+    entries = _distinct(entries, where)
 
     drive = data.get("drive")
     levels: tuple[float, ...] = ()
@@ -280,13 +281,32 @@ def load_project(path: str | Path) -> Project:
     )
 
 
-def _distinct(entries: list[CaptureEntry]) -> list[CaptureEntry]:
+def _level_text(level: float | None) -> str:
+    return "no level" if level is None else f"level {level:g} %"
+
+
+def _distinct(entries: list[CaptureEntry], where: str = "") -> list[CaptureEntry]:
     """Give captures that share a label (same name in two folders, a file listed twice) labels
-    of their own, so that none hides another in the record."""
+    of their own, so that none hides another in the record. One file (any spelling, hard
+    link) listed at two dimming levels is refused: it would forge a level's row."""
     from dataclasses import replace
 
     from .labels import unique_labels
 
+    seen: dict[tuple[int, int], tuple[int, CaptureEntry]] = {}
+    for i, e in enumerate(entries, start=1):
+        try:
+            st = os.stat(e.file)
+        except OSError:
+            continue  # reported when the capture is read
+        key = (st.st_dev, st.st_ino)
+        if key in seen and seen[key][1].level != e.level:
+            j, first = seen[key]
+            raise SettingsError(
+                f"{where} [[capture]] {j} ({first.file}, {_level_text(first.level)}) and "
+                f"[[capture]] {i} ({e.file}, {_level_text(e.level)}) are the same file: one "
+                f"capture cannot record two dimming levels; correct the file name")
+        seen.setdefault(key, (i, e))
     labels, notes = unique_labels([e.label for e in entries], [str(e.file) for e in entries])
     return [e if note is None else replace(e, label=lab, label_note=note)
             for e, lab, note in zip(entries, labels, notes)]

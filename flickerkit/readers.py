@@ -242,7 +242,7 @@ def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = Non
     read = _read_record(meta, samples, fs, options, suffix)
     meta["read"] = read.to_dict()
     if options.dark is not None:
-        dark, dark_note = _dark_level(options.dark, options)
+        dark, dark_note = _dark_level(options.dark, options, name)
         if isinstance(samples, FileSignal):
             samples = samples.with_dark(dark)
         else:
@@ -315,7 +315,7 @@ def _read_raw(p: Path, options: ReadOptions):
     col = _column_number(options.column, ch, "raw file", name)
     notes = [f"raw {options.raw_dtype} little-endian, {ch} channel(s), sample rate "
              f"{float(options.sample_rate_hz):g} Hz given"]
-    warns = []
+    warns = _unnamed_choice(ch, options, name, "raw file")
     if size % frame:
         # a whole file of samples divides evenly; a remainder suggests a header, a wrong
         # --raw-dtype or a wrong --raw-channels, any of which garbles every sample
@@ -329,15 +329,34 @@ def _read_raw(p: Path, options: ReadOptions):
     return sig, float(options.sample_rate_hz), notes, warns, meta
 
 
-def _dark_level(dark: float | str, options: ReadOptions) -> tuple[float, str]:
+def _dark_number(value: float) -> tuple[float, str]:
+    from .assess import MAX_MAGNITUDE
+
+    if not np.isfinite(value):
+        raise InputError(f"dark level {value!r} is not a finite number", source="--dark")
+    if abs(value) > MAX_MAGNITUDE:
+        raise InputError(f"dark level {value:.6g} is beyond any plausible signal "
+                         f"(|x| <= {MAX_MAGNITUDE:g})", source="--dark")
+    return float(value), f"dark level {float(value):.6g} subtracted"
+
+
+def _dark_level(dark: float | str, options: ReadOptions,
+                capture: str | None = None) -> tuple[float, str]:
     if isinstance(dark, (int, float)):
-        if not np.isfinite(dark):
-            raise InputError(f"dark level {dark!r} is not a finite number", source="--dark")
-        return float(dark), f"dark level {float(dark):.6g} subtracted"
+        return _dark_number(float(dark))
     try:
-        return float(dark), f"dark level {float(dark):.6g} subtracted"
+        value = float(dark)
     except ValueError:
         pass
+    else:
+        return _dark_number(value)
+    if capture is not None:
+        try:
+            if os.path.samefile(dark, capture):
+                raise InputError(f"the dark capture {dark} is the capture itself: give the "
+                                 f"capture taken with the light off", source="--dark")
+        except OSError:
+            pass  # a missing dark file is reported when it is read
     sub = ReadOptions(column=options.column, sample_rate_hz=options.sample_rate_hz or 1.0,
                       time_unit=options.time_unit, fill_gaps=options.fill_gaps,
                       resample=options.resample)
@@ -366,6 +385,19 @@ def _channel(data: np.ndarray, options: ReadOptions, name: str,
         return data, 1
     col = _column_number(options.column, data.shape[1], what, name)
     return data[:, col - 1], col
+
+
+def _unnamed_choice(count: int, options: ReadOptions, name: str, what: str) -> list[str]:
+    """Warn (or, when the choice is required, refuse) when the first of several channels of
+    a binary file is taken without being named: it may be the gate drive, not the light."""
+    if count < 2 or options.column is not None:
+        return []
+    if options.require_column:
+        raise InputError(f"the {what} holds {count} channels that could be the light and none "
+                         f"is named: choose one with column = N in the project file",
+                         source=name)
+    return [f"the {what} holds {count} channels that could be the light; measured the first: "
+            f"name it with --column N to be sure"]
 
 
 def _column_number(column, k: int, what: str, name: str) -> int:
@@ -415,7 +447,8 @@ def _read_wav(p: Path, options: ReadOptions):
         raise InputError("WAV file holds no samples", source=name)
     zero, scale, pcm_note = _pcm_level(data.dtype)
     sig, ch = _channel(data, options, name, "WAV file")
-    warns: list[str] = header_doubts
+    warns: list[str] = header_doubts + _unnamed_choice(
+        data.shape[1] if data.ndim == 2 else 1, options, name, "WAV file")
     lazy = _streams(int(data.shape[0]), options) and isinstance(data, np.memmap)
     if np.issubdtype(sig.dtype, np.integer):
         info = np.iinfo(sig.dtype)
@@ -500,9 +533,11 @@ def _read_npy(p: Path, options: ReadOptions):
         if not options.sample_rate_hz:
             raise InputError("a 1-D .npy holds no time: give --sample-rate HZ", source=name)
         sig, col = _channel(data, options, name, ".npy array")
+        choice = _unnamed_choice(data.shape[1] if data.ndim == 2 else 1, options, name,
+                                 ".npy array")
         fs = float(options.sample_rate_hz)
         if lazy:
-            return (_file_signal(data, p, col - 1), fs, notes, [],
+            return (_file_signal(data, p, col - 1), fs, notes, choice,
                     {"format": "NumPy .npy", "column": f"column {col}"})
         x = np.asarray(sig)
     else:
@@ -511,6 +546,7 @@ def _read_npy(p: Path, options: ReadOptions):
                              "--sample-rate", source=name)
         opts = options if options.column is not None else ReadOptions(column=2)
         sig, col = _channel(data, opts, name, ".npy array")
+        choice = _unnamed_choice(data.shape[1] - 1, options, name, ".npy array")
         if col == 1:
             raise InputError("column 1 of a 2-D .npy is time; choose a signal column",
                              source=name)
@@ -520,7 +556,7 @@ def _read_npy(p: Path, options: ReadOptions):
                                  "stream with resampling", source=name)
             fs = _npy_time_checked(data, _uniform_blocks(_file_signal(data, p, 0), name, 0),
                                    name)
-            return (_file_signal(data, p, col - 1), fs, notes, [],
+            return (_file_signal(data, p, col - 1), fs, notes, choice,
                     {"format": "NumPy .npy", "column": f"column {col}"})
         t = np.asarray(data[:, 0], dtype=np.float64)
         x, fs, notes = _uniform(t, np.asarray(sig, dtype=np.float64), options.resample, name, 0)
@@ -530,4 +566,4 @@ def _read_npy(p: Path, options: ReadOptions):
     if not np.all(np.isfinite(x)):
         i = int(np.flatnonzero(~np.isfinite(x))[0])
         raise InputError(f"sample {i} is not a finite number", source=name)
-    return x, fs, notes, [], {"format": "NumPy .npy", "column": f"column {col}"}
+    return x, fs, notes, choice, {"format": "NumPy .npy", "column": f"column {col}"}

@@ -46,7 +46,10 @@ if TYPE_CHECKING:
 
 #: Time units recognised in headers and options [s].
 TIME_UNITS = {"s": 1.0, "sec": 1.0, "second": 1.0, "seconds": 1.0, "ms": 1e-3,
-              "us": 1e-6, "µs": 1e-6, "μs": 1e-6, "ns": 1e-9, "ps": 1e-12}
+              "us": 1e-6, "µs": 1e-6, "μs": 1e-6, "ns": 1e-9, "ps": 1e-12,
+              "msec": 1e-3, "millisecond": 1e-3, "milliseconds": 1e-3,
+              "usec": 1e-6, "microsecond": 1e-6, "microseconds": 1e-6,
+              "nsec": 1e-9, "nanosecond": 1e-9, "nanoseconds": 1e-9}
 _TIME_NAMES = re.compile(r"^\s*(t|time|zeit|temps|tiempo|tempo|sec|second|seconds|x|s|ms|us|µs"
                          r"|μs|ns)(?![a-z])", re.I)
 _UNIT_IN_NAME = re.compile(r"[\(\[\{/_ ]\s*(ns|us|µs|μs|ms|s|sec)\s*[\)\]\}]?\s*$", re.I)
@@ -83,6 +86,9 @@ TEXT_CHUNK_ROWS = 1_000_000
 MIN_UNITLESS_RATE_HZ = 1000.0
 #: Rates that make sense for a light capture, used to suggest a time unit [Hz].
 PLAUSIBLE_RATE_HZ = (1000.0, 1e10)
+#: Below this rate [Hz] a time column without a unit that passes as seconds is warned about:
+#: as ms it would be 1-10 MHz, a common scope rate (common practice, no source).
+SLOW_UNITLESS_RATE_HZ = 10000.0
 #: Two statements of one sample rate agree within this fraction.
 RATE_AGREEMENT = 0.01
 #: Horizontal divisions assumed when a file gives time per division but no count
@@ -238,6 +244,11 @@ class TableLayout:
 def _decode_head(p: Path) -> tuple[str, str]:
     with p.open("rb") as fh:
         raw = fh.read(_HEAD_BYTES)
+    if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or (
+            len(raw) >= 64 and raw[1:64:2].count(0) > 24 and raw[0:64:2].count(0) == 0):
+        # UTF-16 (spreadsheet "Unicode text" exports); UTF-32 starts with FF FE too
+        raise InputError("is UTF-16/32 text (a spreadsheet's 'Unicode text' export?), not read: "
+                         "save it as UTF-8 or plain text (CSV)", source=str(p))
     if b"\x00" in raw[:4096]:
         raise InputError("looks like a binary file, not a text table (use .wav or .npy "
                          "for binary captures)", source=str(p))
@@ -310,6 +321,12 @@ def _leading_empty(line: str, sep: str) -> int:
     return n if n < len(raw) else 0
 
 
+#: A row that starts with a calendar date (2026-11-20, 20.11.2026, 11/20/2026) or a clock time
+#: (10:00:00.000020), as data loggers write; refused with what to do.
+_DATE_OR_CLOCK = re.compile(r'^"?(\d{1,4}[-./]\d{1,2}[-./]\d{1,4}|\d{1,2}:\d{2}(:\d{2})?)'
+                            r'([ T\t,;]|[.,]\d|"|$)')
+
+
 def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int, int]:
     """Separator, decimal mark, first data line, numeric columns per row, side columns.
 
@@ -344,6 +361,11 @@ def _sniff(lines: list[str], name: str) -> tuple[str, str, int, int, int]:
             if best is None or score > best[:2]:
                 best = (score[0], k, sep, dec, lead)
     if best is None or best[0] < max(1, len(tail) // 2):
+        if tail and sum(bool(_DATE_OR_CLOCK.match(ln.strip())) for ln in tail) >= len(tail) // 2:
+            raise InputError("the rows start with a date or clock time, which is not read as a "
+                             "time base; export the time as seconds (or ms, us) from the start, "
+                             "or delete the date/time column(s) and give --sample-rate HZ",
+                             source=name)
         raise InputError("no numeric table found: the last lines are not rows of numbers "
                          "with a common separator (comma, semicolon, tab or space)",
                          source=name)
@@ -668,7 +690,14 @@ def table_layout(p: Path, options: ReadOptions) -> tuple[TableLayout, list[str]]
         warns.append(f"the file gives time per division but not the number of divisions: "
                      f"{DEFAULT_DIVISIONS} assumed; frequencies scale with it (give "
                      f"--sample-rate HZ to be sure)")
-    channels = [c for c in range(k) if c != tcol]
+    # A sample-index column beside a time column is no channel (it measured as the light).
+    extra_index = [c for c in range(k) if c != tcol and kind == "time" and names_f
+                   and _INDEX_NAMES.match(names[c])
+                   and _int_sequence(head[:, c], consecutive=True)]
+    for c in extra_index:
+        notes.append(f"column {label(c)!r} is a sample index beside the time column; not "
+                     f"taken as a channel")
+    channels = [c for c in range(k) if c != tcol and c not in extra_index]
     sig, choice = _choose_signal(names, units, channels, tcol, tb, options, label, warns, name)
     if sig == tcol:  # a time-like column asked for as the signal, with a rate given
         index_col = None
@@ -686,6 +715,16 @@ def _time_column_base(c: int, label: str, unit_text: str | None, name: str, head
                       notes: list[str], warns: list[str]) -> TimeBase:
     """A time column's scale, from the option, the header or units row, or the stated rate."""
     if opt_unit is not None:
+        own_text = _bare(unit_text or "")
+        own = TIME_UNITS.get(own_text) if own_text else None
+        if own is None and header:
+            own = _unit_of(name)
+        if own is not None and own != opt_unit:
+            warns.append(f"time column {label!r} states {_unit_name(own)} "
+                         f"({(unit_text or name).strip()!r}) but --time-unit (or time_unit) "
+                         f"says {_unit_name(opt_unit)}, which was used: every frequency is "
+                         f"{own / opt_unit:g} times what the file's unit gives; drop the "
+                         f"option if the file is right")
         return TimeBase(c, opt_unit, source=f"column {label!r} in {_unit_name(opt_unit)} "
                                             f"(--time-unit)")
     u = _bare(unit_text or "")
@@ -841,6 +880,13 @@ def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
     """Refuse a rate from a time base without a unit that is too slow for light; warn of a
     slow one with a unit."""
     tb = lay.time
+    if (tb is not None and tb.unitless and tb.column is not None and "column" in tb.source
+            and MIN_UNITLESS_RATE_HZ <= fs < SLOW_UNITLESS_RATE_HZ):
+        # Passes as seconds, but a scope's ms column (fast sampling) looks the same: say so.
+        return [f"time column {lay.label(tb.column)!r} has no unit and was read as seconds "
+                f"({fs:.6g} Hz); if it is in ms the rate is {fs * 1e3:.6g} Hz and every "
+                f"frequency 1000 times higher: give --time-unit ms, or --time-unit s to "
+                f"confirm seconds"]
     if tb is None or fs >= MIN_UNITLESS_RATE_HZ:
         return []
     if not tb.unitless:

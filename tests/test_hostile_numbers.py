@@ -121,3 +121,13 @@ def test_camera_and_steps_options_bounded(capsys, argv, match):
 def test_steps_output_and_workbook_spelled_differently_are_one_file(tmp_path, capsys):
     _refused(capsys, ["steps", "-n", "8", "--bits", "10", "-o", tmp_path / "s.csv", "--xlsx",
                       f"{tmp_path}/./s.csv", "-q"], "name the same file")
+
+
+@pytest.mark.parametrize("dark,match", [
+    ("1e308", "--dark: dark level 1e+308 is beyond any plausible signal"),
+    ("-1e200", "--dark: dark level -1e+200 is beyond any plausible signal"),
+    ("SELF", "is the capture itself")])
+def test_absurd_dark_level_names_the_option(cap, capsys, dark, match):
+    # Second review: --dark 1e308 was blamed on the capture ("samples reach 1e+308 ... check
+    # the file's scaling"); the capture as its own dark file gave ~0 mean light and exit 0.
+    _refused(capsys, ["measure", cap, f"--dark={cap if dark == 'SELF' else dark}", "-q"], match)

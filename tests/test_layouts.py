@@ -386,3 +386,100 @@ def test_npy_sample_count_or_slow_column_1_is_refused(tmp_path, light):
     np.save(r, np.column_stack([np.arange(light.size) * DT, light]))
     check(read_capture(r), light)
     assert read_capture(r).read.time_base == "column 1 (seconds)"
+
+
+@pytest.mark.parametrize("stamp", ["date-and-clock", "iso"])
+def test_logger_date_time_column_is_refused_with_what_to_do(tmp_path, capsys, stamp):
+    # Second review: a tab-separated logger file with a date-time column was refused as
+    # "no numeric table found", which does not say what is wrong or how to fix it.
+    lines = ["Date\tTime\tCh1 (V)" if stamp != "iso" else "DateTime\tCh1 (V)"]
+    for i in range(40):
+        us = i * 20  # 50 kHz
+        clock = f"10:00:00.{us:06d}"
+        lines.append(f"2026-11-20\t{clock}\t{1 + 0.3 * np.sin(i):.5f}" if stamp != "iso"
+                     else f"2026-11-20T{clock}\t{1 + 0.3 * np.sin(i):.5f}")
+    p = tmp_path / "logger.txt"
+    p.write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError, match="date or clock time") as exc:
+        read_capture(p)
+    assert "--sample-rate" in str(exc.value) and "logger.txt" in str(exc.value)
+    assert main(["measure", str(p), "-q"]) == 1
+    err = capsys.readouterr().err
+    assert len(err.strip().splitlines()) == 1 and "Traceback" not in err
+
+
+@pytest.mark.parametrize("codec", ["utf-16", "utf-16-le"])
+def test_utf16_table_is_named_as_such(tmp_path, codec):
+    # Second review: a UTF-16 table (with or without byte-order mark) was called "a binary
+    # file ... use .wav or .npy", which sends the user the wrong way.
+    p = tmp_path / "unicode.txt"
+    p.write_bytes(("time\tlight\n" + "".join(f"{i / 5e4:.6f}\t{1 + 0.3 * np.sin(i):.5f}\n"
+                                             for i in range(50))).encode(codec))
+    with pytest.raises(InputError, match="UTF-16.*save it as UTF-8"):
+        read_capture(p)
+
+
+def test_unitless_ms_column_that_passes_as_slow_seconds_is_warned(tmp_path):
+    # Second review: 2 MHz sampling with time in ms and no unit read as a 100 s capture at
+    # 2 kHz; the 1234.56 Hz light was reported as 1.23 Hz with exit 0 and no word about the
+    # unit. Analytic: 1 + 0.3 sin(2 pi 1234.56 t) has percent flicker 30 % at 1234.56 Hz.
+    fs, f = 2e6, 1234.56
+    t = np.arange(20000) / fs
+    light = 1 + 0.3 * np.sin(2 * np.pi * f * t)
+    p = tmp_path / "fast_ms.csv"
+    p.write_text("time,light\n" + "".join(f"{a * 1e3:.7f},{v:.6f}\n" for a, v in zip(t, light)))
+    cap = read_capture(p)
+    assert cap.sample_rate_hz == pytest.approx(2000.0, rel=1e-6)  # read as seconds, as before
+    assert any("no unit" in w and "--time-unit ms" in w and "2e+06 Hz" in w
+               for w in cap.warnings), cap.warnings
+    ok = read_capture(p, ReadOptions(time_unit="ms"))
+    assert ok.sample_rate_hz == pytest.approx(fs, rel=1e-6)
+    assert not any("no unit" in w for w in ok.warnings)
+    sec = read_capture(p, ReadOptions(time_unit="s"))  # saying "seconds" silences it
+    assert not any("no unit" in w for w in sec.warnings)
+
+
+def test_index_column_beside_a_time_column_is_not_a_channel(tmp_path):
+    # Second review: "Index,Time (s),CH1" measured the index column as the light (100 %
+    # flicker, no frequency) with exit 0. Analytic: 1 + 0.3 sin(2 pi 1234.56 t) has percent
+    # flicker 30 % at 1234.56 Hz.
+    fs, f = 50000.0, 1234.56
+    t = np.arange(5000) / fs
+    light = 1 + 0.3 * np.sin(2 * np.pi * f * t)
+    p = tmp_path / "idx_time.csv"
+    p.write_text("Index,Time (s),CH1\n" + "".join(f"{i},{a:.8e},{v:.6f}\n"
+                                                  for i, (a, v) in enumerate(zip(t, light))))
+    cap = read_capture(p)
+    assert cap.read.column == "CH1" and cap.sample_rate_hz == pytest.approx(fs, rel=1e-6)
+    a = assess(cap)
+    assert a.percent_flicker == pytest.approx(30.0, abs=0.1)
+    assert a.frequency_hz == pytest.approx(f, rel=1e-3)
+    assert read_capture(p, ReadOptions(column="Index")).read.column == "Index"  # still namable
+
+
+def test_time_unit_option_against_the_files_own_unit_is_warned(tmp_path):
+    # Second review: --time-unit ms on a file whose units row says "Second" rescaled the time
+    # 1000-fold without a word (exit 0); a project-wide time_unit does the same to every capture.
+    t = np.arange(2000) / 48000.0
+    p = tmp_path / "units.csv"
+    p.write_text("Time,PD\nSecond,Volt\n" + "".join(f"{a:.9e},{1 + 0.3 * np.sin(900 * a):.6f}\n"
+                                                    for a in t))
+    cap = read_capture(p, ReadOptions(time_unit="ms"))
+    assert any("Second" in w and "--time-unit" in w for w in cap.warnings), cap.warnings
+    same = read_capture(p, ReadOptions(time_unit="s"))
+    assert not any("--time-unit" in w for w in same.warnings)
+
+
+@pytest.mark.parametrize("unit,scale", [("mSec", 1e3), ("msec", 1e3), ("usec", 1e6),
+                                        ("Milliseconds", 1e3), ("microsecond", 1e6)])
+def test_spelt_out_time_units_on_the_units_row(tmp_path, unit, scale):
+    # Second review: a units row with "mSec" under "Time" was refused as "no time column";
+    # analytic: 1 + 0.3 sin(2 pi 237.3 t) sampled at 48 kHz, percent flicker 30 %.
+    fs = 48000.0
+    t = np.arange(4800) / fs
+    p = tmp_path / "u.csv"
+    p.write_text(f"Time,PD\n{unit},V\n" + "".join(
+        f"{a * scale:.9g},{1 + 0.3 * np.sin(2 * np.pi * 237.3 * a):.6f}\n" for a in t))
+    cap = read_capture(p)
+    assert cap.sample_rate_hz == pytest.approx(fs, rel=1e-6)
+    assert assess(cap).percent_flicker == pytest.approx(30.0, abs=0.1)

@@ -189,3 +189,31 @@ def test_unreadable_file(tmp_path):
     p.chmod(0)
     with pytest.raises(InputError, match="permission"):
         read_capture(p)
+
+
+def test_first_of_several_binary_channels_is_said_or_required(tmp_path):
+    # Second review: a stereo WAV (gate drive on channel 1, light on 2) and a 2-D .npy with
+    # two signal columns were measured on the first channel without a word; text tables warn.
+    import wave
+
+    fs = 48000
+    t = np.arange(4800) / fs
+    light = 1 + 0.3 * np.sin(2 * np.pi * 237.3 * t)   # analytic: percent flicker 30 %
+    gate = (np.sin(2 * np.pi * 237.3 * t) > 0) * 0.9
+    pcm = (np.stack([gate, light / 1.5], 1) * 32767).astype("<i2")
+    wav = tmp_path / "st.wav"
+    with wave.open(str(wav), "wb") as w:
+        w.setnchannels(2)
+        w.setsampwidth(2)
+        w.setframerate(fs)
+        w.writeframes(pcm.tobytes())
+    npy = tmp_path / "m.npy"
+    np.save(npy, np.stack([t, gate, light], 1))
+    for p in (wav, npy):
+        cap = read_capture(p)
+        assert any("2 channels" in w and "--column" in w for w in cap.warnings), cap.warnings
+        named = read_capture(p, ReadOptions(column=2 if p is wav else 3))
+        assert not any("channels" in w for w in named.warnings)
+        assert assess(named).percent_flicker == pytest.approx(30.0, abs=0.2)
+        with pytest.raises(InputError, match="none is named"):
+            read_capture(p, ReadOptions(require_column=True))

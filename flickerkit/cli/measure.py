@@ -48,13 +48,15 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("reading captures")
     g.add_argument("-c", "--column", metavar="NAME|N",
                    help="signal column by header name or 1-based number (WAV: channel); "
-                        "default: the first column that is not time")
+                        "default: the one column whose name or unit says light (photodiode, "
+                        "lux...), else the first that is not time, with a warning")
     g.add_argument("-r", "--sample-rate", type=float, metavar="HZ",
                    help="sample rate in Hz, for files without a time column (overrides one; "
                         "above 0, at most 1e10)")
     g.add_argument("--time-unit", metavar="UNIT",
                    help="unit of the time column: s, ms, us, µs or ns, in any case (default: "
-                        "from the header, else s)")
+                        "from the header or units row; without one, s if that gives at least "
+                        "1 kHz, else refused); overrides the file's unit, with a warning")
     g.add_argument("--dark", metavar="LEVEL|FILE",
                    help="dark level to subtract: a number in the signal's unit, or a dark "
                         "capture file whose mean is used")
