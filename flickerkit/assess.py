@@ -396,7 +396,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         period = known_fundamental(n, fs, float(known))
     else:
         period = fundamental_frequency(head, fs, mean=float(np.mean(head)), n_total=n)
-    if period.frequency_hz is not None:
+    if period.frequency_hz is not None and period.period_samples is not None:  # found together
         bounds = metrics.period_bounds(period.periods, period.period_samples, n)
     else:
         bounds = np.array([0, n], dtype=np.int64)
@@ -423,7 +423,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     else:
         noise = metrics.noise_rms(head)
 
-    if period.frequency_hz is not None:
+    if period.frequency_hz is not None and period.period_samples is not None:
         spp = float(period.period_samples)
         if period.periods < MIN_PERIODS:
             warnings.warn(CaptureWarning(
@@ -522,12 +522,12 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
                                                        * period.frequency_hz))
         if bins.size:
             # harmonic h is at h f0 (its bin's frequency carries the span's rounding)
-            order = np.arange(1, bins.size + 1)
+            orders = np.arange(1, bins.size + 1)
             u0 = max(modul.fundamental_uncertainty_hz,
                      modulation.EDGE_RTOL * period.frequency_hz)
             per_h = ieee1789.classify_components(
-                period.frequency_hz * order, spec.amplitudes[bins],
-                edge_tolerance_hz=u0 * order)
+                period.frequency_hz * orders, spec.amplitudes[bins],
+                edge_tolerance_hz=u0 * orders)
         reading = per_h if settings.ieee1789_mode == "per-harmonic" and per_h else fund
         head_ieee = _composite_ieee(reading, modul, filt)
     below = _below_90(modul, filt)

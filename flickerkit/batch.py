@@ -136,7 +136,7 @@ def limit_threads(workers: int) -> int:
     least-squares solves use every BLAS thread, and ``workers x threads``
     threads fight over the CPUs.
     """
-    from threadpoolctl import threadpool_limits
+    from threadpoolctl import threadpool_limits  # type: ignore[import-untyped]  # no stubs
 
     threads = max(1, default_workers() // max(1, workers))
     threadpool_limits(limits=threads)

@@ -27,6 +27,7 @@ applicable standards, local codes and an accredited laboratory decide.
 from __future__ import annotations
 
 import datetime as _dt
+import functools
 import math
 import operator
 from dataclasses import dataclass
@@ -490,33 +491,35 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
     """
     date = date or _dt.date.today()
     label = str(record.get("label", ""))
-    v = dict(criterion=criterion.id, label=label, level=level)
+    # the fields every verdict of this call shares
+    verdict = functools.partial(Verdict, criterion=criterion.id, label=label, level=level)
     if criterion.levels is not None:
         if level is None:
-            return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
+            return verdict(status="not applicable", measured=None, limit=None, margin=None,
                            reason=f"applies at {_levels(criterion.levels)}; the capture's "
                                   f"dimming level is not given")
         if not any(abs(level - lv) <= LEVEL_TOLERANCE for lv in criterion.levels):
-            return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
+            return verdict(status="not applicable", measured=None, limit=None, margin=None,
                            reason=f"applies at {_levels(criterion.levels)} only")
     limit = criterion.limit_on(date)
-    if limit is None:
-        return Verdict(**v, status="not applicable", measured=None, limit=None, margin=None,
-                       reason=f"not in force on {date.isoformat()} (from "
-                              f"{criterion.effective_from.isoformat()})")
+    if limit is None:  # so the first limit has a start date, after ``date``
+        start = criterion.effective_from
+        since = f" (from {start.isoformat()})" if start is not None else ""
+        return verdict(status="not applicable", measured=None, limit=None, margin=None,
+                       reason=f"not in force on {date.isoformat()}{since}")
     why = _insufficient(record, criterion.requires)
     acq = record.get("acquisition")
     if not why and isinstance(acq, Mapping) and acq.get("folding_suspected"):
         why = f"content above half the sample rate may have folded down: {acq.get('reason')}"
     if why:
-        return Verdict(**v, status="insufficient data", measured=None, limit=None, margin=None,
+        return verdict(status="insufficient data", measured=None, limit=None, margin=None,
                        reason=why)
 
     if criterion.metric in ("ieee1789.low_risk", "ieee1789.noel"):
         ieee = record.get("ieee1789")
         if record.get("frequency_hz") is None or not ieee:
             status, reason = _no_period_reason(record)
-            return Verdict(**v, status=status, measured=None, limit=None, margin=None,
+            return verdict(status=status, measured=None, limit=None, margin=None,
                            reason=reason)
         which = "low_risk" if criterion.metric.endswith("low_risk") else "noel"
         measured = ieee["modulation_percent"]
@@ -529,7 +532,7 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                + (f", decided by {decided}" if decided not in (ieee["mode"], "") else "")
                + (f"; {ieee['edge']}" if ieee.get("edge") else "")
                + ("" if limit is not None else "; exempt above the upper frequency"))
-        return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
+        return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
                        margin=margin, reason=how)
 
     if criterion.metric == "below_90hz_modulation":
@@ -537,22 +540,23 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
         low = record.get("below_90hz")
         if f is None and not (low and low.get("modulation_percent") is not None):
             status, reason = _no_period_reason(record)
-            return Verdict(**v, status=status, measured=None, limit=limit, margin=None,
+            return verdict(status=status, measured=None, limit=limit, margin=None,
                            reason=reason)
         if isinstance(low, Mapping):
             # the light low-passed below 90 Hz, whatever carrier rides above it
             if low.get("modulation_percent") is None:
-                return Verdict(**v, status="not applicable", measured=None, limit=limit,
+                return verdict(status="not applicable", measured=None, limit=limit,
                                margin=None,
                                reason="nothing below 90 Hz stands above the noise")
             measured = float(low["modulation_percent"])
             ok = measured <= limit
-            return Verdict(**v, status="pass" if ok else "fail", measured=measured,
+            return verdict(status="pass" if ok else "fail", measured=measured,
                            limit=limit, margin=limit - measured,
                            reason=f"modulation depth below 90 Hz (low-passed, strongest "
                                   f"component {low['frequency_hz']:.4g} Hz) <= {limit:g} %")
+        assert f is not None  # a record without a period has a low-passed figure or left above
         if f >= 90.0:
-            return Verdict(**v, status="not applicable", measured=None, limit=limit, margin=None,
+            return verdict(status="not applicable", measured=None, limit=limit, margin=None,
                            reason="no modulation below 90 Hz")
         measured = record.get("percent_flicker")
     else:
@@ -569,7 +573,7 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                                 f"'{criterion.metric}.KEY'")
         measured = measured.get("value")
     if measured is None or (isinstance(measured, float) and not math.isfinite(measured)):
-        return Verdict(**v, status="insufficient data", measured=None, limit=limit, margin=None,
+        return verdict(status="insufficient data", measured=None, limit=limit, margin=None,
                        reason=f"no {criterion.metric} value (capture too short or the "
                               f"method's requirements not met; see the capture's warnings)")
     if isinstance(measured, bool) or not isinstance(measured, (int, float)):
@@ -589,7 +593,7 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
     form = _threshold_form(criterion, detail, ok, limit)
     if form:
         how += f"; {form}"
-    return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
+    return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
                    margin=margin, reason=how, threshold_form=form)
 
 

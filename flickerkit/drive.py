@@ -570,7 +570,7 @@ class Light:
         scale = max(abs(self.base_mean), 1e-300)
         t = np.concatenate([np.linspace(0.0, T, 4096, endpoint=False),
                             *[np.mod(tr.breakpoints() + 1e-9 * T, T) for tr in self.trains]])
-        base = sum(tr.values(t) for tr in self.trains)
+        base = sum((tr.values(t) for tr in self.trains), np.zeros(t.shape))
         nz = j[np.abs(c) > _DIVISOR_RTOL * scale]
         if nz.size == 0:
             if float(base.max() - base.min()) <= _DIVISOR_RTOL * scale:
@@ -677,7 +677,7 @@ class Light:
     def values(self, t: np.ndarray) -> np.ndarray:
         """Point values of the light at times t [relative light]."""
         t = np.asarray(t, dtype=np.float64)
-        base = sum(tr.values(t) for tr in self.trains)
+        base = sum((tr.values(t) for tr in self.trains), np.zeros(t.shape))
         w, rho = self._ripple_terms()
         if w.size:
             u = (rho[None, :] * np.exp(1j * w[None, :] * t.reshape(-1, 1))).real.sum(axis=1)
@@ -755,11 +755,11 @@ class Light:
         f0 = self.fundamental_hz
         span = 1.0 / f0 if f0 else 100 * T
         reps = np.arange(max(1, int(math.ceil(span / T - 1e-9)))) * T
-        cuts = [np.array([0.0, span])]
+        bounds = [np.array([0.0, span])]
         for tr in self.trains:
             b = (tr.breakpoints()[None, :] + reps[:, None]).ravel()
-            cuts.append(np.mod(b, span))
-        cuts = np.unique(np.concatenate(cuts))
+            bounds.append(np.mod(b, span))
+        cuts = np.unique(np.concatenate(bounds))
         cuts = cuts[(cuts >= 0) & (cuts <= span)]
         lens = np.diff(cuts)
         keep = lens > 1e-12 * span
@@ -1411,20 +1411,25 @@ class Drive:
     def _pwm(self, duty: float, on_level: float) -> LightModel:
         off = self.off_level * on_level if self.method == "hybrid" else self.off_level
         off = min(off, on_level * 0.999999)
-        common = dict(edges=self.edges, turn_on_delay_s=self.turn_on_delay_s,
-                      min_on_time_s=self.min_on_time_s, min_on_mode=self.min_on_mode)
+        edges, delay_s = self.edges, self.turn_on_delay_s
+        min_on_s, min_on_mode = self.min_on_time_s, self.min_on_mode
         if self.dither_bits:
+            assert self.counts_per_period is not None  # __post_init__ refuses dither without
             return DitheredPwm(self.frequency_hz, duty, int(self.counts_per_period),
                                int(self.dither_bits), on_level=on_level, off_level=off,
-                               ripple=self.ripple, **common)
+                               ripple=self.ripple, edges=edges, turn_on_delay_s=delay_s,
+                               min_on_time_s=min_on_s, min_on_mode=min_on_mode)
         if self.counts_per_period:
             duty = round(duty * self.counts_per_period) / self.counts_per_period
         if self.channels == 1:
             return Pwm(self.frequency_hz, duty, on_level=on_level, off_level=off,
-                       ripple=self.ripple, **common)
+                       ripple=self.ripple, edges=edges, turn_on_delay_s=delay_s,
+                       min_on_time_s=min_on_s, min_on_mode=min_on_mode)
         n = self.channels
         chans = tuple(Pwm(self.frequency_hz, duty, on_level=on_level / n, off_level=off / n,
-                          phase_deg=p, **common) for p in self.phases_deg)
+                          phase_deg=p, edges=edges, turn_on_delay_s=delay_s,
+                          min_on_time_s=min_on_s, min_on_mode=min_on_mode)
+                      for p in self.phases_deg)
         return MultiChannel(chans, ripple=self.ripple)
 
     def at(self, level: float) -> LightModel:

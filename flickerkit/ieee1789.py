@@ -233,7 +233,7 @@ def classify(frequency_hz: float, modulation_percent: float, *, mode: str = "fun
     lr = low_risk_limit_percent(f_judged)
     noel = noel_limit_percent(f_judged)
     return Ieee1789Result(
-        region=region_of(f_judged, modulation_percent),
+        region=str(region_of(f_judged, float(modulation_percent))),  # one point: a str
         frequency_hz=float(frequency_hz),
         modulation_percent=float(modulation_percent),
         low_risk_limit_percent=float(lr),

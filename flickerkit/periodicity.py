@@ -288,7 +288,7 @@ def _one_blas_thread():
     every BLAS thread they take 100x longer when the machine is busy (threads
     wait for each other) and gain nothing when it is idle.
     """
-    from threadpoolctl import threadpool_limits
+    from threadpoolctl import threadpool_limits  # type: ignore[import-untyped]  # no stubs
 
     return threadpool_limits(limits=1, user_api="blas")
 

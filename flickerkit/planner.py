@@ -141,6 +141,7 @@ class LevelFigures:
     def meets(self, target: Target) -> bool:
         """Whether the level meets a target."""
         if target.kind == "svm":
+            assert target.limit is not None  # parse_targets gives every SVM target a limit
             return self.svm <= target.limit * (1 + 1e-12)
         r = self.ieee1789.region if self.ieee1789 else "no-observable-effect"
         if target.kind == "ieee1789-noel":
@@ -190,9 +191,7 @@ def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = 
     f0 = light.dominant_hz
     fs = light.fourier_series(SVM_F_MAX_HZ if need_svm else 0.0)
     pf = light.modulation_percent()
-    res = ieee1789.classify(f0, pf) if f0 else None
-    if res is not None:
-        res = _with_unrelated(light, f0, res)
+    res = _with_unrelated(light, f0, ieee1789.classify(f0, pf)) if f0 else None
     sv = svm_of_series(fs) if need_svm else float("nan")
     return LevelFigures(level, fs.mean, f0, pf, res, sv)
 
@@ -393,6 +392,7 @@ def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
         notes.append(f"{f:.6g} Hz: at {f_bad:.6g} Hz within its band"
                      + (f" level {lv * 100:.3g} % fails {tn}" if lv is not None else
                         " the drive's timing fails"))
+        assert f_bad is not None  # check_band names the failing frequency
         f = f_bad / (1.0 - tolerance) * (1 + 1e-6)
     return None, notes
 
@@ -415,7 +415,7 @@ def abrupt_changes(drive: Drive, targets: Sequence[Target], levels: Sequence[flo
         if key in seen or not _valid_frequency(drive, c * (1 - 1e-6)):
             continue
         seen.add(key)
-        sides = {}
+        sides: dict[str, float | str] = {}
         for side, f in (("below", c * (1 - 1e-6)), ("at", c), ("above", c * (1 + 1e-6))):
             d = drive.with_frequency(f)
             figs = [figures(d.at(lv), lv, need_svm=a["target"] == "svm") for lv in levels]
@@ -514,8 +514,7 @@ def lowest_frequency(
     if not (0 < lo < hi):
         raise SettingsError(f"frequency range must satisfy 0 < low < high, got {lo:g}..{hi:g} Hz")
     levels = sorted(float(x) for x in levels)
-    grid = np.geomspace(lo, hi, grid_points)
-    grid = [f for f in grid if _valid_frequency(drive, float(f))]
+    grid = [f for f in np.geomspace(lo, hi, grid_points) if _valid_frequency(drive, float(f))]
     if not grid:
         raise SettingsError("no frequency in the range suits the drive's rise, fall and "
                             "delay times (each must be shorter than the period)")
@@ -632,10 +631,10 @@ def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequen
     P = 2 ** m
     N = max(1, int(math.floor(res.min_level * s.counts)))
     # the worst pattern near the bottom: N + 1/P counts (one extra count every P periods)
-    common = dict(edges=drive.edges, turn_on_delay_s=drive.turn_on_delay_s,
-                  min_on_time_s=drive.min_on_time_s, min_on_mode=drive.min_on_mode,
-                  ripple=drive.ripple)
-    model = DitheredPwm(f, (N + 1.0 / P) / s.counts, s.counts, m, **common)
+    model = DitheredPwm(f, (N + 1.0 / P) / s.counts, s.counts, m, edges=drive.edges,
+                        turn_on_delay_s=drive.turn_on_delay_s,
+                        min_on_time_s=drive.min_on_time_s, min_on_mode=drive.min_on_mode,
+                        ripple=drive.ripple)
     light = model.light()
     fs = light.fourier_series(min(f, SVM_F_MAX_HZ * 4))
     lowest = float(fs.frequencies_hz[0]) if fs.frequencies_hz.size else None
@@ -672,7 +671,7 @@ def plan(
     drive: Drive,
     targets: Sequence[Target],
     *,
-    levels: Sequence[float] | None = None,
+    levels: Sequence[float] | np.ndarray | None = None,
     range_hz: tuple[float, float] = DEFAULT_RANGE_HZ,
     timer: Timer | None = None,
     prescalers: tuple[int, ...] | None = None,
@@ -723,7 +722,8 @@ def plan(
         raise SettingsError("an analogue drive has no PWM frequency to plan; use pwm or hybrid")
     res = resolution or Resolution()
     tol = check_tolerance(tolerance)
-    lv = np.asarray(levels if levels is not None else default_levels(res.min_level), float)
+    lv = [float(x) for x in
+          np.asarray(levels if levels is not None else default_levels(res.min_level), float)]
     combined = lowest_frequency(drive, targets, lv, range_hz=range_hz)
     per_target = [lowest_frequency(drive, [t], lv, range_hz=range_hz) for t in targets] \
         if len(targets) > 1 else [combined]

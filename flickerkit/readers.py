@@ -90,6 +90,8 @@ class FileSignal:
         self.shape = (int(n),)
         self.dtype = np.dtype(np.float64)
         self.ndim = 1
+        # a view made by with_dark keeps the signal whose temporary file it reads alive
+        self._owner: FileSignal | None = None
 
     def __len__(self) -> int:
         return self.shape[0]

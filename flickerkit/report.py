@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Any, Callable
 
 from . import __version__, criteria
+from .criteria import Verdict  # the Report field ``criteria`` hides the module in its body
 from .errors import FlickerkitError, SettingsError
 from .project import Project
 
@@ -37,7 +38,7 @@ class Report:
     records: tuple[dict[str, Any], ...]
     failures: tuple[tuple[str, str], ...]
     criteria: tuple[criteria.Criterion, ...]
-    verdicts: tuple[criteria.Verdict, ...]
+    verdicts: tuple[Verdict, ...]
     overall: str
     inputs: tuple[dict[str, Any], ...]
     settings: dict[str, Any]
@@ -46,7 +47,7 @@ class Report:
     run_at: str = field(default_factory=lambda: _dt.datetime.now(_dt.timezone.utc)
                         .strftime("%Y-%m-%d %H:%M:%S UTC"))
 
-    def verdicts_for(self, criterion_id: str) -> list[criteria.Verdict]:
+    def verdicts_for(self, criterion_id: str) -> list[Verdict]:
         return [v for v in self.verdicts if v.criterion == criterion_id]
 
     @property
@@ -93,10 +94,11 @@ def _read_options(entry_read: dict[str, Any], base: Path):
 
     dark = entry_read.get("dark")
     if isinstance(dark, str):
+        text = dark
         try:
-            dark = float(dark)
+            dark = float(text)
         except ValueError:
-            dark = str(base / dark)
+            dark = str(base / text)
     return ReadOptions(column=entry_read.get("column"),
                        sample_rate_hz=entry_read.get("sample_rate_hz"),
                        time_unit=entry_read.get("time_unit"), dark=dark,
@@ -187,6 +189,8 @@ def build_report(project: Project, *, workers: int | None = None,
         from .drive import drive_from_mapping
         from .sweep import sweep
 
+        if project.drive is None:  # load_project refuses a project with neither
+            raise SettingsError(f"{project.path}: lists no captures and no [drive]")
         drive = drive_from_mapping(project.drive, source=f"{project.path} [drive]")
         result = sweep(drive, [lv / 100.0 for lv in project.drive_levels], progress=on_level)
         for lv, rec in zip(project.drive_levels, result.records):
@@ -222,7 +226,7 @@ def build_report(project: Project, *, workers: int | None = None,
 def _steps_table(project: Project):
     from .steps import DEFAULT_VISIBLE_STEP, build_table
 
-    s = dict(project.steps)
+    s = dict(project.steps or {})  # called only when the project has [steps]
     try:
         return build_table(
             int(s.get("steps", 64)), str(s.get("curve", "cie1976")),

@@ -330,6 +330,8 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
     """
     from numpy import fft
 
+    if period.period_samples is None:
+        raise ValueError("averaged_spectrum needs the fundamental's period; none was found")
     T = float(period.period_samples)
     n_total = int(samples.shape[0])
     window_samples = min(window_samples, max(int(T), n_total // 4))  # at least 4 windows
@@ -339,8 +341,8 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
     if count < 1:
         raise ValueError("capture shorter than one averaging window")
     picks = np.unique(np.linspace(0, count - 1, min(count, max_windows)).round().astype(int))
-    acc = None
-    first = None
+    acc: np.ndarray | None = None
+    first: np.ndarray | None = None
     for j in picks:
         s = int(round(j * m * T))
         seg = np.asarray(samples[s : s + L], dtype=np.float64)
@@ -358,6 +360,7 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
             acc += amps
         if first is None:
             first = spec
+    assert acc is not None and first is not None  # count >= 1: at least one window
     amps = acc
     amps /= picks.size
     return Spectrum(

@@ -541,7 +541,7 @@ def _stated(items: list[tuple[str, str, str]], dec: str) -> dict[str, _Stated]:
             fact, x = ("start", v * s) if s else (None, None)
         elif _KEY_POINTS.search(kk):
             fact, x = "points", v
-        if fact is None or fact in out or not np.isfinite(x):
+        if fact is None or x is None or fact in out or not np.isfinite(x):
             continue
         if fact in ("rate", "interval", "per_div", "points", "divisions") and x <= 0:
             continue
@@ -876,6 +876,18 @@ def _rate_of(lay: TableLayout, n: int, name: str) -> float | None:
     return tb.per_div_s * tb.divisions / points
 
 
+def _fixed_rate(lay: TableLayout, n: int) -> float:
+    """Sample rate of a table whose time base has no column: stated, or from the time per
+    division and the ``n`` rows [Hz]."""
+    tb = lay.time
+    assert tb is not None  # table_layout finds a time base unless a sample rate is given
+    if tb.sample_rate_hz:
+        return tb.sample_rate_hz
+    seconds = _rate_of(lay, n, "")
+    assert seconds is not None  # _stated_base: without a column or a rate, time per division
+    return 1.0 / seconds
+
+
 def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
     """Refuse a rate from a time base without a unit that is too slow for light; warn of a
     slow one with a unit."""
@@ -992,13 +1004,13 @@ def read_table(p: Path, options: ReadOptions):
     tb = lay.time
     if options.sample_rate_hz is not None:
         fs = float(options.sample_rate_hz)
-    elif tb.column is not None:
+    elif tb is not None and tb.column is not None:
         scale = _rate_of(lay, signal.size, name) or tb.scale
         signal, fs, tnotes = uniform(data[tb.column] * scale, signal, options.resample, name,
                                      skip)
         notes += tnotes
     else:
-        fs = tb.sample_rate_hz or 1.0 / _rate_of(lay, signal.size, name)
+        fs = _fixed_rate(lay, signal.size)
     warns += _plausible(fs, lay, name)
     return signal, fs, notes, warns, meta
 
@@ -1015,7 +1027,11 @@ def stream_table(p: Path, options: ReadOptions):
     name = str(p)
     lay, _ = table_layout(p, options)
     tb = lay.time
-    use_time = tb is not None and tb.column is not None
+    time_col = tb.column if tb is not None else None
+    use_time = time_col is not None
+    # seconds per unit of the time column; None: written as read (time per division, the
+    # rate is scaled once the rows are counted)
+    time_scale = None if tb is None or tb.per_div_s is not None else tb.scale
     if use_time and options.resample:
         raise InputError("--resample needs the capture in memory; it is too long to stream "
                          "with resampling", source=name)
@@ -1049,9 +1065,9 @@ def stream_table(p: Path, options: ReadOptions):
                                              f"{rows + i + 1}", source=name,
                                              column=lay.label(c))
                     chunk[sig + lay.lead].to_numpy().tofile(fsig)
-                    if use_time:
-                        v = chunk[tb.column + lay.lead].to_numpy()
-                        (v if tb.per_div_s is not None else v * tb.scale).tofile(ftime)
+                    if time_col is not None:
+                        v = chunk[time_col + lay.lead].to_numpy()
+                        (v if time_scale is None else v * time_scale).tofile(ftime)
                     rows += len(chunk)
             except (ValueError, pd.errors.ParserError) as exc:
                 if isinstance(exc, InputError):
@@ -1076,7 +1092,7 @@ def stream_table(p: Path, options: ReadOptions):
         tsig = FileSignal(str(tmp / "time.f64"), np.float64, 0, rows)
         fs = uniform_blocks(tsig, name, lay.first) / (_rate_of(lay, rows, name) or 1.0)
     else:
-        fs = tb.sample_rate_hz or 1.0 / _rate_of(lay, rows, name)
+        fs = _fixed_rate(lay, rows)
     return signal, fs, notes, [*lay.warnings, *_plausible(fs, lay, name)], meta
 
 
