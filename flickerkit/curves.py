@@ -10,7 +10,7 @@ also usable on its own.
 ============  ==============================================  ==================
 method        law (v -> Y)                                    default range
 ============  ==============================================  ==================
-``cie1976``   CIE 1976 lightness L* (colour-science), v = L*  0 .. 100 %
+``cie1976``   CIE 1976 lightness L* (closed form), v = L*      0 .. 100 %
 ``gamma``     power law Y = v ** gamma                        0 .. 100 %
 ``iec62386``  logarithmic, log10(Y) = v (IEC 62386-102)       0.1 .. 100 %
 ``linear``    Y = v                                           0 .. 100 %
@@ -38,6 +38,10 @@ IEC62386_LEVELS = 254
 #: Default exponent of the power-law curve (display-like gamma, brief §1.3).
 DEFAULT_GAMMA = 2.2
 
+#: CIE 15:2004 constants of L*: epsilon = (6/29)^3 and kappa = (29/3)^3 (exact rationals).
+_CIE_EPSILON = 216.0 / 24389.0
+_CIE_KAPPA = 24389.0 / 27.0
+
 _COLOUR_WARNING = r'"Matplotlib" related API features are not available'
 
 
@@ -63,7 +67,7 @@ def _colour():
 
 
 def lightness(relative_light: np.ndarray | float) -> np.ndarray:
-    """CIE 1976 lightness L* of relative light, through colour-science.
+    """CIE 1976 lightness L* of relative light (closed form).
 
     Parameters
     ----------
@@ -78,26 +82,26 @@ def lightness(relative_light: np.ndarray | float) -> np.ndarray:
     Notes
     -----
     ``L* = 116 (Y/Yn)^(1/3) - 16`` above Y/Yn = 216/24389, else
-    ``L* = (24389/27) Y/Yn``. Computed by ``colour.lightness(100 Y,
-    method="CIE 1976")``.
+    ``L* = (24389/27) Y/Yn``, with the exact rational constants of CIE 15:2004.
+    The closed form spares the 0.8 s import of colour-science, whose
+    ``colour.lightness(100 Y, method="CIE 1976")`` the tests compare it with.
 
     References
     ----------
     CIE 15:2004 Colorimetry, CIE 1976 L*a*b* (also ISO/CIE 11664-4).
-    colour-science 0.4.7, ``colour.lightness``.
+    colour-science 0.4.7, ``colour.lightness`` (the cross-check).
 
     Examples
     --------
     >>> round(float(lightness(0.184)), 4)
     49.9777
     """
-    colour = _colour()
     y = np.asarray(relative_light, dtype=np.float64)
-    return np.asarray(colour.lightness(100.0 * y, method="CIE 1976"), dtype=np.float64)
+    return np.where(y > _CIE_EPSILON, 116.0 * np.cbrt(y) - 16.0, _CIE_KAPPA * y)
 
 
 def luminance(lightness_value: np.ndarray | float) -> np.ndarray:
-    """Relative light of a CIE 1976 lightness L*, through colour-science.
+    """Relative light of a CIE 1976 lightness L* (closed form).
 
     Parameters
     ----------
@@ -112,21 +116,20 @@ def luminance(lightness_value: np.ndarray | float) -> np.ndarray:
     Notes
     -----
     ``Y/Yn = ((L* + 16)/116)^3`` above L* = 8, else ``L* 27/24389``.
-    Computed by ``colour.luminance(L*, method="CIE 1976") / 100``.
+    The tests compare it with ``colour.luminance(L*, method="CIE 1976") / 100``.
 
     References
     ----------
     CIE 15:2004 Colorimetry, CIE 1976 L*a*b*. colour-science 0.4.7,
-    ``colour.luminance``.
+    ``colour.luminance`` (the cross-check).
 
     Examples
     --------
     >>> round(float(luminance(50.0)), 6)
     0.184187
     """
-    colour = _colour()
     L = np.asarray(lightness_value, dtype=np.float64)
-    return np.asarray(colour.luminance(L, method="CIE 1976"), dtype=np.float64) / 100.0
+    return np.where(L > 8.0, ((L + 16.0) / 116.0) ** 3, L / _CIE_KAPPA)
 
 
 # --------------------------------------------------------------------------- IEC 62386
