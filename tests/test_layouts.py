@@ -483,3 +483,16 @@ def test_spelt_out_time_units_on_the_units_row(tmp_path, unit, scale):
     cap = read_capture(p)
     assert cap.sample_rate_hz == pytest.approx(fs, rel=1e-6)
     assert assess(cap).percent_flicker == pytest.approx(30.0, abs=0.1)
+
+
+def test_peek_with_an_output_is_refused_not_silently_ignored(tmp_path, capsys):
+    # common practice, no source: an option that would write nothing is refused, not ignored
+    from flickerkit.cli import main
+
+    p = tmp_path / "c.csv"
+    p.write_text("time (s),light\n" + "".join(f"{i / 1000},{1 + (i % 2)}\n" for i in range(50)))
+    out = tmp_path / "o.xlsx"
+    assert main(["measure", str(p), "--peek", "--xlsx", str(out)]) != 0
+    err = capsys.readouterr().err
+    assert "--peek" in err and "--xlsx" in err and len(err.strip().splitlines()) == 1
+    assert not out.exists()

@@ -206,6 +206,14 @@ def run(args: argparse.Namespace) -> int:
     check_count(args.harmonics, MAX_HARMONICS, "--harmonics")
     if args.workers is not None:
         check_count(args.workers, 1024, "--workers")
+    if getattr(args, "peek", False):
+        from ..errors import SettingsError
+
+        given = [o for o, v in (("--xlsx", args.xlsx), ("--json", args.json),
+                                ("--pictures", args.pictures)) if v]
+        if given:
+            raise SettingsError(f"--peek only shows what would be read and measures nothing; "
+                                f"it cannot be combined with {', '.join(given)}")
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
     if getattr(args, "peek", False):
