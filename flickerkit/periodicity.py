@@ -97,9 +97,8 @@ def _strongest_frequency(seg: np.ndarray, max_lag: int) -> float | None:
     if k_min >= spec.size:
         return None
     k = k_min + int(np.argmax(spec[k_min:]))
-    if 0 < k < spec.size - 1:  # interpolate between bins
-        k = k + _parabolic_peak(spec[k - 1], spec[k], spec[k + 1])
-    return float(k) / n
+    frac = _parabolic_peak(spec[k - 1], spec[k], spec[k + 1]) if 0 < k < spec.size - 1 else 0.0
+    return (k + frac) / n
 
 
 def _parabolic_peak(y_minus: float, y0: float, y_plus: float) -> float:
@@ -226,7 +225,7 @@ def fundamental_frequency(
     period = lag + (_parabolic_peak(r[lag - 1], r[lag], r[lag + 1]) if 0 < lag < max_lag else 0.0)
     strength = float(r[lag])
 
-    if unrelated:
+    if unrelated and f_strong is not None:
         # the autocorrelation's peaks mix both modulations: the strongest one's own period
         # from its spectral peak, refined by its phase drift alone
         period = 1.0 / f_strong
