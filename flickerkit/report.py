@@ -12,21 +12,12 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable
 
-from . import __version__, criteria
+from . import __version__, cautions, criteria
 from .errors import FlickerkitError, SettingsError
 from .project import Project
 
-#: Cautions every report carries (summary sheet and terminal).
-CAUTIONS = (
-    "Modulated light at low frequencies (roughly 3 to 70 Hz) can trigger seizures in people "
-    "with photosensitive epilepsy; modulation at higher frequencies can cause headaches, "
-    "eye strain and other effects in some people.",
-    "This report is an engineering assessment of the captures (or drive model) given, not a "
-    "certification. The applicable standards, local codes and an accredited laboratory decide "
-    "compliance.",
-    "Several limits and constants are recalled rather than read in their documents, and the "
-    "Pst LM calibration is provisional; see the method notes.",
-)
+#: Cautions every report carries (summary sheet and terminal); text in :mod:`flickerkit.cautions`.
+CAUTIONS = cautions.REPORT
 
 
 @dataclass(frozen=True)
