@@ -347,6 +347,41 @@ def suspected_clipping(samples: np.ndarray, noise_std: float) -> bool:
     return clipping_from_counts(x.shape[0], int(np.count_nonzero(x == hi)), at_next, noise_std)
 
 
+#: A capture is called clipped when more than one sample in this many sits at a known rail.
+RAIL_ONE_IN = 1000
+
+
+def clipped_at_rail(n: int, at_rail: int) -> bool:
+    """Clipping test for a recorder whose full scale is known (integer PCM).
+
+    The one rule when the rail is known; :func:`clipping_from_counts` is the
+    rule when it is not (its maximum must be inferred from the samples).
+
+    Parameters
+    ----------
+    n : int
+        Samples in the capture.
+    at_rail : int
+        Samples exactly at the recorder's smallest or largest code.
+
+    Returns
+    -------
+    bool
+        True when more than ``max(1, n // RAIL_ONE_IN)`` samples sit at a rail
+        (one stray full-scale sample is not clipping).
+
+    Notes
+    -----
+    A heuristic of this project (no published source).
+
+    Examples
+    --------
+    >>> clipped_at_rail(10_000, 11), clipped_at_rail(10_000, 10)
+    (True, False)
+    """
+    return at_rail > max(1, n // RAIL_ONE_IN)
+
+
 def clipping_from_counts(n: int, at_max: int, at_next: int, noise_std: float) -> bool:
     """Clipping test from how often the maximum and the next lower value occur.
 

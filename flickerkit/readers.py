@@ -34,6 +34,7 @@ import numpy as np
 
 from .capture import Capture, ReadRecord, make_capture, make_lazy_capture
 from .errors import InputError
+from .metrics import clipped_at_rail
 from .fileio import note_input
 from .tables import (MAX_LINE_BYTES, STREAM_FOLDER_PREFIX, TEXT_CHUNK_ROWS,  # noqa: F401
                      TIME_UNITS, WIDE_TABLE_COLUMNS, first_line_bounded, lines_bounded,
@@ -423,7 +424,7 @@ def _read_wav(p: Path, options: ReadOptions):
         for a in range(0, sig.shape[0], 1 << 22):
             b = np.asarray(sig[a : a + (1 << 22)])
             at_rail += int(np.count_nonzero((b == info.max) | (b == info.min)))
-        if at_rail > max(1, sig.size // 1000):
+        if clipped_at_rail(int(sig.size), at_rail):
             warns.append(f"clipping: {at_rail} sample(s) sit at the recorder's full scale "
                          f"({info.min}/{info.max}); percent flicker is underestimated")
     fs = float(options.sample_rate_hz) if options.sample_rate_hz else float(rate)
