@@ -185,6 +185,56 @@ class ReadOptions:
     require_column: bool = False
 
 
+def dark_option(dark: float | str | None, base: Path | None = None) -> float | str | None:
+    """A dark-level setting as the reader takes it: a number, or the path of a dark capture.
+
+    Parameters
+    ----------
+    dark : float or str or None
+        A number [signal unit], a text that reads as one, or a path.
+    base : pathlib.Path, optional
+        Folder a relative path is taken from (a project file's folder);
+        default: as given (the working folder).
+
+    Returns
+    -------
+    float or str or None
+    """
+    if not isinstance(dark, str):
+        return dark
+    try:
+        return float(dark)
+    except ValueError:
+        return str(base / dark) if base is not None else dark
+
+
+def build_read_options(*, column: str | int | None = None, sample_rate_hz: float | None = None,
+                       time_unit: str | None = None, dark: float | str | None = None,
+                       resample: bool = False, fill_gaps: bool = False,
+                       base: Path | None = None, **more: Any) -> ReadOptions:
+    """ReadOptions from the settings the CLI and a project file share (one builder for both).
+
+    Parameters
+    ----------
+    column, sample_rate_hz, time_unit, resample, fill_gaps
+        As in :class:`ReadOptions` (sample rate in [Hz]).
+    dark : float or str or None
+        See :func:`dark_option`.
+    base : pathlib.Path, optional
+        Folder a relative dark-capture path is taken from.
+    **more
+        Other :class:`ReadOptions` fields (``quantity``, ``raw_dtype``,
+        ``channels``, ``stream``, ``require_column``).
+
+    Returns
+    -------
+    ReadOptions
+    """
+    return ReadOptions(column=column, sample_rate_hz=sample_rate_hz, time_unit=time_unit,
+                       dark=dark_option(dark, base), resample=bool(resample),
+                       fill_gaps=bool(fill_gaps), **more)
+
+
 def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = None) -> Capture:
     """Read a capture file and apply the dark level.
 

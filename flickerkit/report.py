@@ -80,20 +80,14 @@ def _sha256_or_reason(path: Path) -> str:
 
 
 def _read_options(entry_read: dict[str, Any], base: Path):
-    from .readers import ReadOptions
+    from .readers import build_read_options
 
-    dark = entry_read.get("dark")
-    if isinstance(dark, str):
-        try:
-            dark = float(dark)
-        except ValueError:
-            dark = str(base / dark)
-    return ReadOptions(column=entry_read.get("column"),
-                       sample_rate_hz=entry_read.get("sample_rate_hz"),
-                       time_unit=entry_read.get("time_unit"), dark=dark,
-                       resample=bool(entry_read.get("resample", False)),
-                       fill_gaps=bool(entry_read.get("fill_gaps", False)),
-                       require_column=True)
+    return build_read_options(column=entry_read.get("column"),
+                              sample_rate_hz=entry_read.get("sample_rate_hz"),
+                              time_unit=entry_read.get("time_unit"), dark=entry_read.get("dark"),
+                              resample=bool(entry_read.get("resample", False)),
+                              fill_gaps=bool(entry_read.get("fill_gaps", False)),
+                              base=base, require_column=True)
 
 
 def build_report(project: Project, *, workers: int | None = None,
@@ -211,20 +205,20 @@ def build_report(project: Project, *, workers: int | None = None,
 
 
 def _steps_table(project: Project):
-    from .steps import DEFAULT_VISIBLE_STEP, build_table
+    from .steps import build_table_percent
 
     s = dict(project.steps)
     try:
-        return build_table(
+        return build_table_percent(
             int(s.get("steps", 64)), str(s.get("curve", "cie1976")),
-            min_level=float(s["min"]) / 100 if "min" in s else None,
-            max_level=float(s.get("max", 100)) / 100, off_step=bool(s.get("off", True)),
+            min_percent=s.get("min"), max_percent=s.get("max", 100),
+            off_step=bool(s.get("off", True)),
             bits=s.get("bits"), top=s.get("top"), min_count=int(s.get("min_count", 0)),
             rounding=str(s.get("rounding", "distinct")),
             curve_params={"gamma": float(s["gamma"])} if "gamma" in s else None,
             pwm_frequency_hz=s.get("pwm_frequency_hz"),
             target_region=str(s.get("target_region", "low-risk")),
-            visible_step=float(s.get("visible_step", DEFAULT_VISIBLE_STEP)),
+            visible_step=s.get("visible_step"),
         )
     except (TypeError, ValueError, FlickerkitError) as exc:
         raise SettingsError(f"{project.path} [steps]: {exc}") from None

@@ -758,6 +758,40 @@ def bits_for(ideal: np.ndarray, top: int) -> int:
     return int(np.ceil(np.log2(need + 1) - 1e-12))
 
 
+def build_table_percent(n_steps: int, curve: str = "cie1976", *,
+                        min_percent: float | None = None, max_percent: float = 100.0,
+                        visible_step: float | None = None, **kwargs: Any) -> StepTable:
+    """:func:`build_table` with the levels in percent, as the CLI and project files give them.
+
+    The one builder of table arguments for ``steps`` and the ``[steps]`` table
+    of a project.
+
+    Parameters
+    ----------
+    n_steps, curve
+        As in :func:`build_table`.
+    min_percent : float, optional
+        Light of the lowest lit step [percent of full output]; default the curve's own.
+    max_percent : float
+        Light of the top step [percent of full output].
+    visible_step : float, optional
+        Visibility threshold of a step [CIE L* units]; default
+        :data:`DEFAULT_VISIBLE_STEP`.
+    **kwargs
+        The other keyword arguments of :func:`build_table`.
+
+    Returns
+    -------
+    StepTable
+    """
+    return build_table(
+        n_steps, curve,
+        min_level=None if min_percent is None else float(min_percent) / 100.0,
+        max_level=float(max_percent) / 100.0,
+        visible_step=DEFAULT_VISIBLE_STEP if visible_step is None else float(visible_step),
+        **kwargs)
+
+
 def build_table(
     n_steps: int,
     curve: str = "cie1976",
