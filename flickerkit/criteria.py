@@ -368,29 +368,6 @@ def get(ids: Sequence[str] | None = None,
     return out
 
 
-def _lookup(record: Mapping[str, Any], dotted: str) -> Any:
-    cur: Any = record
-    for part in dotted.split("."):
-        if isinstance(cur, Mapping) and part in cur:
-            cur = cur[part]
-        elif isinstance(cur, Mapping) and part.replace(".", "", 1).isdigit():
-            # filtered_percent_flicker.200 -> a {cut-off: value} mapping keyed by number
-            match = [v for k, v in cur.items() if _same_number(k, part)]
-            if not match:
-                return None
-            cur = match[0]
-        else:
-            return None
-    return cur
-
-
-def _same_number(a: Any, b: str) -> bool:
-    try:
-        return math.isclose(float(a), float(b))
-    except (TypeError, ValueError):
-        return False
-
-
 def _insufficient(record: Mapping[str, Any], requires: Sequence[str]) -> str | None:
     """Why the record cannot be judged, or None."""
     from .assess import MIN_PERIODS, MIN_SAMPLES_PER_PERIOD
@@ -529,7 +506,7 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                            reason="no modulation below 90 Hz")
         measured = record.get("percent_flicker")
     else:
-        measured = _lookup(record, criterion.metric)
+        measured = _measured(record, criterion)
     if isinstance(measured, Mapping):
         measured = measured.get("value")
     if measured is None or (isinstance(measured, float) and not math.isfinite(measured)):
@@ -555,6 +532,24 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
         how += f"; {form}"
     return Verdict(**v, status="pass" if ok else "fail", measured=measured, limit=limit,
                    margin=margin, reason=how, threshold_form=form)
+
+
+def _measured(record: Mapping[str, Any], criterion: Criterion) -> Any:
+    """The criterion's figure in the record (:func:`flickerkit.keypath.figure`).
+
+    In a record that holds an assessment (it has ``n_samples``) a metric that
+    names no key is an error naming the criterion: a misspelt metric must
+    not read as "no value". A row that was never assessed (a drive level
+    without light) has no figures at all: every metric is missing there.
+    """
+    from .keypath import UnknownKey, figure
+
+    try:
+        return figure(record, criterion.metric)
+    except UnknownKey as exc:
+        if "n_samples" not in record:
+            return None
+        raise SettingsError(f"criterion {criterion.id!r}: {exc}") from None
 
 
 def _threshold_form(criterion: Criterion, detail: Any, ok: bool, limit: float) -> str:

@@ -385,12 +385,10 @@ VOLTAGE_COLUMNS: tuple[tuple[str, str], ...] = (
 
 
 def lookup(d: dict[str, Any], dotted: str) -> Any:
-    """Value at a dotted key path of a nested dict (None where missing)."""
-    cur: Any = d
-    for part in dotted.split("."):
-        if not isinstance(cur, dict) or part not in cur:
-            return None
-        cur = cur[part]
+    """Cell value at a dotted key path (:func:`flickerkit.keypath.figure_or_none`); lists joined."""
+    from ..keypath import figure_or_none
+
+    cur = figure_or_none(d, dotted)
     if isinstance(cur, list):
         return "; ".join(str(x) for x in cur)
     return cur
