@@ -25,7 +25,7 @@ from typing import Any, Sequence
 
 import numpy as np
 
-from .curves import whole_number
+from .curves import first_not_rising, whole_number
 from .errors import InputError, SettingsError
 
 #: Default visibility threshold for one step [Delta L*]: the CIE 1976 "just
@@ -269,9 +269,8 @@ def fit_transfer(
                          source=where)
     if not (np.isfinite(c).all() and np.isfinite(y).all()):
         raise InputError("counts and light must be finite numbers", source=where)
-    bad = np.flatnonzero(np.diff(c) <= 0)
-    if bad.size:
-        i = int(bad[0])
+    i = first_not_rising(c)
+    if i is not None:
         raise InputError(
             f"counts are not strictly increasing: {c[i + 1]:g} follows {c[i]:g} "
             f"(point {i + 2}); sort the file and merge repeated counts", source=where)
