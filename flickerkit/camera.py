@@ -36,6 +36,7 @@ import numpy as np
 
 from .drive import Light, LightModel
 from .errors import SettingsError
+from .metrics import percent_flicker_of_extremes
 
 #: Running-mean evaluation points per fundamental period added to the
 #: breakpoints (exact for piecewise-constant light without them).
@@ -199,7 +200,9 @@ def banding(model: LightModel | Light, camera: Camera) -> Banding:
     smin, smax, mean = running_mean_extremes(light, camera.exposure_s)
     if smax - smin <= 1e-12 * max(smax, 1e-300):
         smin = smax
-    contrast = (smax - smin) / (smax + smin) if smax + smin > 0 else 0.0
+    # Michelson contrast is percent flicker as a fraction; a dark frame has no banding: 0.0
+    pf = percent_flicker_of_extremes(smax, smin)
+    contrast = 0.0 if math.isnan(pf) else pf / 100.0
     depth = (smax - smin) / mean if mean > 0 else 0.0
     if f is None:
         return Banding(camera.frame_rate_hz, camera.exposure_s, None, 0.0, 0.0, math.inf,

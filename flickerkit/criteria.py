@@ -369,56 +369,6 @@ def get(ids: Sequence[str] | None = None,
     return out
 
 
-_MISSING = object()
-
-
-def _lookup(record: Mapping[str, Any], dotted: str, missing: Any = None) -> Any:
-    cur: Any = record
-    for part in dotted.split("."):
-        if isinstance(cur, Mapping) and part in cur:
-            cur = cur[part]
-        elif isinstance(cur, Mapping) and part.replace(".", "", 1).isdigit():
-            # filtered_percent_flicker.200 -> a {cut-off: value} mapping keyed by number
-            match = [v for k, v in cur.items() if _same_number(k, part)]
-            if not match:
-                return missing
-            cur = match[0]
-        else:
-            return missing
-    return cur
-
-
-def _figure_paths(record: Mapping[str, Any]) -> list[str]:
-    """Dotted paths of the numbers in a record (for 'did you mean')."""
-    out = []
-    for k, v in record.items():
-        if isinstance(v, Mapping):
-            out += [f"{k}.{k2}" for k2, v2 in v.items()
-                    if isinstance(v2, (int, float)) and not isinstance(v2, bool)]
-        elif v is None or (isinstance(v, (int, float)) and not isinstance(v, bool)):
-            out.append(str(k))
-    return out
-
-
-def _unknown_metric(record: Mapping[str, Any], criterion: Criterion) -> SettingsError:
-    import difflib
-
-    paths = _figure_paths(record)
-    near = difflib.get_close_matches(criterion.metric, paths, n=1)
-    hint = f"did you mean {near[0]!r}? " if near else ""
-    top = ", ".join(p for p in paths if "." not in p)
-    return SettingsError(f"criterion {criterion.id!r}: metric {criterion.metric!r} is not a "
-                         f"figure of the record; {hint}(figures: {top}; nested ones as "
-                         f"'table.key', see README.md 'What measure reports')")
-
-
-def _same_number(a: Any, b: str) -> bool:
-    try:
-        return math.isclose(float(a), float(b))
-    except (TypeError, ValueError):
-        return False
-
-
 def _insufficient(record: Mapping[str, Any], requires: Sequence[str]) -> str | None:
     """Why the record cannot be judged, or None."""
     from .assess import MIN_PERIODS, MIN_SAMPLES_PER_PERIOD
@@ -560,12 +510,7 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                            reason="no modulation below 90 Hz")
         measured = record.get("percent_flicker")
     else:
-        measured = _lookup(record, criterion.metric, _MISSING)
-        if measured is _MISSING:
-            if "percent_flicker" not in record:      # not a measured record: nothing to judge
-                measured = None
-            else:
-                raise _unknown_metric(record, criterion)
+        measured = _measured(record, criterion)
     if isinstance(measured, Mapping):
         if "value" not in measured:
             raise SettingsError(f"criterion {criterion.id!r}: metric {criterion.metric!r} is a "
@@ -595,6 +540,24 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
         how += f"; {form}"
     return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
                    margin=margin, reason=how, threshold_form=form)
+
+
+def _measured(record: Mapping[str, Any], criterion: Criterion) -> Any:
+    """The criterion's figure in the record (:func:`flickerkit.keypath.figure`).
+
+    In a record that holds an assessment (it has ``n_samples``) a metric that
+    names no key is an error naming the criterion: a misspelt metric must
+    not read as "no value". A row that was never assessed (a drive level
+    without light) has no figures at all: every metric is missing there.
+    """
+    from .keypath import UnknownKey, figure
+
+    try:
+        return figure(record, criterion.metric)
+    except UnknownKey as exc:
+        if "n_samples" not in record:
+            return None
+        raise SettingsError(f"criterion {criterion.id!r}: {exc}") from None
 
 
 def _threshold_form(criterion: Criterion, detail: Any, ok: bool, limit: float) -> str:

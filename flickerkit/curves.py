@@ -317,10 +317,33 @@ def user_curve(inputs: np.ndarray, outputs: np.ndarray, *, source: str = "") -> 
                  params={"points": int(x.size)})
 
 
-def _require_increasing(v: np.ndarray, name: str, where: str) -> None:
+def first_not_rising(v: np.ndarray) -> int | None:
+    """Index ``i`` of the first point that the next one does not rise above, or None.
+
+    The one strictly-increasing check of user points (curves, calibrations).
+
+    Parameters
+    ----------
+    v : numpy.ndarray
+        1-D values in file order [any unit].
+
+    Returns
+    -------
+    int or None
+        ``i`` with ``v[i + 1] <= v[i]`` (0-based), None when ``v`` strictly increases.
+
+    Examples
+    --------
+    >>> first_not_rising(np.array([0.0, 0.5, 0.5, 1.0])), first_not_rising(np.array([1.0, 2.0]))
+    (1, None)
+    """
     bad = np.flatnonzero(np.diff(v) <= 0)
-    if bad.size:
-        i = int(bad[0])
+    return int(bad[0]) if bad.size else None
+
+
+def _require_increasing(v: np.ndarray, name: str, where: str) -> None:
+    i = first_not_rising(v)
+    if i is not None:
         raise InputError(
             f"{name} is not strictly increasing: point {i + 2} ({v[i + 1]:g}) does not rise "
             f"above point {i + 1} ({v[i]:g})", source=where)

@@ -39,6 +39,7 @@ import numpy as np
 
 from .capture import Capture, make_capture
 from .errors import SettingsError
+from .metrics import percent_flicker_of_extremes
 
 #: Edge models of a PWM pulse.
 EDGE_KINDS = ("ideal", "first-order", "linear")
@@ -722,9 +723,15 @@ class Light:
         return float(v.min()), float(v.max())
 
     def modulation_percent(self) -> float:
-        """Percent flicker, 100 (max - min) / (max + min), of the modelled light [percent]."""
+        """Percent flicker of the modelled light [percent] (:func:`metrics.percent_flicker_of_extremes`).
+
+        A dark model light (max + min = 0) is reported as unmodulated, 0.0,
+        where the measurement side says ``nan``: a model that is off has no
+        flicker to judge, and the planner and sweep compare it with limits.
+        """
         lo, hi = self.extremes()
-        return 100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else 0.0
+        pf = percent_flicker_of_extremes(hi, lo)
+        return 0.0 if math.isnan(pf) else pf  # dark model: 0.0 by choice (see above)
 
     def flicker_index(self, points: int = FLICKER_INDEX_POINTS) -> float:
         """Flicker index of the modelled light: area above the mean over total area [unitless].

@@ -31,6 +31,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .errors import CaptureWarning
+from .metrics import percent_flicker_of_extremes
 from .periodicity import Periodicity, fundamental_frequency
 from .spectrum import whole_period_span
 
@@ -213,7 +214,7 @@ def filtered_percent_flicker(
         work[keep] = spec[keep]
         y = fft.irfft(work, n)
         hi, lo = float(y.max()), float(y.min())
-        value = 100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan")
+        value = percent_flicker_of_extremes(hi, lo)
         out.append(value)
         last_count, last_value, last_fc = count, value, fc
     bands = []
@@ -232,7 +233,7 @@ def filtered_percent_flicker(
         y = fft.irfft(work, n)
         hi, lo = float(y.max()), float(y.min())
         bands.append((float(lo_hz), float(hi_hz),
-                      100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan")))
+                      percent_flicker_of_extremes(hi, lo)))
     for note in notes:
         warnings.warn(note, CaptureWarning, stacklevel=2)
     return FilteredFlicker(cutoffs_hz=cutoffs, percent_flicker=tuple(out), whole_periods=int(p),

@@ -17,6 +17,7 @@ import math
 from dataclasses import dataclass
 from typing import Any, Sequence
 
+from . import cautions
 from .criteria import KINDS, LEVEL_TOLERANCE, Criterion, Verdict
 
 #: Order of badness, worst first.
@@ -273,8 +274,7 @@ def limiting_text(groups: Sequence[GroupOutcome]) -> str:
                  "would change this; `flickerkit plan --target " + ",".join(targets)
                  + "` with the product's drive finds the lowest PWM frequency that meets it, "
                  "and the product must then be measured again.")
-    return head + (" This is an engineering reading of the captures, not a certification: the "
-                   "applicable standards, local codes and an accredited laboratory decide.")
+    return f"{head} {cautions.NOT_CERTIFICATION}"
 
 
 __all__ = ["CriterionOutcome", "GroupOutcome", "KIND_TITLES", "decided_by", "group",

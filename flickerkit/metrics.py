@@ -8,8 +8,57 @@ definition of the flicker index requires it).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import overload
 
 import numpy as np
+
+
+@overload
+def percent_flicker_of_extremes(hi: float, lo: float) -> float: ...
+@overload
+def percent_flicker_of_extremes(hi: np.ndarray, lo: np.ndarray) -> np.ndarray: ...
+def percent_flicker_of_extremes(hi: float | np.ndarray,
+                                lo: float | np.ndarray) -> float | np.ndarray:
+    """Percent flicker from a light's largest and smallest value.
+
+    The one home of the formula; every module that has the extremes already
+    (a model light, a filtered waveform, per-period sums) calls this.
+
+    Parameters
+    ----------
+    hi, lo : float or numpy.ndarray
+        Largest and smallest light value, dark level removed [arbitrary
+        linear unit]; arrays are evaluated element-wise.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        ``100 (hi - lo) / (hi + lo)`` [percent]; ``nan`` where
+        ``hi + lo <= 0`` (no light: percent flicker is undefined). A caller
+        that reports a dark light as unmodulated (0.0) says so where it
+        replaces the ``nan``.
+
+    References
+    ----------
+    IEEE Std 1789-2015, "Modulation (Mod%)"; CIE ILV 17-39.
+
+    Examples
+    --------
+    >>> percent_flicker_of_extremes(3.0, 1.0)
+    50.0
+    >>> percent_flicker_of_extremes(np.array([3.0, 0.0]), np.array([1.0, 0.0]))
+    array([50., nan])
+    """
+    if np.ndim(hi) == 0 and np.ndim(lo) == 0:
+        h, low = float(hi), float(lo)
+        total = h + low
+        return 100.0 * (h - low) / total if total > 0 else float("nan")
+    ha = np.asarray(hi, dtype=np.float64)
+    la = np.asarray(lo, dtype=np.float64)
+    ta = ha + la
+    with np.errstate(invalid="ignore", divide="ignore"):
+        pf = 100.0 * (ha - la) / ta
+    return np.where(ta > 0, pf, np.nan)
 
 
 def percent_flicker(samples: np.ndarray) -> float:
@@ -38,10 +87,7 @@ def percent_flicker(samples: np.ndarray) -> float:
     50.0
     """
     x = np.asarray(samples, dtype=np.float64)
-    hi = float(np.max(x))
-    lo = float(np.min(x))
-    total = hi + lo
-    return 100.0 * (hi - lo) / total if total > 0 else float("nan")
+    return float(percent_flicker_of_extremes(float(np.max(x)), float(np.min(x))))
 
 
 def flicker_index(samples: np.ndarray) -> float:
@@ -142,10 +188,9 @@ def stats_from_sums(hi: np.ndarray, lo: np.ndarray, total: np.ndarray,
     if hi.size == 0:
         nan = float("nan")
         return PeriodStats(0, nan, nan, nan, nan)
+    pf = percent_flicker_of_extremes(hi, lo)
     with np.errstate(invalid="ignore", divide="ignore"):
-        pf = 100.0 * (hi - lo) / (hi + lo)
         fi = above / total
-    pf = np.where(hi + lo > 0, pf, np.nan)
     fi = np.where(total > 0, fi, np.nan)
     if np.all(np.isnan(pf)):
         nan = float("nan")
@@ -302,6 +347,41 @@ def suspected_clipping(samples: np.ndarray, noise_std: float) -> bool:
     return clipping_from_counts(x.shape[0], int(np.count_nonzero(x == hi)), at_next, noise_std)
 
 
+#: A capture is called clipped when more than one sample in this many sits at a known rail.
+RAIL_ONE_IN = 1000
+
+
+def clipped_at_rail(n: int, at_rail: int) -> bool:
+    """Clipping test for a recorder whose full scale is known (integer PCM).
+
+    The one rule when the rail is known; :func:`clipping_from_counts` is the
+    rule when it is not (its maximum must be inferred from the samples).
+
+    Parameters
+    ----------
+    n : int
+        Samples in the capture.
+    at_rail : int
+        Samples exactly at the recorder's smallest or largest code.
+
+    Returns
+    -------
+    bool
+        True when more than ``max(1, n // RAIL_ONE_IN)`` samples sit at a rail
+        (one stray full-scale sample is not clipping).
+
+    Notes
+    -----
+    A heuristic of this project (no published source).
+
+    Examples
+    --------
+    >>> clipped_at_rail(10_000, 11), clipped_at_rail(10_000, 10)
+    (True, False)
+    """
+    return at_rail > max(1, n // RAIL_ONE_IN)
+
+
 def clipping_from_counts(n: int, at_max: int, at_next: int, noise_std: float) -> bool:
     """Clipping test from how often the maximum and the next lower value occur.
 
@@ -407,7 +487,7 @@ def robust_flicker(template: np.ndarray, noise_std: float, periods: int) -> Robu
             s_y = s_t * np.sqrt(2.0 * max(kept, 1) / M)
             method = "period-averaged, harmonics above the noise"
     hi, lo = float(np.max(y)), float(np.min(y))
-    pf = 100.0 * (hi - lo) / (hi + lo) if hi + lo > 0 else float("nan")
+    pf = percent_flicker_of_extremes(hi, lo)
     delta = s_y * np.sqrt(2.0 * np.log(max(M, 2)))
     limit = 100.0 * 2.0 * delta / (hi + lo) if hi + lo > 0 else float("nan")
     return RobustFlicker(pf, flicker_index(y), float(limit), method)

@@ -23,7 +23,7 @@ from typing import Sequence
 
 import numpy as np
 
-from . import ieee1789
+from . import ieee1789, metrics
 from .drive import Drive, DitheredPwm, LightModel
 from .errors import SettingsError
 from .timers import Timer, TimerSetting, clock_needed, minimum_duty
@@ -643,8 +643,8 @@ def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequen
     per_h = (ieee1789.classify_components(fs.frequencies_hz[sub], fs.amplitudes[sub])
              if sub.any() else None)
     frame_means = light.interval_means(np.arange(P + 1) / f)
-    frame_mod = 100.0 * (frame_means.max() - frame_means.min()) / (
-        frame_means.max() + frame_means.min())
+    frame_mod = metrics.percent_flicker_of_extremes(float(frame_means.max()),
+                                                    float(frame_means.min()))
     need_svm = any(t.kind == "svm" for t in targets)
     fig = figures(model, N / s.counts, need_svm=need_svm)
     met = [t.name for t in targets if fig.meets(t)]

@@ -34,6 +34,7 @@ import numpy as np
 
 from .capture import Capture, ReadRecord, make_capture, make_lazy_capture
 from .errors import InputError
+from .metrics import clipped_at_rail
 from .fileio import note_input
 from .tables import (MAX_LINE_BYTES, STREAM_FOLDER_PREFIX, TEXT_CHUNK_ROWS,  # noqa: F401
                      TIME_UNITS, WIDE_TABLE_COLUMNS, first_line_bounded, lines_bounded,
@@ -184,6 +185,56 @@ class ReadOptions:
     channels: int = 1
     stream: bool | None = None
     require_column: bool = False
+
+
+def dark_option(dark: float | str | None, base: Path | None = None) -> float | str | None:
+    """A dark-level setting as the reader takes it: a number, or the path of a dark capture.
+
+    Parameters
+    ----------
+    dark : float or str or None
+        A number [signal unit], a text that reads as one, or a path.
+    base : pathlib.Path, optional
+        Folder a relative path is taken from (a project file's folder);
+        default: as given (the working folder).
+
+    Returns
+    -------
+    float or str or None
+    """
+    if not isinstance(dark, str):
+        return dark
+    try:
+        return float(dark)
+    except ValueError:
+        return str(base / dark) if base is not None else dark
+
+
+def build_read_options(*, column: str | int | None = None, sample_rate_hz: float | None = None,
+                       time_unit: str | None = None, dark: float | str | None = None,
+                       resample: bool = False, fill_gaps: bool = False,
+                       base: Path | None = None, **more: Any) -> ReadOptions:
+    """ReadOptions from the settings the CLI and a project file share (one builder for both).
+
+    Parameters
+    ----------
+    column, sample_rate_hz, time_unit, resample, fill_gaps
+        As in :class:`ReadOptions` (sample rate in [Hz]).
+    dark : float or str or None
+        See :func:`dark_option`.
+    base : pathlib.Path, optional
+        Folder a relative dark-capture path is taken from.
+    **more
+        Other :class:`ReadOptions` fields (``quantity``, ``raw_dtype``,
+        ``channels``, ``stream``, ``require_column``).
+
+    Returns
+    -------
+    ReadOptions
+    """
+    return ReadOptions(column=column, sample_rate_hz=sample_rate_hz, time_unit=time_unit,
+                       dark=dark_option(dark, base), resample=bool(resample),
+                       fill_gaps=bool(fill_gaps), **more)
 
 
 def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = None) -> Capture:
@@ -458,7 +509,7 @@ def _read_wav(p: Path, options: ReadOptions):
         for a in range(0, sig.shape[0], 1 << 22):
             b = np.asarray(sig[a : a + (1 << 22)])
             at_rail += int(np.count_nonzero((b == info.max) | (b == info.min)))
-        if at_rail > max(1, sig.size // 1000):
+        if clipped_at_rail(int(sig.size), at_rail):
             warns.append(f"clipping: {at_rail} sample(s) sit at the recorder's full scale "
                          f"({info.min}/{info.max}); percent flicker is underestimated")
     fs = float(options.sample_rate_hz) if options.sample_rate_hz else float(rate)

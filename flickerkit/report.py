@@ -12,22 +12,13 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable
 
-from . import __version__, criteria
+from . import __version__, cautions, criteria
 from .criteria import Verdict  # the Report field ``criteria`` hides the module in its body
 from .errors import FlickerkitError, SettingsError
 from .project import Project
 
-#: Cautions every report carries (summary sheet and terminal).
-CAUTIONS = (
-    "Modulated light at low frequencies (roughly 3 to 70 Hz) can trigger seizures in people "
-    "with photosensitive epilepsy; modulation at higher frequencies can cause headaches, "
-    "eye strain and other effects in some people.",
-    "This report is an engineering assessment of the captures (or drive model) given, not a "
-    "certification. The applicable standards, local codes and an accredited laboratory decide "
-    "compliance.",
-    "Several limits and constants are recalled rather than read in their documents, and the "
-    "Pst LM calibration is provisional; see the method notes.",
-)
+#: Cautions every report carries (summary sheet and terminal); text in :mod:`flickerkit.cautions`.
+CAUTIONS = cautions.REPORT
 
 
 @dataclass(frozen=True)
@@ -90,21 +81,14 @@ def _sha256_or_reason(path: Path) -> str:
 
 
 def _read_options(entry_read: dict[str, Any], base: Path):
-    from .readers import ReadOptions
+    from .readers import build_read_options
 
-    dark = entry_read.get("dark")
-    if isinstance(dark, str):
-        text = dark
-        try:
-            dark = float(text)
-        except ValueError:
-            dark = str(base / text)
-    return ReadOptions(column=entry_read.get("column"),
-                       sample_rate_hz=entry_read.get("sample_rate_hz"),
-                       time_unit=entry_read.get("time_unit"), dark=dark,
-                       resample=bool(entry_read.get("resample", False)),
-                       fill_gaps=bool(entry_read.get("fill_gaps", False)),
-                       require_column=True)
+    return build_read_options(column=entry_read.get("column"),
+                              sample_rate_hz=entry_read.get("sample_rate_hz"),
+                              time_unit=entry_read.get("time_unit"), dark=entry_read.get("dark"),
+                              resample=bool(entry_read.get("resample", False)),
+                              fill_gaps=bool(entry_read.get("fill_gaps", False)),
+                              base=base, require_column=True)
 
 
 def build_report(project: Project, *, workers: int | None = None,
@@ -224,20 +208,20 @@ def build_report(project: Project, *, workers: int | None = None,
 
 
 def _steps_table(project: Project):
-    from .steps import DEFAULT_VISIBLE_STEP, build_table
+    from .steps import build_table_percent
 
     s = dict(project.steps or {})  # called only when the project has [steps]
     try:
-        return build_table(
+        return build_table_percent(
             int(s.get("steps", 64)), str(s.get("curve", "cie1976")),
-            min_level=float(s["min"]) / 100 if "min" in s else None,
-            max_level=float(s.get("max", 100)) / 100, off_step=bool(s.get("off", True)),
+            min_percent=s.get("min"), max_percent=s.get("max", 100),
+            off_step=bool(s.get("off", True)),
             bits=s.get("bits"), top=s.get("top"), min_count=int(s.get("min_count", 0)),
             rounding=str(s.get("rounding", "distinct")),
             curve_params={"gamma": float(s["gamma"])} if "gamma" in s else None,
             pwm_frequency_hz=s.get("pwm_frequency_hz"),
             target_region=str(s.get("target_region", "low-risk")),
-            visible_step=float(s.get("visible_step", DEFAULT_VISIBLE_STEP)),
+            visible_step=s.get("visible_step"),
         )
     except (TypeError, ValueError, FlickerkitError) as exc:
         raise SettingsError(f"{project.path} [steps]: {exc}") from None

@@ -24,6 +24,7 @@ from typing import Any
 
 import numpy as np
 
+from . import cautions
 from .errors import SettingsError
 
 #: Highest component frequency kept in the per-step Fourier series [Hz]
@@ -158,8 +159,7 @@ class StepFlicker:
             "svm_threshold": self.svm_threshold,
             "low_risk_limit_percent": _finite(low_risk_limit_percent(self.pwm_frequency_hz)),
             "noel_limit_percent": _finite(noel_limit_percent(self.pwm_frequency_hz)),
-            "caution": ("engineering estimate from a model of the light; the applicable "
-                        "standards, local codes and an accredited laboratory decide compliance"),
+            "caution": cautions.CAUTION,
         }
 
     def summary_lines(self) -> list[str]:

@@ -25,7 +25,7 @@ from typing import Any, Sequence
 
 import numpy as np
 
-from .curves import whole_number
+from .curves import first_not_rising, whole_number
 from .errors import InputError, SettingsError
 
 #: Default visibility threshold for one step [Delta L*]: the CIE 1976 "just
@@ -269,9 +269,8 @@ def fit_transfer(
                          source=where)
     if not (np.isfinite(c).all() and np.isfinite(y).all()):
         raise InputError("counts and light must be finite numbers", source=where)
-    bad = np.flatnonzero(np.diff(c) <= 0)
-    if bad.size:
-        i = int(bad[0])
+    i = first_not_rising(c)
+    if i is not None:
         raise InputError(
             f"counts are not strictly increasing: {c[i + 1]:g} follows {c[i]:g} "
             f"(point {i + 2}); sort the file and merge repeated counts", source=where)
@@ -756,6 +755,40 @@ def bits_for(ideal: np.ndarray, top: int) -> int:
         return 0
     need = top / float(np.min(d))
     return int(np.ceil(np.log2(need + 1) - 1e-12))
+
+
+def build_table_percent(n_steps: int, curve: str = "cie1976", *,
+                        min_percent: float | None = None, max_percent: float = 100.0,
+                        visible_step: float | None = None, **kwargs: Any) -> StepTable:
+    """:func:`build_table` with the levels in percent, as the CLI and project files give them.
+
+    The one builder of table arguments for ``steps`` and the ``[steps]`` table
+    of a project.
+
+    Parameters
+    ----------
+    n_steps, curve
+        As in :func:`build_table`.
+    min_percent : float, optional
+        Light of the lowest lit step [percent of full output]; default the curve's own.
+    max_percent : float
+        Light of the top step [percent of full output].
+    visible_step : float, optional
+        Visibility threshold of a step [CIE L* units]; default
+        :data:`DEFAULT_VISIBLE_STEP`.
+    **kwargs
+        The other keyword arguments of :func:`build_table`.
+
+    Returns
+    -------
+    StepTable
+    """
+    return build_table(
+        n_steps, curve,
+        min_level=None if min_percent is None else float(min_percent) / 100.0,
+        max_level=float(max_percent) / 100.0,
+        visible_step=DEFAULT_VISIBLE_STEP if visible_step is None else float(visible_step),
+        **kwargs)
 
 
 def build_table(

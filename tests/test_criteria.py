@@ -184,3 +184,20 @@ def test_every_criterion_has_a_kind_and_no_internal_source():
     with pytest.raises(SettingsError):
         criteria.Criterion(id="k", title="", source="", applies_to="", metric="svm",
                            comparison="<=", schedule=((None, 1.0),), kind="law")
+
+
+def test_a_misspelt_metric_is_refused_not_read_as_no_value():
+    """analytic: 1 + 0.2 sin(2 pi 123.4 t) has percent flicker 20 %; a user metric that names
+    no key of the assessment ('percent_flicer', 'svm.value') is an error naming the criterion,
+    never an 'insufficient data' verdict; a figure held as None still reads as no value."""
+    rec = record(0.2, f=123.4)
+    good = criteria.from_mapping({"id": "house-pf", "metric": "percent_flicker", "limit": 25.0})
+    assert criteria.judge(rec, good).status == "pass"
+    assert criteria.judge(rec, good).measured == pytest.approx(20.0, rel=1e-3)
+    for typo in ("percent_flicer", "per_period.percent_flicker_wrost", "svm.value"):
+        bad = criteria.from_mapping({"id": "house-typo", "metric": typo, "limit": 1.0})
+        with pytest.raises(SettingsError, match="house-typo.*no figure"):
+            criteria.judge(rec, bad)
+    cut = criteria.from_mapping({"id": "house-cut", "metric": "filtered_percent_flicker.200",
+                                 "limit": 30.0})
+    assert criteria.judge(rec, cut).status in ("pass", "insufficient data")

@@ -112,7 +112,7 @@ def test_user_criterion_on_a_text_or_list_metric_is_refused(lab, capsys, metric,
 @pytest.mark.parametrize("metric,match", [
     ("percent_flikcer", "did you mean 'percent_flicker'"),   # a typo, not a short capture
     ("read", "is a table, not a number"),                     # the read echo has no 'value'
-    ("svm_detail.nosuch", "is not a figure of the record")])
+    ("svm_detail.nosuch", "is not a key under 'svm_detail'")])
 def test_user_criterion_on_an_unknown_metric_is_refused(lab, capsys, metric, match):
     # Second review: a misspelt metric was judged "insufficient data (capture too short ...)",
     # exit 0 -- a mistake in the criteria file passed off as a property of the capture.

@@ -115,3 +115,17 @@ def test_clipping_heuristic():
     assert not metrics.suspected_clipping(clean, metrics.noise_rms(clean, 200.0))
     a = assess(make_capture(clipped, FS))
     assert any("clipping" in w for w in a.warnings)
+
+
+def test_percent_flicker_has_one_home_and_says_nan_for_no_light():
+    """analytic: a sine 1 + 0.3 sin has max 1.3, min 0.7, percent flicker 30 %;
+    no light (max + min = 0) has no percent flicker (nan), scalar and element-wise."""
+    t = np.arange(4000) / 4000.0
+    x = 1.0 + 0.3 * np.sin(2 * np.pi * 7 * t + 0.1234)
+    hi, lo = float(x.max()), float(x.min())
+    assert metrics.percent_flicker(x) == metrics.percent_flicker_of_extremes(hi, lo)
+    assert metrics.percent_flicker_of_extremes(1.3, 0.7) == pytest.approx(30.0, rel=1e-12)
+    assert np.isnan(metrics.percent_flicker_of_extremes(0.0, 0.0))
+    arr = metrics.percent_flicker_of_extremes(np.array([1.3, 0.0]), np.array([0.7, 0.0]))
+    assert arr[0] == pytest.approx(30.0, rel=1e-12) and np.isnan(arr[1])
+    assert np.isnan(metrics.percent_flicker(np.zeros(8)))

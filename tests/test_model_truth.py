@@ -219,3 +219,16 @@ def test_camera_beats_with_the_lights_repetition():
     assert b.beat_hz == pytest.approx(0.0, abs=1e-9)
     b1 = banding(Drive(frequency_hz=1010.0).at(0.2), Camera(30.0, 1 / 120))
     assert b1.beat_hz == pytest.approx(10.0)
+
+
+def test_sweep_limits_are_the_registry_limits():
+    """Commission Regulation (EU) 2019/2020 as amended: SVM <= 0.9 from 1 Sep 2021 and <= 0.4
+    from 1 Sep 2024, Pst LM <= 1.0; a sweep reads them from criteria.REGISTRY."""
+    from flickerkit import criteria
+    from flickerkit import sweep as sweep_mod
+    names = [name for name, _ in sweep_mod.CRITERIA]
+    svm = [lim for _, lim in criteria.REGISTRY["eu-2019-2020-svm"].schedule]
+    pst = [lim for _, lim in criteria.REGISTRY["eu-2019-2020-pst"].schedule]
+    assert names == ["ieee1789-low-risk", "ieee1789-noel",
+                     *(f"svm<={v:g}" for v in svm), *(f"pst_lm<={v:g}" for v in pst)]
+    assert svm == [0.9, 0.4] and pst == [1.0]

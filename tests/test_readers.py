@@ -217,3 +217,23 @@ def test_first_of_several_binary_channels_is_said_or_required(tmp_path):
         assert assess(named).percent_flicker == pytest.approx(30.0, abs=0.2)
         with pytest.raises(InputError, match="none is named"):
             read_capture(p, ReadOptions(require_column=True))
+
+
+def test_one_read_options_builder_for_cli_and_project(tmp_path):
+    """common practice, no source: a dark level is a number or a dark capture's path; the CLI
+    takes a path from the working folder, a project file from its own folder."""
+    import argparse
+
+    from flickerkit.cli.measure import add_read_options, read_options
+    from flickerkit.readers import build_read_options, dark_option
+    from flickerkit.report import _read_options
+
+    p = argparse.ArgumentParser()
+    add_read_options(p)
+    cli = read_options(p.parse_args(["--dark", "0.0123", "-r", "1234.56"]))
+    proj = _read_options({"dark": "0.0123", "sample_rate_hz": 1234.56}, tmp_path)
+    assert cli.dark == proj.dark == 0.0123 and cli.sample_rate_hz == proj.sample_rate_hz
+    assert proj.require_column and not cli.require_column
+    assert dark_option("dark.csv") == "dark.csv"
+    assert dark_option("dark.csv", tmp_path) == str(tmp_path / "dark.csv")
+    assert build_read_options(dark=0.5).dark == 0.5

@@ -13,7 +13,7 @@ import argparse
 import importlib
 import sys
 
-from .. import __version__
+from .. import __version__, cautions
 
 #: Command modules, in the order ``--help`` lists them.
 COMMANDS = ("measure", "report", "demo", "drive", "plan", "camera", "steps")
@@ -30,13 +30,8 @@ record.
 Run 'flickerkit COMMAND --help' for each command's options.
 """
 
-_CAUTION = """\
-caution: modulated light at roughly 3-70 Hz can trigger seizures in people with
-photosensitive epilepsy, and modulation at higher frequencies can cause
-headaches and other effects. flickerkit gives an engineering assessment of the
-captures or models given to it, not a certification; the applicable standards,
-local codes and an accredited laboratory decide compliance.
-"""
+#: The caution for the terminal (one home: :mod:`flickerkit.cautions`).
+_CAUTION = cautions.TERMINAL
 
 
 class _Parser(argparse.ArgumentParser):
@@ -48,7 +43,7 @@ class _Parser(argparse.ArgumentParser):
         self.exit(2, f"flickerkit: error: {where}{message} (see '{self.prog} --help')\n")
 
 #: The caution as one line, for JSON output (key ``caution``).
-CAUTION_TEXT = " ".join(_CAUTION.removeprefix("caution: ").split())
+CAUTION_TEXT = cautions.CAUTION
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -81,7 +81,7 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
 
 def read_options(args: argparse.Namespace, quantity: str = "light"):
     from ..errors import SettingsError
-    from ..readers import TIME_UNITS, ReadOptions
+    from ..readers import TIME_UNITS, build_read_options
     from ..validate import MAX_SAMPLE_RATE_HZ, check_count, check_number
 
     check_number(args.sample_rate, "--sample-rate", low=0, high=MAX_SAMPLE_RATE_HZ,
@@ -91,18 +91,12 @@ def read_options(args: argparse.Namespace, quantity: str = "light"):
                             f"s, ms, us, µs, ns (any case: MS is milliseconds)")
     if getattr(args, "raw_channels", None) is not None:
         check_count(args.raw_channels, 1024, "--raw-channels")
-    dark = args.dark
-    if dark is not None:
-        try:
-            dark = float(dark)
-        except ValueError:
-            pass
-    return ReadOptions(column=args.column, sample_rate_hz=args.sample_rate,
-                       time_unit=args.time_unit, dark=dark, resample=args.resample,
-                       fill_gaps=args.fill_gaps, quantity=quantity,
-                       raw_dtype=getattr(args, "raw_dtype", None),
-                       channels=getattr(args, "raw_channels", 1),
-                       stream=getattr(args, "stream", None))
+    return build_read_options(column=args.column, sample_rate_hz=args.sample_rate,
+                              time_unit=args.time_unit, dark=args.dark, resample=args.resample,
+                              fill_gaps=args.fill_gaps, quantity=quantity,
+                              raw_dtype=getattr(args, "raw_dtype", None),
+                              channels=getattr(args, "raw_channels", 1),
+                              stream=getattr(args, "stream", None))
 
 
 def add_parser(sub) -> None:

@@ -190,7 +190,7 @@ def run(args: argparse.Namespace) -> int:
 def build(args: argparse.Namespace):
     """The table the options describe."""
     from ..errors import SettingsError
-    from ..steps import DEFAULT_VISIBLE_STEP, build_table, make_counter, read_transfer_csv
+    from ..steps import build_table_percent, make_counter, read_transfer_csv
 
     params: dict = {}
     curve = args.curve
@@ -210,13 +210,10 @@ def build(args: argparse.Namespace):
     elif args.calibration_capture:
         transfer = transfer_from_files(args, counter.top)
     drive = drive_of(args)
-    return build_table(
-        args.steps, curve,
-        min_level=None if args.min_percent is None else args.min_percent / 100.0,
-        max_level=args.max_percent / 100.0, off_step=args.off,
-        bits=args.bits, top=args.top, min_count=args.min_count, rounding=args.rounding,
-        transfer=transfer,
-        visible_step=DEFAULT_VISIBLE_STEP if args.visible_step is None else args.visible_step,
+    return build_table_percent(
+        args.steps, curve, min_percent=args.min_percent, max_percent=args.max_percent,
+        off_step=args.off, bits=args.bits, top=args.top, min_count=args.min_count,
+        rounding=args.rounding, transfer=transfer, visible_step=args.visible_step,
         pwm_frequency_hz=args.pwm_frequency, curve_params=params, drive=drive,
         target_region=args.target_region)
 

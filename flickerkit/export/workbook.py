@@ -12,16 +12,11 @@ import re
 from pathlib import Path
 from typing import Any, Iterable, Sequence
 
-from .. import __version__
+from .. import __version__, cautions
 from ..fileio import write_with
 
-CAUTION = (
-    "Caution: modulated light at roughly 3-70 Hz can trigger seizures in people with "
-    "photosensitive epilepsy, and modulation at higher frequencies can cause headaches and "
-    "other effects. This workbook is an engineering assessment of the captures or models "
-    "given, not a certification; the applicable standards, local codes and an accredited "
-    "laboratory decide compliance."
-)
+#: The caution as a workbook note (one home: :mod:`flickerkit.cautions`).
+CAUTION = cautions.WORKBOOK
 
 
 #: Characters a workbook cannot hold (XML 1.0 forbids C0 controls but tab, LF and CR).
@@ -390,12 +385,10 @@ VOLTAGE_COLUMNS: tuple[tuple[str, str], ...] = (
 
 
 def lookup(d: dict[str, Any], dotted: str) -> Any:
-    """Value at a dotted key path of a nested dict (None where missing)."""
-    cur: Any = d
-    for part in dotted.split("."):
-        if not isinstance(cur, dict) or part not in cur:
-            return None
-        cur = cur[part]
+    """Cell value at a dotted key path (:func:`flickerkit.keypath.figure_or_none`); lists joined."""
+    from ..keypath import figure_or_none
+
+    cur = figure_or_none(d, dotted)
     if isinstance(cur, list):
         return "; ".join(str(x) for x in cur)
     return cur
