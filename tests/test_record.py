@@ -250,3 +250,28 @@ def test_report_without_a_20_percent_capture_lists_it_missing(demo_record, tmp_p
     assert ja8["status"] == "insufficient data" and reg["status"] == "insufficient data"
     assert data["overall"] == "insufficient data"
     assert "20 %" in data["limiting"]
+
+
+def test_spectrum_picture_draws_the_modulation_that_decided_the_region():
+    # 1234.56 Hz PWM at 40 % duty whose on-level carries 10 % at 17.3 Hz: the light's mean is
+    # 0.4 (1 + 0.1 sin), so its 17.3 Hz component is 10 % of the mean (analytic) and it is what
+    # decides IEEE 1789 (0.025 f = 0.43 % line, IEEE 1789-2015 RP1 as recalled in ieee1789.py).
+    # The spectrum picture must show that component, not only the PWM's harmonics.
+    import numpy as np
+
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+    from flickerkit.export.figures import spectrum_figure
+
+    fs = 200_000.0
+    t = np.arange(int(1.5 * fs)) / fs
+    pwm = (((t * 1234.56 + 0.0123) % 1.0) < 0.4).astype(float)
+    x = pwm * (1.0 + 0.1 * np.sin(2 * np.pi * 17.3 * t))
+    rec = assess(make_capture(x, fs, label="pwm x 17.3 Hz")).to_dict()
+    assert rec["ieee1789"]["frequency_hz"] == pytest.approx(17.3, rel=1e-3)
+    fig = spectrum_figure(rec)
+    points = [(fx, a) for line in fig.axes[0].get_lines()
+              for fx, a in zip(np.atleast_1d(line.get_xdata()), np.atleast_1d(line.get_ydata()))
+              if line.get_marker() not in (None, "None", "")]
+    near = [a for fx, a in points if abs(fx - 17.3) < 0.1]
+    assert near and near[0] == pytest.approx(10.0, rel=0.01)  # analytic: 10 % of the mean
