@@ -112,3 +112,14 @@ def test_levels_are_percent_at_every_edge(capsys):
     assert main(["drive", "--method", "hybrid", "--crossover", "0.2", "-q"]) == 1
     err = capsys.readouterr().err
     assert "--crossover-level" in err and len(err.strip().splitlines()) == 1
+
+
+def test_drive_table_says_what_decided_the_region(capsys):
+    # 2 kHz PWM at 50 % whose light carries 20 % sine ripple at 100 Hz: the PWM fundamental is
+    # exempt from the low-risk line above 1250 Hz, so the region is decided by the ripple,
+    # 20 % against 0.08 x 100 = 8 % (IEEE 1789-2015 RP1, as recalled in ieee1789.py); the
+    # terminal must say so, as measure does, not only print 2000 Hz and above-low-risk
+    assert main(["drive", "-f", "2000", "--ripple", "20", "--levels", "50", "-q"]) == 0
+    out = capsys.readouterr().out
+    line = next(ln for ln in out.splitlines() if "decided by" in ln)
+    assert "50 %" in line and "100 Hz" in line and "8 % low-risk line" in line
