@@ -123,3 +123,21 @@ def test_drive_table_says_what_decided_the_region(capsys):
     out = capsys.readouterr().out
     line = next(ln for ln in out.splitlines() if "decided by" in ln)
     assert "50 %" in line and "100 Hz" in line and "8 % low-risk line" in line
+
+
+def test_drive_harmonics_are_the_models_not_the_aliased_capture(capsys):
+    # 2 kHz PWM at 50 % duty with 20 % ripple: the harmonics of 2 kHz have the square wave's
+    # closed form C_k = 2 sin(pi k D) / (pi k D) = 4 / (pi k) for odd k, 0 for even k (analytic;
+    # the ripple only adds sidebands at k 2000 +- 100 Hz). The sampled capture behind a sweep
+    # row has 16 samples per period and folds the upper harmonics (h7 read 40 % high)
+    import numpy as np
+
+    out = run_json(capsys, ["drive", "-f", "2000", "--ripple", "20", "--levels", "50"])
+    h = out["levels"][0]["harmonics"]
+    assert [x["order"] for x in h][:8] == list(range(1, 9))
+    for x in h:
+        k = x["order"]
+        assert x["frequency_hz"] == pytest.approx(2000.0 * k, rel=1e-9)
+        want = 4.0 / (np.pi * k) if k % 2 else 0.0
+        assert x["amplitude"] == pytest.approx(want, rel=1e-6, abs=1e-9)
+    assert len(h) == 20  # as measure reports (AssessSettings.harmonics)
