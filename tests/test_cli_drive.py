@@ -141,3 +141,22 @@ def test_drive_harmonics_are_the_models_not_the_aliased_capture(capsys):
         want = 4.0 / (np.pi * k) if k % 2 else 0.0
         assert x["amplitude"] == pytest.approx(want, rel=1e-6, abs=1e-9)
     assert len(h) == 20  # as measure reports (AssessSettings.harmonics)
+
+
+def test_drive_picture_draws_the_limits_it_judges():
+    # the sweep judges SVM <= 0.9 and <= 0.4 (Regulation (EU) 2019/2020 as amended, Annex II)
+    # and Pst LM <= 1; its metrics-against-level picture says "with limit lines", so the
+    # SVM panel must carry both lines
+    from flickerkit.drive import Drive
+    from flickerkit.export.figures import levels_figure
+    from flickerkit.export.modelbooks import sweep_limits
+    from flickerkit.sweep import sweep
+
+    out = sweep(Drive(method="pwm", frequency_hz=1234.56), [1.0, 0.5]).to_dict()
+    recs = [{**r, "label": f"level {r['level']:g} %"} for r in out["levels"]]
+    fig = levels_figure(recs, sweep_limits())
+    svm_ax = fig.axes[2]
+    assert svm_ax.get_ylabel() == "SVM [1]"
+    flat = sorted(float(ln.get_ydata()[0]) for ln in svm_ax.get_lines()
+                  if len(set(ln.get_ydata())) == 1 and ln.get_linestyle() == "--")
+    assert flat == [0.4, 0.9]

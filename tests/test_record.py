@@ -59,7 +59,8 @@ def test_decided_by_is_read_defensively():
 
 @pytest.mark.parametrize("value, shown", [(0.1346622585655061, "0.1347"),
                                           (3.9469056161229443, "3.947"),
-                                          (99.99999980982868, "100.00"),
+                                          (99.99999980982868, "100.0"),  # 4, not 5
+                                          (9.99996, "10.00"), (0.099996, "0.1000"),
                                           (1234.56, "1235"), (20000.0, "20000"),
                                           (1.5e-7, "1.500E-07")])
 def test_display_formats_keep_four_significant_digits(value, shown):

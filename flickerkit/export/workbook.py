@@ -55,6 +55,9 @@ def sig_format(value: float, digits: int = SIGNIFICANT_DIGITS) -> str:
         return "0." + "0" * (digits - 1) + "E+00"
     if float(value).is_integer():
         return "0"
+    # the magnitude after rounding: 99.99998 shows as 100.0, not 100.00
+    rounded = float(f"{value:.{digits}g}")
+    mag = math.floor(math.log10(abs(rounded)))
     decimals = max(0, digits - 1 - mag)
     return "0" if decimals == 0 else "0." + "0" * decimals
 
