@@ -145,3 +145,13 @@ def test_plan_workbook_prints_frequencies_to_the_hundredth(tmp_path):
     assert cells["Lowest frequency, exact clock [Hz]"].number_format == "0.00"
     ts = load_workbook(x)["Timer settings"]
     assert all(r[3].number_format == "0.00" for r in ts.iter_rows(min_row=2))
+
+
+def test_plan_does_not_name_the_drive_frequency_it_replaces(capsys):
+    # plan sweeps the PWM frequency: its record must not head itself with the drive's
+    # default 1000 Hz beside a recommendation of about 2 kHz (labelling; no external source)
+    assert main(["plan", "-t", "svm<=0.4", "--json", "-q"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert "1000 Hz" not in out["drive"] and "frequency from the plan" in out["drive"]
+    assert main(["plan", "-t", "svm<=0.4", "-q"]) == 0
+    assert "1000 Hz" not in capsys.readouterr().out.splitlines()[0]
