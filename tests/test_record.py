@@ -276,3 +276,17 @@ def test_spectrum_picture_draws_the_modulation_that_decided_the_region():
               if line.get_marker() not in (None, "None", "")]
     near = [a for fx, a in points if abs(fx - 17.3) < 0.1]
     assert near and near[0] == pytest.approx(10.0, rel=0.01)  # analytic: 10 % of the mean
+
+
+def test_limiting_text_reads_and_names_line_ripple():
+    # IEEE 1789 RP2 failing at 100 % on modulation at 100 Hz (twice the 50 Hz line, common
+    # practice, no source): a higher PWM frequency does not touch it, so the suggestion names
+    # the line ripple; the paragraph sits under the heading "What limits the product" and
+    # does not repeat it as a sentence
+    crit = criteria.get(["ieee1789-noel"])
+    v = criteria.Verdict("ieee1789-noel", "a", 100.0, "fail", 4.5, 3.33, -1.17,
+                         "fundamental mode at 99.998 Hz")
+    text = limiting_text(group(crit, [v], [100.0]))
+    assert "What limits the product" not in text
+    assert "ripple" in text and "`" not in text
+    assert "flickerkit plan --target ieee1789-noel" in text
