@@ -264,11 +264,7 @@ def test_spectrum_picture_draws_the_modulation_that_decided_the_region():
     from flickerkit.capture import make_capture
     from flickerkit.export.figures import spectrum_figure
 
-    fs = 200_000.0
-    t = np.arange(int(1.5 * fs)) / fs
-    pwm = (((t * 1234.56 + 0.0123) % 1.0) < 0.4).astype(float)
-    x = pwm * (1.0 + 0.1 * np.sin(2 * np.pi * 17.3 * t))
-    rec = assess(make_capture(x, fs, label="pwm x 17.3 Hz")).to_dict()
+    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="pwm x 17.3 Hz")).to_dict()
     assert rec["ieee1789"]["frequency_hz"] == pytest.approx(17.3, rel=1e-3)
     fig = spectrum_figure(rec)
     points = [(fx, a) for line in fig.axes[0].get_lines()
@@ -290,3 +286,39 @@ def test_limiting_text_reads_and_names_line_ripple():
     assert "What limits the product" not in text
     assert "ripple" in text and "`" not in text
     assert "flickerkit plan --target ieee1789-noel" in text
+
+
+def test_workbook_ieee_chart_places_composite_light_where_it_was_judged():
+    # 1234.56 Hz PWM whose on-level carries 10 % at 17.3 Hz: IEEE 1789 is decided at 17.3 Hz,
+    # 10 % (analytic: the envelope is 10 % of the mean; 0.025 f line of IEEE 1789-2015 RP1 as
+    # recalled in ieee1789.py), so the workbook's chart point sits there, as the picture's
+    # does, not at the PWM's 1234.56 Hz and 100 %; the log axis labels 0.01 as 0.01, not 0.0
+    import numpy as np
+    from openpyxl import Workbook
+
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+    from flickerkit.export.report_workbook import _ieee_chart_sheet
+
+    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="pwm x 17.3 Hz")).to_dict()
+    wb = Workbook()
+    _ieee_chart_sheet(wb, [rec])
+    ws = wb["IEEE 1789 chart"]
+    assert ws.cell(2, 6).value == pytest.approx(17.3, rel=1e-3)
+    assert ws.cell(2, 7).value == pytest.approx(10.0, rel=0.01)
+    assert ws._charts[0].y_axis.numFmt.formatCode == "General"
+
+
+def _pwm_with_envelope(depth, fs=200_000.0, duration_s=1.5):
+    """1234.56 Hz PWM at 40 % duty times (1 + depth sin(2 pi 17.3 t)), sampled as interval
+    averages (a detector faithful to the edges): a 0/1 test on sample times would quantise each
+    pulse to whole samples, and 162.0005 samples per period make that a slow duty wobble of
+    about 1 % of the mean below 90 Hz, which the tool rightly measures."""
+    import numpy as np
+
+    f, duty = 1234.56, 0.4
+    n = int(duration_s * fs)
+    p = np.arange(n + 1) / fs * f + 0.0123
+    on = np.floor(p) * duty + np.minimum(p - np.floor(p), duty)  # on-time [periods]
+    t = (np.arange(n) + 0.5) / fs
+    return np.diff(on) * fs / f * (1.0 + depth * np.sin(2 * np.pi * 17.3 * t)), fs

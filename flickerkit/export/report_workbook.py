@@ -351,11 +351,19 @@ def _ieee_chart_sheet(wb, records) -> str:
                ([float(a), float(b), float(c)] for a, b, c in zip(f, lr, noel)),
                widths=[14, 20, 20])
     n = f.size
-    pts = [(rec.get("frequency_hz"), rec.get("percent_flicker"), rec["label"])
-           for rec in records if rec.get("frequency_hz") and rec.get("percent_flicker")]
+    # each capture where IEEE 1789 judged it (the headline: a composite light's envelope or
+    # ripple when that decided, else the fundamental and its percent flicker)
+    pts = []
+    for rec in records:
+        ieee = rec.get("ieee1789") or {}
+        fx, m = ieee.get("frequency_hz"), ieee.get("modulation_percent")
+        if not (fx and m):
+            fx, m = rec.get("frequency_hz"), rec.get("percent_flicker")
+        if fx and m:
+            pts.append((fx, m, rec["label"]))
     put(ws, 1, 5, "Capture")
-    put(ws, 1, 6, "Frequency [Hz]")
-    put(ws, 1, 7, "Percent flicker [%]")
+    put(ws, 1, 6, "Frequency judged [Hz]")
+    put(ws, 1, 7, "Modulation judged [%]")
     for i, (fx, pf, label) in enumerate(pts, start=2):
         put(ws, i, 5, label)
         put(ws, i, 6, float(fx))
@@ -370,6 +378,8 @@ def _ieee_chart_sheet(wb, records) -> str:
     ch.y_axis.scaling.logBase = 10
     ch.x_axis.scaling.min, ch.x_axis.scaling.max = 1, 10_000
     ch.y_axis.scaling.min, ch.y_axis.scaling.max = 0.01, 200
+    ch.y_axis.number_format = "General"  # a log axis from 0.01: "0.0" printed 0.01 as 0.0
+    ch.x_axis.number_format = "General"
     ch.x_axis.delete = False
     ch.y_axis.delete = False
     ch.legend.position = "b"
