@@ -322,3 +322,18 @@ def _pwm_with_envelope(depth, fs=200_000.0, duration_s=1.5):
     on = np.floor(p) * duty + np.minimum(p - np.floor(p), duty)  # on-time [periods]
     t = (np.arange(n) + 0.5) / fs
     return np.diff(on) * fs / f * (1.0 + depth * np.sin(2 * np.pi * 17.3 * t)), fs
+
+
+def test_ieee_verdict_reason_names_the_fundamental_and_what_decided():
+    # the envelope (17.3 Hz, 10 %) decides against the 0.025 f line (IEEE 1789-2015 RP1 as
+    # recalled in ieee1789.py); the standard's reading is at the PWM's 1234.56 Hz, so the
+    # reason must not say "fundamental mode at 17.3 Hz"
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+
+    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="env")).to_dict()
+    v = criteria.judge(rec, criteria.REGISTRY["ieee1789-low-risk"], level=20.0)
+    assert v.status == "fail"
+    assert "fundamental mode at 17.3 Hz" not in v.reason
+    assert "decided by band below 90 Hz (at 17.3 Hz)" in v.reason
+    assert "fundamental mode at 1234.6 Hz" in v.reason and "low-risk" in v.reason
