@@ -293,7 +293,6 @@ def test_workbook_ieee_chart_places_composite_light_where_it_was_judged():
     # 10 % (analytic: the envelope is 10 % of the mean; 0.025 f line of IEEE 1789-2015 RP1 as
     # recalled in ieee1789.py), so the workbook's chart point sits there, as the picture's
     # does, not at the PWM's 1234.56 Hz and 100 %; the log axis labels 0.01 as 0.01, not 0.0
-    import numpy as np
     from openpyxl import Workbook
 
     from flickerkit.assess import assess

@@ -396,7 +396,8 @@ def _ieee_chart_sheet(wb, records) -> str:
     for i, (_, _, label) in enumerate(pts):  # one series per capture: the legend labels it
         row = i + 2
         s = Series(Reference(ws, min_col=7, min_row=row, max_row=row),
-                   Reference(ws, min_col=6, min_row=row, max_row=row), title=workbook_text(str(label))[0])
+                   Reference(ws, min_col=6, min_row=row, max_row=row),
+                   title=workbook_text(str(label))[0])
         s.marker.symbol = symbols[i % len(symbols)]
         s.marker.size = 8
         s.marker.graphicalProperties.solidFill = colours[i % len(colours)]
