@@ -336,3 +336,17 @@ def test_ieee_verdict_reason_names_the_fundamental_and_what_decided():
     assert "fundamental mode at 17.3 Hz" not in v.reason
     assert "decided by band below 90 Hz (at 17.3 Hz)" in v.reason
     assert "fundamental mode at 1234.6 Hz" in v.reason and "low-risk" in v.reason
+
+
+def test_summary_and_chart_headers_do_not_run_together(demo_record):
+    # seen on the printed pages (LibreOffice): the right-aligned margin and the tolerance text
+    # beside it printed as "0.26530.1 (context"; the chart sheet's headers ran into each other
+    from openpyxl import load_workbook
+
+    wb = load_workbook(demo_record / "ardent12_record.xlsx")
+    tol = [c for row in wb["Summary"].iter_rows() for c in row
+           if isinstance(c.value, str) and c.value.endswith("(context, Annex IV)")]
+    assert tol and all(c.alignment.horizontal == "left" and c.alignment.indent >= 1 for c in tol)
+    ws = wb["IEEE 1789 chart"]
+    for col in "FG":
+        assert ws.column_dimensions[col].width >= len(ws[f"{col}1"].value)

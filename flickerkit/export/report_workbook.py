@@ -159,7 +159,10 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
                     ", ".join(f"{x:g}" for x in o.missing_levels) or None, o.decided_by]
             for j, v in enumerate(vals, start=1):
                 c = put(ws, r, j, v)
-                c.alignment = wrap
+                # text after a right-aligned number starts one indent in (the margin and
+                # the tolerance printed as one "0.26530.1")
+                c.alignment = wrap if j != 8 else Alignment(
+                    wrap_text=True, vertical="top", horizontal="left", indent=1)
             _style_status(ws.cell(row=r, column=2), o.status)
     r += 2
     put(ws, r, 1, "What limits the product").font = Font(bold=True, size=12)
@@ -414,7 +417,7 @@ def _ieee_chart_sheet(wb, records) -> str:
     # printed: the points, the labelled picture and the chart; the boundary table (the
     # chart's data, columns A-C) stays in the workbook but off the printed pages
     ws.print_area = f"E1:L{top + 46}"
-    for col, w in (("D", 3), ("E", 24), ("F", 14), ("G", 16)):
+    for col, w in (("D", 3), ("E", 24), ("F", 22), ("G", 22)):  # headers on one line
         ws.column_dimensions[col].width = w
     return f"E{top}"
 

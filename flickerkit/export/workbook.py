@@ -186,7 +186,7 @@ def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0, max_row: int | None = 
             for cell in row:  # one baseline for the whole row
                 al = cell.alignment
                 cell.alignment = Alignment(wrap_text=al.wrap_text, horizontal=al.horizontal,
-                                           vertical="top")
+                                           vertical="top", indent=al.indent)
 
 
 def _hf(text: str, limit: int = 40) -> str:
