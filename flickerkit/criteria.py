@@ -478,8 +478,15 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
                                 else ("no-observable-effect",))
         margin = None if limit is None else limit - measured
         decided = ieee.get("decided_by") or ieee["mode"]
-        how = (f"{ieee['mode']} mode at {ieee['frequency_hz']:.5g} Hz"
-               + (f", decided by {decided}" if decided not in (ieee["mode"], "") else "")
+        std = ieee.get("per_harmonic" if ieee["mode"] == "per-harmonic" else "fundamental")
+        if decided.startswith(("component", "band")) and std and std.get("frequency_hz"):
+            # another modulation decided: name it, and the standard's reading beside it
+            how = (f"decided by {decided}; the standard's reading ({ieee['mode']} mode at "
+                   f"{std['frequency_hz']:.5g} Hz) is {std.get('region')}")
+        else:
+            how = (f"{ieee['mode']} mode at {ieee['frequency_hz']:.5g} Hz"
+                   + (f", decided by {decided}" if decided not in (ieee["mode"], "") else ""))
+        how = (how
                + (f"; {ieee['edge']}" if ieee.get("edge") else "")
                + ("" if limit is not None else "; exempt above the upper frequency"))
         return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,

@@ -1390,10 +1390,11 @@ class Drive:
         """The same scheme at another PWM frequency."""
         return replace(self, frequency_hz=frequency_hz)
 
-    def describe(self) -> str:
+    def describe(self, *, frequency: bool = True) -> str:
+        """One line naming the drive; ``frequency=False`` when a plan chooses it."""
         parts = [self.method]
         if self.method != "analogue":
-            parts.append(f"{self.frequency_hz:g} Hz")
+            parts.append(f"{self.frequency_hz:g} Hz" if frequency else "frequency from the plan")
         if self.method == "hybrid":
             parts.append(f"crossover {self.crossover * 100:g} %")
         if self.edges.kind != "ideal":

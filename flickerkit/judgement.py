@@ -214,6 +214,23 @@ def verdicts_of(o: CriterionOutcome) -> tuple[Verdict, ...]:
     return o.verdicts
 
 
+#: Twice the 50 Hz and 60 Hz line frequencies [Hz] (common practice, no source), and how
+#: near a deciding frequency must be to count as line ripple [relative].
+_LINE_RIPPLE_HZ = (100.0, 120.0)
+_LINE_RIPPLE_RTOL = 0.01
+
+
+def _on_line_ripple(reason: str) -> bool:
+    """Whether a verdict's reason names a frequency at twice a line frequency."""
+    import re
+
+    for m in re.finditer(r"at ([0-9]+(?:\.[0-9]+)?) Hz", reason or ""):
+        f = float(m.group(1))
+        if any(abs(f - r) <= _LINE_RIPPLE_RTOL * r for r in _LINE_RIPPLE_HZ):
+            return True
+    return False
+
+
 def _plan_target(c: Criterion, limit: float | None) -> str | None:
     if c.metric == "ieee1789.low_risk":
         return "ieee1789-low-risk"
@@ -236,6 +253,7 @@ def limiting_text(groups: Sequence[GroupOutcome]) -> str:
     """
     parts: list[str] = []
     targets: list[str] = []
+    ripple = False
     for g in groups:
         for o in g.criteria:
             c, w = o.criterion, o.worst
@@ -254,6 +272,8 @@ def limiting_text(groups: Sequence[GroupOutcome]) -> str:
                 t = _plan_target(c, w.limit)
                 if t and t not in targets:
                     targets.append(t)
+                ripple = ripple or any(_on_line_ripple(v.reason) for v in verdicts_of(o)
+                                       if v.status == "fail")
                 if c.metric == "pst_lm":
                     parts.append("Pst LM responds to modulation below about 80 Hz: look for "
                                  "mains ripple, beating between converters, or slow dither.")
@@ -267,12 +287,18 @@ def limiting_text(groups: Sequence[GroupOutcome]) -> str:
         head = (summary + " No criterion judged here fails and none lacks a required level; "
                 "the smallest margins are in the table above.").strip()
     else:
-        head = (summary + " What limits the product. " + " ".join(parts)).strip()
+        head = (summary + " " + " ".join(parts)).strip()
+    if ripple:
+        head += (" Engineering suggestion: modulation at twice the line frequency decides at "
+                 "least one failure; a higher PWM frequency does not touch it, less line "
+                 "ripple in the LED current (more output filtering or a ripple-cancelling "
+                 "stage) would.")
     if targets:
-        head += (" Engineering suggestion: a higher PWM frequency, or a dimming method with "
+        head += ((" Also: " if ripple else " Engineering suggestion: ")
+                 + "a higher PWM frequency, or a dimming method with "
                  "less modulation at the failing levels (analogue or hybrid dimming there), "
-                 "would change this; `flickerkit plan --target " + ",".join(targets)
-                 + "` with the product's drive finds the lowest PWM frequency that meets it, "
+                 "would change this; \"flickerkit plan --target " + ",".join(targets)
+                 + "\" with the product's drive finds the lowest PWM frequency that meets it, "
                  "and the product must then be measured again.")
     return f"{head} {cautions.NOT_CERTIFICATION}"
 

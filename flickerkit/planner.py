@@ -735,7 +735,7 @@ def plan(
             + (f" (level {worst * 100:.3g} % fails {combined.limiting_target} even at "
                f"{range_hz[1]:g} Hz)" if worst is not None else ""))
     out: dict = {
-        "drive": drive.describe(),
+        "drive": drive.describe(frequency=False),  # the plan sweeps the frequency
         "targets": [t.name for t in targets],
         "levels": [100.0 * float(x) for x in lv],  # percent at the JSON edge
         "range_hz": list(range_hz),

@@ -131,12 +131,21 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
     reading = (a.ieee1789_per_harmonic if settings.ieee1789_mode == "per-harmonic"
                and a.ieee1789_per_harmonic else fund)
     head = _with_unrelated(light, f0, reading) if (reading is not None and f0) else reading
+    harm, per_h = _exact_harmonics(light, f0, settings.harmonics,
+                                   0.5 / a.sample_rate_hz)
+    if harm:
+        a = replace(a, harmonics=harm, ieee1789_per_harmonic=per_h)
+        if settings.ieee1789_mode == "per-harmonic":
+            head = _with_unrelated(light, f0, per_h)
     a = replace(a, percent_flicker=pf, flicker_index=fi, ieee1789_fundamental=fund, svm=sv,
                 ieee1789_headline=head)
     rec = a.to_dict()
-    rec["warnings"] = [w + ("; the headline percent flicker, flicker index and SVM are the "
-                            "model's exact figures, capture_figures those of the capture")
-                       if w.startswith("sample rate limited by the sample budget") else w
+    rec["warnings"] = [w + ("; the headline percent flicker, flicker index, SVM and harmonics "
+                            "are the model's exact figures, capture_figures those of the capture")
+                       if w.startswith("sample rate limited by the sample budget")
+                       else w + ("; this concerns the capture's SVM (capture_figures): the "
+                                 "headline SVM is the model's exact series")
+                       if "of the SVM sum lies between the harmonics" in w else w
                        for w in rec["warnings"]]
     rec["capture_figures"] = {k: (float(v) if isinstance(v, float) else v)
                               for k, v in captured.items()}
@@ -144,6 +153,38 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
                              "from the exact Fourier series); capture_figures: the sampled "
                              "capture through assess")
     return rec
+
+
+def _exact_harmonics(light, f0: float | None, count: int, t0_s: float):
+    """The first ``count`` harmonics of ``f0`` from the model's exact Fourier series.
+
+    Phases are taken at ``t0_s`` [s], the centre of the capture's first sample
+    (its samples are interval averages), as ``measure`` reports them.
+
+    Returns ``(harmonics, per_harmonic_reading)``, or ``((), None)`` when the
+    light is steady. The sampled capture's own harmonics fold the upper ones
+    (a PWM edge is not band-limited), so the record carries these.
+    """
+    import numpy as np
+
+    from . import ieee1789
+    from .assess import Harmonic
+
+    if not f0:
+        return (), None
+    ser = light.fourier_series(f0 * (count + 0.5))
+    order = np.arange(1, count + 1)
+    amp = np.zeros(count)
+    phase = np.zeros(count)
+    if ser.frequencies_hz.size:
+        k = np.rint(ser.frequencies_hz / f0).astype(np.int64)
+        on = (k >= 1) & (k <= count) & (np.abs(ser.frequencies_hz - k * f0) <= 1e-6 * k * f0)
+        amp[k[on] - 1] = ser.amplitudes[on]
+        phase[k[on] - 1] = ser.phases_rad[on]
+    phase = np.angle(np.exp(1j * (phase + 2 * np.pi * order * f0 * t0_s)))
+    harm = tuple(Harmonic(int(n), float(n * f0), float(c), float(np.degrees(p)) if c else 0.0)
+                 for n, c, p in zip(order, amp, phase))
+    return harm, ieee1789.classify_components(order * f0, amp)
 
 
 def _fails(rec: dict[str, Any], name: str) -> bool | None:

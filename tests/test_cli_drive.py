@@ -112,3 +112,51 @@ def test_levels_are_percent_at_every_edge(capsys):
     assert main(["drive", "--method", "hybrid", "--crossover", "0.2", "-q"]) == 1
     err = capsys.readouterr().err
     assert "--crossover-level" in err and len(err.strip().splitlines()) == 1
+
+
+def test_drive_table_says_what_decided_the_region(capsys):
+    # 2 kHz PWM at 50 % whose light carries 20 % sine ripple at 100 Hz: the PWM fundamental is
+    # exempt from the low-risk line above 1250 Hz, so the region is decided by the ripple,
+    # 20 % against 0.08 x 100 = 8 % (IEEE 1789-2015 RP1, as recalled in ieee1789.py); the
+    # terminal must say so, as measure does, not only print 2000 Hz and above-low-risk
+    assert main(["drive", "-f", "2000", "--ripple", "20", "--levels", "50", "-q"]) == 0
+    out = capsys.readouterr().out
+    line = next(ln for ln in out.splitlines() if "decided by" in ln)
+    assert "50 %" in line and "100 Hz" in line and "8 % low-risk line" in line
+
+
+def test_drive_harmonics_are_the_models_not_the_aliased_capture(capsys):
+    # 2 kHz PWM at 50 % duty with 20 % ripple: the harmonics of 2 kHz have the square wave's
+    # closed form C_k = 2 sin(pi k D) / (pi k D) = 4 / (pi k) for odd k, 0 for even k (analytic;
+    # the ripple only adds sidebands at k 2000 +- 100 Hz). The sampled capture behind a sweep
+    # row has 16 samples per period and folds the upper harmonics (h7 read 40 % high)
+    import numpy as np
+
+    out = run_json(capsys, ["drive", "-f", "2000", "--ripple", "20", "--levels", "50"])
+    h = out["levels"][0]["harmonics"]
+    assert [x["order"] for x in h][:8] == list(range(1, 9))
+    for x in h:
+        k = x["order"]
+        assert x["frequency_hz"] == pytest.approx(2000.0 * k, rel=1e-9)
+        want = 4.0 / (np.pi * k) if k % 2 else 0.0
+        assert x["amplitude"] == pytest.approx(want, rel=1e-6, abs=1e-9)
+    assert len(h) == 20  # as measure reports (AssessSettings.harmonics)
+
+
+def test_drive_picture_draws_the_limits_it_judges():
+    # the sweep judges SVM <= 0.9 and <= 0.4 (Regulation (EU) 2019/2020 as amended, Annex II)
+    # and Pst LM <= 1; its metrics-against-level picture says "with limit lines", so the
+    # SVM panel must carry both lines
+    from flickerkit.drive import Drive
+    from flickerkit.export.figures import levels_figure
+    from flickerkit.export.modelbooks import sweep_limits
+    from flickerkit.sweep import sweep
+
+    out = sweep(Drive(method="pwm", frequency_hz=1234.56), [1.0, 0.5]).to_dict()
+    recs = [{**r, "label": f"level {r['level']:g} %"} for r in out["levels"]]
+    fig = levels_figure(recs, sweep_limits())
+    svm_ax = fig.axes[2]
+    assert svm_ax.get_ylabel() == "SVM [1]"
+    flat = sorted(float(ln.get_ydata()[0]) for ln in svm_ax.get_lines()
+                  if len(set(ln.get_ydata())) == 1 and ln.get_linestyle() == "--")
+    assert flat == [0.4, 0.9]

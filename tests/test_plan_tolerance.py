@@ -127,3 +127,31 @@ def test_cli_bad_tolerance(capsys, bad):
 def test_tolerance_checked():
     with pytest.raises(SettingsError, match="tolerance"):
         plan(Drive(), parse_targets("low-risk"), tolerance=0.5)
+
+
+def test_plan_workbook_prints_frequencies_to_the_hundredth(tmp_path):
+    # SVM's band is 80 Hz to 2 kHz, ends included (CIE TN 006:2016, IEC TR 63158:2018): the
+    # lowest frequency meeting svm<=0.4 for full-depth PWM is just above 2000 Hz (2000.06),
+    # and at 2000 Hz itself it fails; four significant digits printed the failing "2000"
+    from openpyxl import load_workbook
+
+    x = tmp_path / "plan.xlsx"
+    assert main(["plan", "-t", "svm<=0.4", "--xlsx", str(x), "-q"]) == 0
+    ws = load_workbook(x)["Plan"]
+    cells = {r[0].value: r[1] for r in ws.iter_rows(min_row=2) if r[0].value}
+    low = cells["Lowest frequency for svm<=0.4 [Hz]"]
+    assert 2000.0 < low.value < 2000.5
+    assert low.number_format == "0.00" and f"{low.value:.2f}" != "2000.00"
+    assert cells["Lowest frequency, exact clock [Hz]"].number_format == "0.00"
+    ts = load_workbook(x)["Timer settings"]
+    assert all(r[3].number_format == "0.00" for r in ts.iter_rows(min_row=2))
+
+
+def test_plan_does_not_name_the_drive_frequency_it_replaces(capsys):
+    # plan sweeps the PWM frequency: its record must not head itself with the drive's
+    # default 1000 Hz beside a recommendation of about 2 kHz (labelling; no external source)
+    assert main(["plan", "-t", "svm<=0.4", "--json", "-q"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert "1000 Hz" not in out["drive"] and "frequency from the plan" in out["drive"]
+    assert main(["plan", "-t", "svm<=0.4", "-q"]) == 0
+    assert "1000 Hz" not in capsys.readouterr().out.splitlines()[0]

@@ -59,7 +59,8 @@ def test_decided_by_is_read_defensively():
 
 @pytest.mark.parametrize("value, shown", [(0.1346622585655061, "0.1347"),
                                           (3.9469056161229443, "3.947"),
-                                          (99.99999980982868, "100.00"),
+                                          (99.99999980982868, "100.0"),  # 4, not 5
+                                          (9.99996, "10.00"), (0.099996, "0.1000"),
                                           (1234.56, "1235"), (20000.0, "20000"),
                                           (1.5e-7, "1.500E-07")])
 def test_display_formats_keep_four_significant_digits(value, shown):
@@ -250,3 +251,102 @@ def test_report_without_a_20_percent_capture_lists_it_missing(demo_record, tmp_p
     assert ja8["status"] == "insufficient data" and reg["status"] == "insufficient data"
     assert data["overall"] == "insufficient data"
     assert "20 %" in data["limiting"]
+
+
+def test_spectrum_picture_draws_the_modulation_that_decided_the_region():
+    # 1234.56 Hz PWM at 40 % duty whose on-level carries 10 % at 17.3 Hz: the light's mean is
+    # 0.4 (1 + 0.1 sin), so its 17.3 Hz component is 10 % of the mean (analytic) and it is what
+    # decides IEEE 1789 (0.025 f = 0.43 % line, IEEE 1789-2015 RP1 as recalled in ieee1789.py).
+    # The spectrum picture must show that component, not only the PWM's harmonics.
+    import numpy as np
+
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+    from flickerkit.export.figures import spectrum_figure
+
+    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="pwm x 17.3 Hz")).to_dict()
+    assert rec["ieee1789"]["frequency_hz"] == pytest.approx(17.3, rel=1e-3)
+    fig = spectrum_figure(rec)
+    points = [(fx, a) for line in fig.axes[0].get_lines()
+              for fx, a in zip(np.atleast_1d(line.get_xdata()), np.atleast_1d(line.get_ydata()))
+              if line.get_marker() not in (None, "None", "")]
+    near = [a for fx, a in points if abs(fx - 17.3) < 0.1]
+    assert near and near[0] == pytest.approx(10.0, rel=0.01)  # analytic: 10 % of the mean
+
+
+def test_limiting_text_reads_and_names_line_ripple():
+    # IEEE 1789 RP2 failing at 100 % on modulation at 100 Hz (twice the 50 Hz line, common
+    # practice, no source): a higher PWM frequency does not touch it, so the suggestion names
+    # the line ripple; the paragraph sits under the heading "What limits the product" and
+    # does not repeat it as a sentence
+    crit = criteria.get(["ieee1789-noel"])
+    v = criteria.Verdict("ieee1789-noel", "a", 100.0, "fail", 4.5, 3.33, -1.17,
+                         "fundamental mode at 99.998 Hz")
+    text = limiting_text(group(crit, [v], [100.0]))
+    assert "What limits the product" not in text
+    assert "ripple" in text and "`" not in text
+    assert "flickerkit plan --target ieee1789-noel" in text
+
+
+def test_workbook_ieee_chart_places_composite_light_where_it_was_judged():
+    # 1234.56 Hz PWM whose on-level carries 10 % at 17.3 Hz: IEEE 1789 is decided at 17.3 Hz,
+    # 10 % (analytic: the envelope is 10 % of the mean; 0.025 f line of IEEE 1789-2015 RP1 as
+    # recalled in ieee1789.py), so the workbook's chart point sits there, as the picture's
+    # does, not at the PWM's 1234.56 Hz and 100 %; the log axis labels 0.01 as 0.01, not 0.0
+    from openpyxl import Workbook
+
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+    from flickerkit.export.report_workbook import _ieee_chart_sheet
+
+    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="pwm x 17.3 Hz")).to_dict()
+    wb = Workbook()
+    _ieee_chart_sheet(wb, [rec])
+    ws = wb["IEEE 1789 chart"]
+    assert ws.cell(2, 6).value == pytest.approx(17.3, rel=1e-3)
+    assert ws.cell(2, 7).value == pytest.approx(10.0, rel=0.01)
+    assert ws._charts[0].y_axis.numFmt.formatCode == "General"
+
+
+def _pwm_with_envelope(depth, fs=200_000.0, duration_s=1.5):
+    """1234.56 Hz PWM at 40 % duty times (1 + depth sin(2 pi 17.3 t)), sampled as interval
+    averages (a detector faithful to the edges): a 0/1 test on sample times would quantise each
+    pulse to whole samples, and 162.0005 samples per period make that a slow duty wobble of
+    about 1 % of the mean below 90 Hz, which the tool rightly measures."""
+    import numpy as np
+
+    f, duty = 1234.56, 0.4
+    n = int(duration_s * fs)
+    p = np.arange(n + 1) / fs * f + 0.0123
+    on = np.floor(p) * duty + np.minimum(p - np.floor(p), duty)  # on-time [periods]
+    t = (np.arange(n) + 0.5) / fs
+    return np.diff(on) * fs / f * (1.0 + depth * np.sin(2 * np.pi * 17.3 * t)), fs
+
+
+def test_ieee_verdict_reason_names_the_fundamental_and_what_decided():
+    # the envelope (17.3 Hz, 10 %) decides against the 0.025 f line (IEEE 1789-2015 RP1 as
+    # recalled in ieee1789.py); the standard's reading is at the PWM's 1234.56 Hz, so the
+    # reason must not say "fundamental mode at 17.3 Hz"
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+
+    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="env")).to_dict()
+    v = criteria.judge(rec, criteria.REGISTRY["ieee1789-low-risk"], level=20.0)
+    assert v.status == "fail"
+    assert "fundamental mode at 17.3 Hz" not in v.reason
+    assert "decided by band below 90 Hz (at 17.3 Hz)" in v.reason
+    assert "fundamental mode at 1234.6 Hz" in v.reason and "low-risk" in v.reason
+
+
+def test_summary_and_chart_headers_do_not_run_together(demo_record):
+    # seen on the printed pages (LibreOffice): the right-aligned margin and the tolerance text
+    # beside it printed as "0.26530.1 (context"; the chart sheet's headers ran into each other
+    from openpyxl import load_workbook
+
+    wb = load_workbook(demo_record / "ardent12_record.xlsx")
+    tol = [c for row in wb["Summary"].iter_rows() for c in row
+           if isinstance(c.value, str) and c.value.endswith("(context, Annex IV)")]
+    assert tol and all(c.alignment.horizontal == "left" and c.alignment.indent >= 1 for c in tol)
+    ws = wb["IEEE 1789 chart"]
+    for col in "FG":
+        assert ws.column_dimensions[col].width >= len(ws[f"{col}1"].value)

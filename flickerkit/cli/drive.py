@@ -115,6 +115,9 @@ def table(out: dict) -> str:
         ["Level [%]", "Light [%]", "Frequency [Hz]", "Percent flicker [%]", "Flicker index",
          "SVM", "IEEE 1789 region", "Low-risk margin [pp]", "Warnings"], rows,
         right=[True] * 8 + [False])
+    from .measure import decided_line
+
+    text += "".join(decided_line(r) for r in out["levels"])
     text += "\nfirst failing level (scanning down from the brightest):\n"
     for name, lv in out["first_failing_level"].items():
         text += f"  {name:<18} {_first_failing_text(out, name, lv, fmt)}\n"

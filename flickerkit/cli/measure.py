@@ -474,17 +474,25 @@ def summary_table(records: list[dict]) -> str:
     return out
 
 
+def decided_line(r: dict) -> str:
+    """A note line when a modulation other than the standard's reading decided IEEE 1789."""
+    ieee = r.get("ieee1789") or {}
+    by = ieee.get("decided_by") or ""
+    if not by.startswith(("component", "band")):
+        return ""
+    lim = ieee.get("low_risk_limit_percent")
+    line = "low-risk line" if lim is not None else "no-observable-effect line"
+    lim = lim if lim is not None else ieee.get("noel_limit_percent")
+    return (f"note: {r['label']}: IEEE 1789 decided by {by}: "
+            f"{ieee['modulation_percent']:.3g} % against the {lim:.3g} % {line} "
+            f"(standard reading: {(ieee.get('fundamental') or {}).get('region', '-')})\n")
+
+
 def _modulation_lines(records: list[dict]) -> str:
     """One line each for what decided IEEE 1789, unrelated modulations and edge figures."""
     out = ""
     for r in records:
-        ieee = r.get("ieee1789") or {}
-        by = ieee.get("decided_by") or ""
-        if by.startswith(("component", "band")):
-            out += (f"note: {r['label']}: IEEE 1789 decided by {by}: "
-                    f"{ieee['modulation_percent']:.3g} % against the "
-                    f"{ieee['low_risk_limit_percent']:.3g} % low-risk line "
-                    f"(standard reading: {(ieee.get('fundamental') or {}).get('region', '-')})\n")
+        out += decided_line(r)
         mod = r.get("modulation") or {}
         if mod.get("unrelated_hz"):
             out += f"note: {r['label']}: {mod['statement']}\n"

@@ -190,6 +190,7 @@ def verdict_table(report) -> str:
                            "decided by"],
                           [["  " + r[0], *r[1:]] for r in rows],
                           right=[False, False, True, True, True, True, True, False, False]))
+    out.append("what limits the product:")
     out.append(_wrap(report.limiting))
     out.append("")
     out.append("every verdict:")

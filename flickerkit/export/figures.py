@@ -142,13 +142,26 @@ def spectrum_figure(record: dict[str, Any], *, threshold: str = "power"):
     fs = np.geomspace(80.0, 2000.0, 200)
     ax.plot(fs, 100 * model.function(fs), color=_COLOURS["svm"], lw=1.2, ls="-.",
             label=f"SVM threshold 100 T(f) ({model.name})")
-    comp = [(h["frequency_hz"], h["amplitude"]) for h in record.get("harmonics") or []
-            if h.get("amplitude") and h.get("frequency_hz")]
+    # every component above the noise (the modulation analysis), so modulation not locked
+    # to the period (an envelope, ripple under PWM) is drawn where it is judged; the
+    # harmonics only when the record has no analysis
+    found = (record.get("modulation") or {}).get("components") or []
+    comp = [(c["frequency_hz"], c["amplitude"], c.get("kind") != "harmonic") for c in found
+            if c.get("amplitude") and c.get("frequency_hz")]
+    if not comp:
+        comp = [(h["frequency_hz"], h["amplitude"], False) for h in record.get("harmonics") or []
+                if h.get("amplitude") and h.get("frequency_hz")]
     if comp:
         fc = np.array([c[0] for c in comp], dtype=float)
         ac = 100 * np.array([c[1] for c in comp], dtype=float)
+        other = np.array([c[2] for c in comp], dtype=bool)
         ax.vlines(fc, 1e-3, ac, color=_COLOURS["data"], lw=1.4)
-        ax.plot(fc, ac, "o", color=_COLOURS["data"], ms=3, label="components / mean")
+        if (~other).any():
+            ax.plot(fc[~other], ac[~other], "o", color=_COLOURS["data"], ms=3,
+                    label="harmonics of the period / mean")
+        if other.any():
+            ax.plot(fc[other], ac[other], "s", color=_COLOURS["low"], ms=4,
+                    label="other modulation / mean")
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_xlim(1, 10_000)

@@ -104,6 +104,10 @@ def write_sweep_workbook(path: str | Path, out: dict[str, Any], *, force: bool =
     return write_with(path, lambda tmp: wb.save(tmp), force=force)
 
 
+#: Display format of PWM frequencies in the plan workbook [Hz]: 0.01 Hz.
+FREQUENCY_FORMAT = "0.00"
+
+
 def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = False,
                         pictures: Sequence[Any] | None = None) -> Path:
     """Write the ``plan`` result as a workbook, atomically."""
@@ -127,6 +131,10 @@ def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = 
     last = write_rows(ws, ["Item", "Value"], rows, widths=[40, 60])
     for row in ws.iter_rows(min_row=2):
         row[1].alignment = wrap
+        # frequencies to 0.01 Hz: a line end (SVM's 2 kHz, IEEE 1789's 3 kHz) is met only
+        # just above it, and 4 significant digits would print the failing 2000 for 2000.06
+        if str(row[0].value).endswith("[Hz]") and isinstance(row[1].value, float):
+            row[1].number_format = FREQUENCY_FORMAT
     fit_rows(ws)
     _notes(ws, last + 2, [CAUTION, "Modelled light: verify the chosen setting by measuring "
                                    "the product."], 2)
@@ -140,6 +148,8 @@ def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = 
                widths=[8, 9, 8, 12, 10, 7, 10, 10, 10, 9, 30])
     for c in ts[1]:
         c.alignment = wrap
+    for row in ts.iter_rows(min_row=2, min_col=4, max_col=4):
+        row[0].number_format = FREQUENCY_FORMAT
     fit_rows(ts)
     ab = wb.create_sheet("Abrupt changes")
     write_rows(ab, ["PWM frequency [Hz]", "Target", "Cause", "Worst just below", "Worst at",
@@ -150,6 +160,8 @@ def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = 
     for row in ab.iter_rows(min_row=1):
         for c in row:
             c.alignment = wrap
+    for row in ab.iter_rows(min_row=2, max_col=1):
+        row[0].number_format = FREQUENCY_FORMAT
     fit_rows(ab)
     os_ = wb.create_sheet("Options")
     write_rows(os_, ["Option", "Cost"], [[o["option"], o["cost"]] for o in out["options"]],
@@ -181,8 +193,20 @@ def sweep_pictures(out: dict[str, Any]) -> list[Any]:
             for r in out["levels"]]
     return [render(ieee_figure(recs, "IEEE 1789-2015 chart (modelled)"), "ieee1789_chart",
                    "Pictures", "IEEE 1789 chart of the modelled levels"),
-            render(levels_figure(recs, []), "metrics_by_level", "Pictures",
+            render(levels_figure(recs, sweep_limits()), "metrics_by_level", "Pictures",
                    "metrics against dimming level (modelled)")]
+
+
+def sweep_limits() -> list[tuple[str, float, str]]:
+    """Limit lines of the sweep's threshold criteria (``svm<=0.9``...), as the sweep judges them."""
+    from ..sweep import CRITERIA
+
+    out = []
+    for name, _ in CRITERIA:
+        metric, _, lim = name.partition("<=")
+        if lim:
+            out.append((metric, float(lim), name))
+    return out
 
 
 def plan_pictures(out: dict[str, Any]) -> list[Any]:

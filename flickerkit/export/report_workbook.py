@@ -159,7 +159,10 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
                     ", ".join(f"{x:g}" for x in o.missing_levels) or None, o.decided_by]
             for j, v in enumerate(vals, start=1):
                 c = put(ws, r, j, v)
-                c.alignment = wrap
+                # text after a right-aligned number starts one indent in (the margin and
+                # the tolerance printed as one "0.26530.1")
+                c.alignment = wrap if j != 8 else Alignment(
+                    wrap_text=True, vertical="top", horizontal="left", indent=1)
             _style_status(ws.cell(row=r, column=2), o.status)
     r += 2
     put(ws, r, 1, "What limits the product").font = Font(bold=True, size=12)
@@ -254,7 +257,7 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
         cell.alignment = wrap
     fit_rows(hs)
 
-    anchors: dict[str, str | None] = {}
+    anchors = {}
     anchors["ieee1789_chart"] = _ieee_chart_sheet(wb, report.records)
     anchors["metrics_by_level"] = _level_sheet(wb, report.records)
     if report.steps is not None:
@@ -351,11 +354,19 @@ def _ieee_chart_sheet(wb, records) -> str:
                ([float(a), float(b), float(c)] for a, b, c in zip(f, lr, noel)),
                widths=[14, 20, 20])
     n = f.size
-    pts = [(rec.get("frequency_hz"), rec.get("percent_flicker"), rec["label"])
-           for rec in records if rec.get("frequency_hz") and rec.get("percent_flicker")]
+    # each capture where IEEE 1789 judged it (the headline: a composite light's envelope or
+    # ripple when that decided, else the fundamental and its percent flicker)
+    pts = []
+    for rec in records:
+        ieee = rec.get("ieee1789") or {}
+        fx, m = ieee.get("frequency_hz"), ieee.get("modulation_percent")
+        if not (fx and m):
+            fx, m = rec.get("frequency_hz"), rec.get("percent_flicker")
+        if fx and m:
+            pts.append((fx, m, rec["label"]))
     put(ws, 1, 5, "Capture")
-    put(ws, 1, 6, "Frequency [Hz]")
-    put(ws, 1, 7, "Percent flicker [%]")
+    put(ws, 1, 6, "Frequency judged [Hz]")
+    put(ws, 1, 7, "Modulation judged [%]")
     for i, (fx, pf, label) in enumerate(pts, start=2):
         put(ws, i, 5, label)
         put(ws, i, 6, float(fx))
@@ -370,6 +381,8 @@ def _ieee_chart_sheet(wb, records) -> str:
     ch.y_axis.scaling.logBase = 10
     ch.x_axis.scaling.min, ch.x_axis.scaling.max = 1, 10_000
     ch.y_axis.scaling.min, ch.y_axis.scaling.max = 0.01, 200
+    ch.y_axis.number_format = "General"  # a log axis from 0.01: "0.0" printed 0.01 as 0.0
+    ch.x_axis.number_format = "General"
     ch.x_axis.delete = False
     ch.y_axis.delete = False
     ch.legend.position = "b"
@@ -404,8 +417,8 @@ def _ieee_chart_sheet(wb, records) -> str:
     # printed: the points, the labelled picture and the chart; the boundary table (the
     # chart's data, columns A-C) stays in the workbook but off the printed pages
     ws.print_area = f"E1:L{top + 46}"
-    for letter, w in (("D", 3), ("E", 24), ("F", 14), ("G", 16)):
-        ws.column_dimensions[letter].width = w
+    for col, w in (("D", 3), ("E", 24), ("F", 22), ("G", 22)):  # headers on one line
+        ws.column_dimensions[col].width = w
     return f"E{top}"
 
 

@@ -50,6 +50,9 @@ def sig_format(value: float, digits: int = SIGNIFICANT_DIGITS) -> str:
         return "0." + "0" * (digits - 1) + "E+00"
     if float(value).is_integer():
         return "0"
+    # the magnitude after rounding: 99.99998 shows as 100.0, not 100.00
+    rounded = float(f"{value:.{digits}g}")
+    mag = math.floor(math.log10(abs(rounded)))
     decimals = max(0, digits - 1 - mag)
     return "0" if decimals == 0 else "0." + "0" * decimals
 
@@ -178,7 +181,7 @@ def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0, max_row: int | None = 
             for cell in row:  # one baseline for the whole row
                 al = cell.alignment
                 cell.alignment = Alignment(wrap_text=al.wrap_text, horizontal=al.horizontal,
-                                           vertical="top")
+                                           vertical="top", indent=al.indent)
 
 
 def _hf(text: str, limit: int = 40) -> str:
