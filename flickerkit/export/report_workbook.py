@@ -257,7 +257,7 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
         cell.alignment = wrap
     fit_rows(hs)
 
-    anchors = {}
+    anchors: dict[str, str | None] = {}
     anchors["ieee1789_chart"] = _ieee_chart_sheet(wb, report.records)
     anchors["metrics_by_level"] = _level_sheet(wb, report.records)
     if report.steps is not None:
@@ -417,8 +417,8 @@ def _ieee_chart_sheet(wb, records) -> str:
     # printed: the points, the labelled picture and the chart; the boundary table (the
     # chart's data, columns A-C) stays in the workbook but off the printed pages
     ws.print_area = f"E1:L{top + 46}"
-    for col, w in (("D", 3), ("E", 24), ("F", 22), ("G", 22)):  # headers on one line
-        ws.column_dimensions[col].width = w
+    for letter, w in (("D", 3), ("E", 24), ("F", 22), ("G", 22)):  # headers on one line
+        ws.column_dimensions[letter].width = w
     return f"E{top}"
 
 
