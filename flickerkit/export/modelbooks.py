@@ -94,14 +94,9 @@ def write_sweep_workbook(path: str | Path, out: dict[str, Any], *, force: bool =
     write_rows(ss, ["Setting", "Value"], [["flickerkit version", __version__],
                                           ["command", "drive"], ["drive", out["drive"]]],
                widths=[30, 60])
-    for row in ss.iter_rows(min_row=2):
-        row[1].alignment = wrap
-    fit_rows(ss)
-    if pictures:
-        add_pictures(wb, pictures)
-    set_properties(wb, "flickerkit dimming sweep", "Modelled temporal light modulation per level")
-    print_setup(wb, product=str(out.get("drive", "")), document="Dimming sweep (modelled light)")
-    return write_with(path, lambda tmp: wb.save(tmp), force=force)
+    return _finish(wb, ss, out, path, force, pictures, ("flickerkit dimming sweep",
+                   "Modelled temporal light modulation per level",
+                   "Dimming sweep (modelled light)"))
 
 
 #: Display format of PWM frequencies in the plan workbook [Hz]: 0.01 Hz.
@@ -175,13 +170,25 @@ def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = 
                [["flickerkit version", __version__], ["command", "plan"],
                 ["range [Hz]", f"{out['range_hz'][0]:g}..{out['range_hz'][1]:g}"],
                 ["timer", str(out["timer"])]], widths=[30, 60])
-    for row in ss.iter_rows(min_row=2):
+    return _finish(wb, ss, out, path, force, pictures, ("flickerkit frequency plan",
+                   "PWM frequency and timer plan", "PWM frequency plan"))
+
+
+def _finish(wb, settings_sheet, out: dict[str, Any], path: str | Path, force: bool,
+            pictures: Sequence[Any] | None, titles: tuple[str, str, str]) -> Path:
+    """Wrap the settings sheet, add the pictures, set properties and page set-up, and write
+    the workbook atomically; ``titles`` are (title, subject, printed document name)."""
+    from openpyxl.styles import Alignment
+
+    wrap = Alignment(wrap_text=True, vertical="top")
+    for row in settings_sheet.iter_rows(min_row=2):
         row[1].alignment = wrap
-    fit_rows(ss)
+    fit_rows(settings_sheet)
     if pictures:
         add_pictures(wb, pictures)
-    set_properties(wb, "flickerkit frequency plan", "PWM frequency and timer plan")
-    print_setup(wb, product=str(out.get("drive", "")), document="PWM frequency plan")
+    title, subject, document = titles
+    set_properties(wb, title, subject)
+    print_setup(wb, product=str(out.get("drive", "")), document=document)
     return write_with(path, lambda tmp: wb.save(tmp), force=force)
 
 
