@@ -34,7 +34,7 @@ MIN_SAMPLES = 16
 #: Fewest whole periods for stable figures (common practice, no source).
 MIN_PERIODS = 2
 #: Fewest samples per period for time-domain percent flicker and flicker
-#: index (methods brief §6.2: duty quantisation errors below this).
+#: index (chosen here; computed here: duty quantisation errors below this).
 MIN_SAMPLES_PER_PERIOD = 10
 #: A percent flicker below this many times the noise floor is called noise-limited.
 NOISE_MARGIN = 3.0
@@ -812,8 +812,8 @@ def assess_voltage(capture: Capture, settings: AssessSettings | None = None) -> 
 
     References
     ----------
-    IEC 61000-4-15:2010 (flickermeter; constants as recalled in the methods
-    brief section 4.2).
+    IEC 61000-4-15:2010 (flickermeter; constants from memory, not read in the
+    standard).
     """
     settings = settings or AssessSettings()
     x = capture.samples  # an array or a streamed signal: read in slices only

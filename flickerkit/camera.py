@@ -21,8 +21,8 @@ and ripple are included; for ideal PWM of duty D it equals the closed form
 
 References
 ----------
-Derivations and check table in the project's methods brief
-``perception-and-dimming.md`` §5 (camera banding).
+No published method: the closed form above and its check table are derived
+here (computed here; no source for the closed form).
 """
 
 from __future__ import annotations

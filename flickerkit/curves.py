@@ -17,8 +17,9 @@ method        law (v -> Y)                                    default range
 ``user``      monotone PCHIP through points from a CSV        the points' range
 ============  ==============================================  ==================
 
-Which of these looks even to people depends on the viewing conditions (the
-methods brief, sections 1 and 8); the curve is a choice, not a settled fact.
+Which of these looks even to people depends on the viewing conditions (no
+published source found tests them on dimmed LEDs); the curve is a choice, not a
+settled fact.
 """
 
 from __future__ import annotations
@@ -35,7 +36,8 @@ from .errors import InputError, SettingsError
 #: IEC 62386-102 arc power levels: 1 (0.1 %) to 254 (100 %); 0 is off.
 IEC62386_LEVELS = 254
 
-#: Default exponent of the power-law curve (display-like gamma, brief §1.3).
+#: Default exponent of the power-law curve (display-like gamma; common practice,
+#: no source).
 DEFAULT_GAMMA = 2.2
 
 #: CIE 15:2004 constants of L*: epsilon = (6/29)^3 and kappa = (29/3)^3 (exact rationals).
@@ -155,8 +157,8 @@ def iec62386_level_light(level: np.ndarray | int) -> np.ndarray:
 
     References
     ----------
-    IEC 62386-102, standard dimming curve (formula as reproduced in the
-    project's methods brief §1.4; the standard's text was not read).
+    IEC 62386-102, standard dimming curve (formula as read in public code and
+    published level tables, which agree; the standard's text was not read).
 
     Examples
     --------
@@ -219,7 +221,8 @@ def gamma_curve(gamma: float = DEFAULT_GAMMA) -> Curve:
     ----------
     gamma : float
         Exponent, > 0 [unitless]. 2.2 is display-like, 2 the lighting
-        "square law", 3 the inverse of a cube-root brightness law (brief §1.3).
+        "square law", 3 the inverse of a cube-root brightness law (Stevens'
+        exponent 0.33, from memory; common practice, no source).
     """
     g = float(gamma)
     if not np.isfinite(g) or g <= 0:

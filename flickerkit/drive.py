@@ -1256,7 +1256,7 @@ class DitheredPwm(LightModel):
     -----
     For a mean count N + 1/P the light carries components at f_pwm / P and its
     harmonics, of amplitude about (2/P) / (N + 1/P) relative to the mean
-    (perception-and-dimming brief §4); their depth is largest at the dimmest
+    (computed here, by simulation); their depth is largest at the dimmest
     levels.
     """
 

@@ -25,9 +25,9 @@ working rate the digital magnitude response follows the analogue one within
 0.1 % from 0.05 to 30 Hz and within 0.7 % to 45 Hz (tested).
 
 The constants of blocks 3c-4 are a :class:`Calibration`. The voltage ones
-(230 V and 120 V lamps) are the IEC 61000-4-15 values as recalled in the
-project's methods brief and cross-checked there against the standard's
-verification tables; the tests reproduce those tables. The light calibration
+(230 V and 120 V lamps) are the IEC 61000-4-15:2010 values from memory, not
+read in the standard, cross-checked here against the standard's verification
+tables (also from memory); the tests reproduce those tables. The light calibration
 of IEC TR 61547-1 (Pst LM) was **not available**: the default light calibration
 is provisional (see :data:`LIGHT_PROVISIONAL_230V`), and a laboratory holding
 the standard can load its own with :func:`load_calibration`. Every result names
@@ -41,7 +41,8 @@ References
 ----------
 IEC 61000-4-15:2010+A1:2012, "Testing and measurement techniques --
 Flickermeter -- Functional and design specifications" (blocks, weighting
-filter, statistics; constants as recalled in the methods brief section 4.2 [M->C]).
+filter, statistics; constants from memory, not read in the standard, cross-checked
+here against its verification tables, also from memory).
 IEC TR 61547-1:2020, "Equipment for general lighting purposes -- EMC immunity
 requirements -- Part 1: An objective light flickermeter and voltage fluctuation
 immunity test method" (light flickermeter; its constants not used here).
@@ -70,7 +71,7 @@ WORKING_RATE_MIN_HZ = 2000.0
 MIN_SAMPLE_RATE_HZ = 1000.0
 
 #: Time constant of the tracked mean the input is normalised to [s]
-#: (IEC 61000-4-15 input adaptor, about 1 min [M]).
+#: (IEC 61000-4-15 input adaptor, about 1 min; from memory, not read in the standard).
 MEAN_TRACKING_S = 60.0
 
 #: Length of the start used to seed the tracked mean [s].
@@ -161,8 +162,9 @@ class Calibration:
 
     References
     ----------
-    IEC 61000-4-15:2010, weighting filter and scaling (methods brief
-    section 4.2, [M->C]).
+    IEC 61000-4-15:2010, weighting filter and scaling (from memory, not read
+    in the standard; cross-checked here against its verification tables, also
+    from memory).
     """
 
     name: str
@@ -707,8 +709,9 @@ def pst_from_pinst(pinst: np.ndarray) -> tuple[float, dict]:
 
     References
     ----------
-    IEC 61000-4-15:2010, statistical evaluation (as recalled in the methods
-    brief section 4.2, [M->C]).
+    IEC 61000-4-15:2010, statistical evaluation (from memory, not read in the
+    standard; cross-checked here against its verification tables, also from
+    memory).
     """
     x = np.asarray(pinst, dtype=np.float64)
     if x.size == 0:
@@ -1066,7 +1069,7 @@ def pst_voltage(
 
     References
     ----------
-    IEC 61000-4-15:2010 (constants as recalled in the methods brief section 4.2).
+    IEC 61000-4-15:2010 (constants from memory, not read in the standard).
     """
     try:
         name = LAMPS[lamp]

@@ -1,9 +1,8 @@
 """IEEE Std 1789-2015 recommended-practice boundaries for modulation and frequency.
 
-Boundaries (Recommended Practices 1 and 2 of clause 8), as recalled in the
-project's methods brief ``flicker-metrics.md`` §2.2 -- *from memory, not read
-in the standard*; they are internally consistent (each line reaches 100 %
-modulation exactly at its upper breakpoint):
+Boundaries (Recommended Practices 1 and 2 of clause 8) -- *from memory, not
+read in the standard*; they are internally consistent (computed here: each line
+reaches 100 % modulation exactly at its upper breakpoint):
 
 =======================  ===============  ========================  =============
 region                   below 90 Hz      90 Hz <= f <= upper        above upper
@@ -40,7 +39,8 @@ import numpy as np
 #: Regions, best first.
 REGIONS = ("no-observable-effect", "low-risk", "above-low-risk")
 
-#: Breakpoints and slopes [Hz], [percent per Hz] (methods brief §2.2, [M]).
+#: Breakpoints and slopes [Hz], [percent per Hz] (IEEE Std 1789-2015 clause 8;
+#: from memory, not read in the standard).
 LOW_FREQUENCY_BREAK_HZ = 90.0
 LOW_RISK_SLOPES = (0.025, 0.08)
 LOW_RISK_EXEMPT_ABOVE_HZ = 1250.0
@@ -102,8 +102,8 @@ def low_risk_limit_percent(f_hz):
 
     References
     ----------
-    IEEE Std 1789-2015, clause 8, Recommended Practice 1 (as recalled in the
-    methods brief §2.2; not read in the standard).
+    IEEE Std 1789-2015, clause 8, Recommended Practice 1 (from memory, not
+    read in the standard).
 
     Examples
     --------
@@ -128,8 +128,8 @@ def noel_limit_percent(f_hz):
 
     References
     ----------
-    IEEE Std 1789-2015, clause 8, Recommended Practice 2 (as recalled in the
-    methods brief §2.2; not read in the standard).
+    IEEE Std 1789-2015, clause 8, Recommended Practice 2 (from memory, not
+    read in the standard).
     """
     return _limit(f_hz, NOEL_SLOPES, NOEL_EXEMPT_ABOVE_HZ)
 
@@ -320,8 +320,8 @@ def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray, *,
 
     Notes
     -----
-    A project extension, not a reading of IEEE 1789 (the methods brief §2.4
-    found no per-harmonic rule in the standard). It is less strict than the
+    A project extension chosen here, not a reading of IEEE Std 1789-2015 (no
+    per-harmonic rule in it is known here; from memory, low confidence). It is less strict than the
     fundamental mode for harmonic-rich waveforms: overall Mod% can exceed
     every single ``Mod%_k``.
     """

@@ -34,7 +34,8 @@ DEFAULT_RANGE_HZ = (10.0, 50_000.0)
 GRID_POINTS = 160
 #: Relative precision of the lowest frequency after bisection.
 FREQUENCY_RTOL = 1e-4
-#: Highest Fourier component the SVM sum uses [Hz] (methods brief §3.3).
+#: Highest Fourier component the SVM sum uses [Hz] (CIE TN 006:2016; from
+#: memory, not read in the standard; see :data:`flickerkit.svm.DEFAULT_F_MAX_HZ`).
 SVM_F_MAX_HZ = 2000.0
 
 #: Default frequency tolerance of the PWM clock, as a fraction [unitless]: a

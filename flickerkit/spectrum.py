@@ -2,8 +2,8 @@
 
 Components are taken over an integer number of fundamental periods with a
 rectangular window, so each harmonic falls on one bin and there is no leakage
-(a window that is a quarter period off biases SVM by -10 % to -23 %, see the
-methods brief). Captures without a clean period get a Hann-windowed spectrum,
+(a window that is a quarter period off biases SVM by -10 % to -23 %, computed
+here). Captures without a clean period get a Hann-windowed spectrum,
 flagged as such.
 """
 
@@ -241,8 +241,8 @@ def modulation_spectrum(
     References
     ----------
     CIE TN 006:2016 and IEC TR 63158:2018, definition of the Fourier
-    component amplitudes relative to the DC level (as summarised in the
-    project's methods brief, section 3.1).
+    component amplitudes relative to the DC level (as read in a secondary
+    summary, not in the documents themselves).
     """
     from numpy import fft
 

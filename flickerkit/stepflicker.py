@@ -28,7 +28,8 @@ from . import cautions
 from .errors import SettingsError
 
 #: Highest component frequency kept in the per-step Fourier series [Hz]
-#: (the stroboscopic range that SVM covers ends at 2 kHz; flicker-metrics brief).
+#: (the stroboscopic range that CIE TN 006:2016 SVM covers ends at 2 kHz; from
+#: memory, not read in the standard; see :data:`flickerkit.svm.DEFAULT_F_MAX_HZ`).
 DEFAULT_F_MAX_HZ = 2000.0
 
 #: Region a table is asked to stay in, by default.
@@ -65,8 +66,8 @@ def pwm_series(duty: np.ndarray, frequency_hz: float,
 
     References
     ----------
-    CIE TN 006:2016, Fourier components relative to the DC level (as used in
-    the project's flicker-metrics brief); the series itself is analytic.
+    CIE TN 006:2016, Fourier components relative to the DC level (as read in a
+    secondary summary, not in the note itself); the series itself is analytic.
     """
     f = float(frequency_hz)
     if not np.isfinite(f) or f <= 0:
@@ -232,8 +233,9 @@ def step_flicker(
     References
     ----------
     IES Lighting Handbook definitions of percent flicker and flicker index
-    (as in the flicker-metrics brief §1); IEEE Std 1789-2015 clause 8
-    (boundaries as recalled, see :mod:`flickerkit.ieee1789`).
+    (as read in the IES online definitions, not the handbook itself);
+    IEEE Std 1789-2015 clause 8 (boundaries from memory, not read in the
+    standard, see :mod:`flickerkit.ieee1789`).
     """
     from .ieee1789 import region_of
     from .svm import svm_from_components

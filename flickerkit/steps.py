@@ -12,8 +12,8 @@ A table is built in three moves:
    previous level in L* and as a Weber ratio, and whether that step is above a
    visibility threshold.
 
-Duty is ``count / TOP`` throughout (the methods brief §3 and §7 convention:
-full scale ``2^n - 1`` is 100 %). Timers whose duty is ``CMP / (TOP + 1)``
+Duty is ``count / TOP`` throughout (a convention chosen here: full scale
+``2^n - 1`` is 100 %). Timers whose duty is ``CMP / (TOP + 1)``
 differ by one count at the top.
 """
 
@@ -30,10 +30,10 @@ from .errors import InputError, SettingsError
 
 #: Default visibility threshold for one step [Delta L*]: the CIE 1976 "just
 #: noticeable difference" Delta E*ab = 2.3 of Mahy et al. (1994), as recorded in
-#: colour-science's ``colour.difference.JND_CIE1976`` (methods brief §2). It was
+#: colour-science's ``colour.difference.JND_CIE1976`` (as read there). It was
 #: measured on object colours seen side by side; an abrupt step of a whole
 #: luminaire during a fade is easier to see, so a stricter figure (the folk
-#: Delta L* = 1, which the brief calls unempirical) may suit a design review.
+#: Delta L* = 1, called unempirical in Delta E glossaries) may suit a design review.
 DEFAULT_VISIBLE_STEP = 2.3
 
 #: Where the default visibility threshold comes from (reported with the table).

@@ -38,13 +38,14 @@ MINKOWSKI_EXPONENT = 3.7
 
 #: Highest component frequency in the sum [Hz]. The stroboscopic effect is
 #: stated for about 80 Hz to 2 kHz; components above 2 kHz are excluded
-#: (methods brief section 3.3, [M] moderate). A component exactly at 2 kHz counts.
+#: (from memory, moderate confidence, not read in CIE TN 006:2016 or
+#: IEC TR 63158:2018). A component exactly at 2 kHz counts.
 DEFAULT_F_MAX_HZ = 2000.0
 
 #: Lowest component frequency in the sum [Hz]. The published formula sums all
 #: components, but the threshold function was fitted from about 80 Hz and
 #: modulation below 80 Hz is the domain of Pst LM; 80 Hz is this project's
-#: choice (methods brief section 3.3 leaves the lower bound open). It also
+#: choice (no source read here fixes the lower bound). It also
 #: keeps the near-DC leakage of a windowed spectrum out of the sum.
 DEFAULT_F_MIN_HZ = 80.0
 
@@ -121,7 +122,8 @@ def threshold_power(frequency_hz: np.ndarray) -> np.ndarray:
     References
     ----------
     M. Perz et al., J. Opt. Soc. Am. A 35(2), 309 (2018), as used for
-    IEC TR 63158:2018 (methods brief section 3.2 (A), [S]).
+    IEC TR 63158:2018 (form as read in a secondary text quoting it, consistent
+    with the paper's abstract; not read in the standard).
     """
     f = np.asarray(frequency_hz, dtype=np.float64)
     return 2.865e-5 * f**1.543 + 0.225
@@ -150,7 +152,8 @@ def threshold_sigmoid(frequency_hz: np.ndarray) -> np.ndarray:
 
     References
     ----------
-    Associated from memory with CIE TN 006:2016 (methods brief section 3.2 (B), [M]).
+    Associated from memory with CIE TN 006:2016 (form and constants from memory,
+    not read in any source).
     """
     f = np.asarray(frequency_hz, dtype=np.float64)
     return 1.0 / (1.0 + np.exp(-0.00518 * (f - 306.6))) + 20.4 * np.exp(-0.1 * f)
@@ -267,8 +270,8 @@ def svm_from_components(
 
     References
     ----------
-    CIE TN 006:2016; IEC TR 63158:2018 + COR1:2018, Annex A (formula as
-    summarised in the methods brief section 3.1, [S]).
+    CIE TN 006:2016; IEC TR 63158:2018 + COR1:2018, Annex A (formula as read
+    in a secondary summary, not in the documents themselves).
 
     Examples
     --------

@@ -16,9 +16,9 @@ them as parameters and states its convention.
 
 References
 ----------
-Timer relations as collected in the project's methods brief
-``perception-and-dimming.md`` §3 (from timer manuals; the centre-aligned
-relation is marked there as recalled).
+Timer relations of general counter/compare timers as microcontroller timer
+manuals give them (the edge-aligned relation as read in a timer datasheet
+quoted second-hand; the centre-aligned relation from memory).
 """
 
 from __future__ import annotations
@@ -105,7 +105,7 @@ def counts_needed(min_level: float, max_relative_step: float) -> int:
     Returns
     -------
     int
-        ``ceil(1 / (w Y_min))`` [counts] (perception-and-dimming brief §3).
+        ``ceil(1 / (w Y_min))`` [counts] (computed here).
     """
     if not (0 < min_level <= 1):
         raise SettingsError(f"smallest level must be in (0, 1], got {min_level:g}")
@@ -129,7 +129,8 @@ def minimum_duty(frequency_hz: float, *, turn_on_delay_s: float = 0.0, rise_s: f
     References
     ----------
     Driver application-note definition D_min = (t_D + t_SU) f_PWM, contrast
-    ratio 1/D_min, as given in the perception-and-dimming brief §3.
+    ratio 1/D_min, as driver application notes commonly define it (as read
+    in a secondary Q&A, no standard).
     """
     return (turn_on_delay_s + max(rise_s, min_on_time_s)) * frequency_hz
 
