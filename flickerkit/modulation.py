@@ -303,7 +303,27 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     # local maxima above the threshold, block by block
     cand_k: list[np.ndarray] = []
     cand_a: list[np.ndarray] = []
-    for lo in range(first, K - 1, _BLOCK):
+    if spectrum.window != "hann" and K > 2 * _BLOCK:
+        # screen with the rectangular amplitudes first: |c_k - (c_{k-1} + c_{k+1})/2| is at
+        # most |c_k| + (|c_{k-1}| + |c_{k+1}|)/2, so a bin whose bound is below the threshold
+        # cannot be a component; the windowed amplitude is formed only near the rest
+        r = np.asarray(spectrum.amplitudes, dtype=np.float64)
+        kk0 = np.arange(0)
+        for lo in range(first, K - 1, _BLOCK):
+            hi = min(lo + _BLOCK, K - 1)
+            seg = r[lo - 1: hi + 1]
+            bound = seg[1:-1] + 0.5 * (seg[:-2] + seg[2:])
+            if hi == K - 1:
+                bound[-1] = np.inf  # the Nyquist bin's amplitude is halved: always look
+            kk0 = np.concatenate((kk0, np.flatnonzero(bound > threshold) + lo))
+        if kk0.size:
+            a0 = hann_amplitudes_at(spectrum, kk0)
+            am = hann_amplitudes_at(spectrum, kk0 - 1)
+            ap = hann_amplitudes_at(spectrum, kk0 + 1)
+            is_peak = (a0 > am) & (a0 >= ap) & (a0 > threshold)
+            cand_k, cand_a = [kk0[is_peak]], [a0[is_peak]]
+    for lo in (range(first, K - 1, _BLOCK) if spectrum.window == "hann" or K <= 2 * _BLOCK
+               else ()):
         hi = min(lo + _BLOCK, K - 1)
         a = hann_amplitudes(spectrum, lo - 1, hi + 1)
         mid = a[1:-1]
