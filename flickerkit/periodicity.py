@@ -67,8 +67,10 @@ class Periodicity:
     reason: str = ""
 
 
-def _autocorrelation(x0: np.ndarray, max_lag: int) -> np.ndarray:
-    """Unbiased normalised autocorrelation for lags 0..max_lag (r[0] = 1)."""
+def _autocorrelation(x0: np.ndarray, max_lag: int) -> tuple[np.ndarray, np.ndarray, int]:
+    """Unbiased normalised autocorrelation for lags 0..max_lag (r[0] = 1), the power
+    spectrum it came from, and that spectrum's transform length (at least twice the
+    signal's, zero-padded)."""
     from numpy import fft
 
     from .fftlength import next_fast_len
@@ -76,9 +78,10 @@ def _autocorrelation(x0: np.ndarray, max_lag: int) -> np.ndarray:
     n = x0.shape[0]
     nfft = next_fast_len(2 * n)
     spec = fft.rfft(x0, nfft)
-    r = fft.irfft(spec.real**2 + spec.imag**2, nfft)[: max_lag + 1]
+    power = spec.real**2 + spec.imag**2
+    r = fft.irfft(power, nfft)[: max_lag + 1]
     r /= n - np.arange(max_lag + 1)
-    return r / r[0]
+    return r / r[0], power, nfft
 
 
 #: A candidate period holds the strongest component this close to a whole number of
@@ -86,19 +89,17 @@ def _autocorrelation(x0: np.ndarray, max_lag: int) -> np.ndarray:
 _HARMONIC_TOL = 0.005
 
 
-def _strongest_frequency(seg: np.ndarray, max_lag: int) -> float | None:
-    """Frequency of the strongest component of ``seg`` [cycles per sample], among those whose
-    period fits in ``max_lag`` samples; None when the segment is too short."""
-    n = seg.size
-    if n < 8:
+def _strongest_frequency(power: np.ndarray, nfft: int, max_lag: int) -> float | None:
+    """Frequency of the strongest component [cycles per sample], from the zero-padded power
+    spectrum of the autocorrelation, among those whose period fits in ``max_lag`` samples;
+    None when the spectrum is too short."""
+    k_min = max(1, int(np.ceil(nfft / max_lag)))
+    if power.size < 8 or k_min >= power.size:
         return None
-    spec = np.abs(np.fft.rfft(seg - seg.mean()))
-    k_min = max(1, int(np.ceil(n / max_lag)))
-    if k_min >= spec.size:
-        return None
-    k = k_min + int(np.argmax(spec[k_min:]))
-    frac = _parabolic_peak(spec[k - 1], spec[k], spec[k + 1]) if 0 < k < spec.size - 1 else 0.0
-    return (k + frac) / n
+    mag = np.sqrt(power)
+    k = k_min + int(np.argmax(mag[k_min:]))
+    frac = _parabolic_peak(mag[k - 1], mag[k], mag[k + 1]) if 0 < k < mag.size - 1 else 0.0
+    return (k + frac) / nfft
 
 
 def _parabolic_peak(y_minus: float, y0: float, y_plus: float) -> float:
@@ -179,7 +180,7 @@ def fundamental_frequency(
         return Periodicity(None, None, 0, 0.0, "the signal is constant")
     seg = seg / scale  # the autocorrelation is scale-free; this keeps its squares finite
     max_lag = n // 2
-    r = _autocorrelation(seg, max_lag)
+    r, power, nfft = _autocorrelation(seg, max_lag)
     rs = np.empty_like(r)
     rs[1:-1] = (r[:-2] + r[1:-1] + r[2:]) / 3.0
     rs[0] = r[0]
@@ -206,7 +207,7 @@ def fundamental_frequency(
     # the period holds the strongest spectral component a whole number of times: a first
     # peak that does not is a near-coincidence of two modulations (100 Hz ripple on 1 kHz:
     # 9 ms, where the 1 kHz is in phase and the 100 Hz nearly so), not the period
-    f_strong = _strongest_frequency(seg, max_lag)
+    f_strong = _strongest_frequency(power, nfft, max_lag)
     unrelated = False
     if f_strong is not None:
         # error of h: the strongest frequency to a quarter bin, the lag to two samples

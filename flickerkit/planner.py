@@ -160,9 +160,25 @@ def svm_of_series(fs) -> float:
                                          f_max_hz=SVM_F_MAX_HZ))
 
 
-def _with_unrelated(light, f0: float, res):
+def with_unrelated_modulation(light, f0: float, res):
     """The IEEE 1789 reading, or worse: the other modulation (PWM or ripple) at its own
-    frequency when it is not a harmonic of ``f0`` (as ``assess`` judges a capture)."""
+    frequency when it is not a harmonic of ``f0`` (as ``assess`` judges a capture).
+
+    Parameters
+    ----------
+    light : flickerkit.drive.Light
+        The modelled light.
+    f0 : float
+        Frequency the reading was taken at: the light's strongest modulation [Hz].
+    res : flickerkit.ieee1789.Ieee1789Result
+        The standard's reading (fundamental or per-harmonic mode).
+
+    Returns
+    -------
+    flickerkit.ieee1789.Ieee1789Result
+        ``res``, or the other modulation's reading when that is worse
+        (:func:`flickerkit.ieee1789.judge_modulation`).
+    """
     fb, amp_b = light.base_frequency_hz, light.base_amplitude
     fr = light.ripple.frequency_hz if light.ripple and light.ripple.percent > 0 else None
     other = [(f, a) for f, a in ((fb, amp_b), (fr, light.ripple_amplitude))
@@ -192,7 +208,7 @@ def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = 
     f0 = light.dominant_hz
     fs = light.fourier_series(SVM_F_MAX_HZ if need_svm else 0.0)
     pf = light.modulation_percent()
-    res = _with_unrelated(light, f0, ieee1789.classify(f0, pf)) if f0 else None
+    res = with_unrelated_modulation(light, f0, ieee1789.classify(f0, pf)) if f0 else None
     sv = svm_of_series(fs) if need_svm else float("nan")
     return LevelFigures(level, fs.mean, f0, pf, res, sv)
 

@@ -123,20 +123,19 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
                 "svm": a.svm.value if a.svm else None,
                 "sample_rate_hz": a.sample_rate_hz, "n_samples": a.n_samples}
     fund = ieee1789.classify(f0, pf) if f0 else a.ieee1789_fundamental
-    # the headline is the worst of the standard's reading (on the exact figure) and the
-    # model's other modulation (PWM or ripple) at its own frequency, from the model itself:
-    # the sampled capture's components would carry the sampling's aliases
-    from .planner import _with_unrelated
-
-    reading = (a.ieee1789_per_harmonic if settings.ieee1789_mode == "per-harmonic"
-               and a.ieee1789_per_harmonic else fund)
-    head = _with_unrelated(light, f0, reading) if (reading is not None and f0) else reading
     harm, per_h = _exact_harmonics(light, f0, settings.harmonics,
                                    0.5 / a.sample_rate_hz)
     if harm:
         a = replace(a, harmonics=harm, ieee1789_per_harmonic=per_h)
-        if settings.ieee1789_mode == "per-harmonic":
-            head = _with_unrelated(light, f0, per_h)
+    # the headline is the worst of the standard's reading (on the exact figure) and the
+    # model's other modulation (PWM or ripple) at its own frequency, from the model itself:
+    # the sampled capture's components would carry the sampling's aliases
+    from .planner import with_unrelated_modulation
+
+    reading = (a.ieee1789_per_harmonic if settings.ieee1789_mode == "per-harmonic"
+               and a.ieee1789_per_harmonic else fund)
+    head = (with_unrelated_modulation(light, f0, reading) if (reading is not None and f0)
+            else reading)
     a = replace(a, percent_flicker=pf, flicker_index=fi, ieee1789_fundamental=fund, svm=sv,
                 ieee1789_headline=head)
     rec = a.to_dict()
