@@ -177,7 +177,8 @@ def test_demo_runs_end_to_end(tmp_path, capsys):
     # 7 % peak-to-peak ripple is 3.5 % percent flicker (period-averaged, noise removed)
     assert records[0]["percent_flicker_averaged"] == pytest.approx(3.5, rel=0.02)
     # analytic: the 20 % level is full-depth PWM at 1.2 kHz, and IEEE 1789's low-risk line
-    # there is 0.08 x 1200 = 96 % (methods brief, recalled), so the record must fail
+    # there is 0.08 x 1200 = 96 % (IEEE Std 1789-2015 RP1 line, recalled from memory), so the
+    # record must fail
     assert data["overall"] == "fail"
     assert {v["criterion"] for v in data["verdicts"]} >= {"ieee1789-low-risk", "eu-2019-2020-svm"}
     assert main(["demo", "--out", str(folder), "-q"]) == 1  # refuses to replace without --force

@@ -63,8 +63,9 @@ def test_camera_json(capsys):
     out = run_json(capsys, ["camera", "-f", "1000", "--level", "10", "--fps", "30",
                             "--exposure", "1/120", "--suggest", "1250:20000"])
     cam = out["cameras"][0]
-    assert cam["beat_hz"] == pytest.approx(10.0)  # brief §5: 1 kHz at 30 fps
-    assert cam["band_contrast_percent"] == pytest.approx(5.9, abs=0.05)  # brief §5 table
+    assert cam["beat_hz"] == pytest.approx(10.0)  # analytic: fps x dist(f/fps, integer)
+    # analytic, reference/camera_banding.csv
+    assert cam["band_contrast_percent"] == pytest.approx(5.9, abs=0.05)
     assert out["suggestions"][0]["worst_band_contrast_percent"] == pytest.approx(0, abs=1e-7)
 
 
@@ -117,7 +118,7 @@ def test_levels_are_percent_at_every_edge(capsys):
 def test_drive_table_says_what_decided_the_region(capsys):
     # 2 kHz PWM at 50 % whose light carries 20 % sine ripple at 100 Hz: the PWM fundamental is
     # exempt from the low-risk line above 1250 Hz, so the region is decided by the ripple,
-    # 20 % against 0.08 x 100 = 8 % (IEEE 1789-2015 RP1, as recalled in ieee1789.py); the
+    # 20 % against 0.08 x 100 = 8 % (IEEE 1789-2015 RP1 line, recalled from memory); the
     # terminal must say so, as measure does, not only print 2000 Hz and above-low-risk
     assert main(["drive", "-f", "2000", "--ripple", "20", "--levels", "50", "-q"]) == 0
     out = capsys.readouterr().out

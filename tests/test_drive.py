@@ -34,7 +34,7 @@ def analytic_pwm_c(k, duty):
 
 @pytest.mark.parametrize("duty", [0.5, 0.25, 0.1, 0.01, 0.9])
 def test_pwm_fourier_coefficients_analytic(duty):
-    # analytic: C_k = 2 |sin(pi k D)| / (pi k D) relative to the mean (flicker-metrics brief §3.1)
+    # analytic: C_k = 2 |sin(pi k D)| / (pi k D) relative to the mean (Fourier series of 0/1 PWM)
     fs = Pwm(1000.0, duty).fourier_series(40_000.0)
     k = np.round(fs.frequencies_hz / 1000.0)
     expected = 2 * np.abs(np.sin(np.pi * k * duty)) / (np.pi * k * duty)
@@ -121,7 +121,8 @@ def test_delay_and_minimum_on_time():
 
 
 def test_off_level_through_assess():
-    # analytic (flicker-metrics brief §1.2, peak-normalised): PF = 100 (1-b)/(1+b),
+    # analytic (percent flicker and IEC 60050-845 flicker index of the waveform, peak-normalised):
+    # PF = 100 (1-b)/(1+b),
     # FI = D(1-D)(1-b) / (b + D(1-b)); PWM D = 0.1, b = 0.2: 66.6667 %, 0.257143
     a = assess(Pwm(1234.5, 0.1, off_level=0.2).capture())
     assert a.percent_flicker == pytest.approx(66.6667, rel=SAMPLED_REL)
@@ -166,7 +167,7 @@ def test_two_channels_at_180_degrees_give_steady_light():
 @pytest.mark.parametrize("n_count,amp_pct,frame_mod_pct", [
     (1, 11.8, 33), (4, 3.1, 11), (16, 0.78, 3), (100, 0.12, 0.5)])
 def test_dither_subharmonics(n_count, amp_pct, frame_mod_pct):
-    # perception-and-dimming brief §4 table (4 dither bits, P = 16): each component at f/P
+    # analytic, first-order sigma-delta dither (4 dither bits, P = 16): each component at f/P
     # multiples has amplitude (2/P)/(N + 1/P); frame-average modulation 1/(2N+1)
     P, counts, f = 16, 1000, 1000.0
     model = DitheredPwm(f, (n_count + 1 / P) / counts, counts, 4)
@@ -178,7 +179,7 @@ def test_dither_subharmonics(n_count, amp_pct, frame_mod_pct):
     means = model.light().interval_means(np.arange(P + 1) / f)
     mod = 100 * (means.max() - means.min()) / (means.max() + means.min())
     assert mod == pytest.approx(100 / (2 * n_count + 1), rel=1e-9)
-    assert mod == pytest.approx(frame_mod_pct, rel=0.12)  # the brief rounds to 1-2 figures
+    assert mod == pytest.approx(frame_mod_pct, rel=0.12)  # figures rounded to 1-2 digits
 
 
 def test_sigma_delta_pattern():

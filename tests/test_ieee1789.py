@@ -8,7 +8,7 @@ from flickerkit import ieee1789
 from .conftest import read_reference
 
 ROWS = read_reference("ieee1789_boundaries.csv")
-#: The brief prints the limits to 3-4 significant figures.
+#: reference/ieee1789_boundaries.csv prints the limits to 3-4 significant figures.
 REL_TOL = 1e-3
 
 
@@ -29,7 +29,7 @@ def test_vectorised_limits_match_scalar():
 
 
 def test_verdicts_just_inside_and_outside():
-    # IEEE 1789 at 100 Hz: low-risk line 8 %, NOEL 3.33 % (brief §2.3)
+    # IEEE 1789 at 100 Hz: low-risk line 8 %, NOEL 3.33 % (IEEE Std 1789-2015 lines, from memory)
     assert ieee1789.classify(100.0, 7.9).region == "low-risk"
     assert ieee1789.classify(100.0, 8.1).region == "above-low-risk"
     assert ieee1789.classify(100.0, 3.3).region == "no-observable-effect"
@@ -41,7 +41,8 @@ def test_verdicts_just_inside_and_outside():
 
 
 def test_full_depth_pwm_regions_against_frequency():
-    # brief §2.3: 100 % modulation is low-risk only above 1250 Hz, NOEL only above 3000 Hz
+    # IEEE Std 1789-2015 lines, recalled from memory: 100 % modulation is low-risk only above
+    # 1250 Hz, NOEL only above 3000 Hz
     assert ieee1789.classify(1250.0, 100.0).region == "above-low-risk"
     assert ieee1789.classify(1250.5, 100.0).region == "low-risk"
     assert ieee1789.classify(3000.0, 100.0).region == "low-risk"
