@@ -184,7 +184,7 @@ def load_project(path: str | Path) -> Project:
     SettingsError
         Naming the file, the table and the key that is wrong.
     """
-    from .sidefile import load_toml
+    from .readers.sidefile import load_toml
 
     p = Path(path)
     where = str(p)

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 #: A sample this far (in sample intervals) from a uniform grid makes the time non-uniform.
 UNIFORM_TOLERANCE = 0.5

@@ -14,9 +14,9 @@ import stat
 from pathlib import Path
 from typing import Any
 
-from .errors import SettingsError
-from .fileio import note_input
-from .validate import MAX_SIDE_FILE_BYTES
+from ..errors import SettingsError
+from ..fileio import note_input
+from ..validate import MAX_SIDE_FILE_BYTES
 
 _BOMS = (
     (b"\xef\xbb\xbf", "utf-8-sig"),
