@@ -60,7 +60,7 @@ def read_npy(p: Path, options: ReadOptions) -> FormatRead:
             raise InputError("a 1-D .npy holds no time: give --sample-rate HZ", source=name)
         sig, col = channel_of(data, options, name, ".npy array")
         choice = unnamed_choice(data.shape[1] if data.ndim == 2 else 1, options, name,
-                                 ".npy array")
+                                ".npy array")
         fs = float(options.sample_rate_hz)
         if lazy:
             return done(file_signal(data, p, col - 1), fs, col, notes, choice)

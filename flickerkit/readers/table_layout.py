@@ -184,7 +184,7 @@ def table_layout(p: Path, options: ReadOptions) -> TableLayout:
                 meta_items.append((side[0], " ".join(x for x in side[1:] if x)))
     metadata = {key: value for key, value in meta_items}
     stated = stated_facts([*((a, b, "metadata") for a, b in meta_items),
-                      *extra_items(names_f, units_f, first_row, k)], dec)
+                           *extra_items(names_f, units_f, first_row, k)], dec)
     notes: list[str] = []
     warns: list[str] = []
     tcol, kind = find_time(names, units, bool(names_f), head, k)
@@ -200,11 +200,11 @@ def table_layout(p: Path, options: ReadOptions) -> TableLayout:
             notes.append(f"{kind} column {label(tcol)!r} ignored: sample rate given")
     elif tcol is not None and (kind == "time" or opt_unit is not None):
         tb = time_column_base(tcol, label(tcol), units[tcol], names[tcol], bool(names_f),
-                               opt_unit, stated, steps_of(head, tcol), notes, warns)
+                              opt_unit, stated, steps_of(head, tcol), notes, warns)
         index_col = None
     else:
         tb = stated_base(index_col, label(index_col) if index_col is not None else None,
-                          head, stated, name)
+                         head, stated, name)
     if tb is not None and tb.per_div_s is not None and "divisions" not in stated:
         warns.append(f"the file gives time per division but not the number of divisions: "
                      f"{DEFAULT_DIVISIONS} assumed; frequencies scale with it (give "

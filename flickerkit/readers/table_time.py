@@ -184,7 +184,7 @@ def stated_facts(items: list[tuple[str, str, str]], dec: str) -> dict[str, State
 
 
 def extra_items(names: list[str] | None, units: list[str] | None, first_row: list[str],
-                 k: int) -> list[tuple[str, str, str]]:
+                k: int) -> list[tuple[str, str, str]]:
     """Time-base values in the columns after the data: a name with its value on the units
     row or in the first data row, or key/value pairs on the names or units row."""
     items: list[tuple[str, str, str]] = []
@@ -230,7 +230,7 @@ def _unit_name(scale: float) -> str:
 
 
 def find_time(names: list[str], units: list[str | None], header: bool, head: np.ndarray,
-               k: int) -> tuple[int | None, str | None]:
+              k: int) -> tuple[int | None, str | None]:
     """The time-like column and what it is: ``"time"`` or ``"index"`` (by name, unit, values)."""
     if k < 2:
         return None, None
@@ -261,7 +261,7 @@ def steps_of(head: np.ndarray, c: int) -> float | None:
 
 
 def time_column_base(c: int, label: str, unit_text: str | None, name: str, header: bool,
-                      opt_unit: float | None, stated: dict[str, Stated], step: float | None,
+                     opt_unit: float | None, stated: dict[str, Stated], step: float | None,
                       notes: list[str], warns: list[str]) -> TimeBase:
     """A time column's scale, from the option, the header or units row, or the stated rate."""
     if opt_unit is not None:
@@ -312,7 +312,7 @@ def _stated_rate(stated: dict[str, Stated]) -> tuple[float, str] | None:
 
 
 def stated_base(index_col: int | None, label: str | None, head: np.ndarray,
-                 stated: dict[str, Stated], name: str) -> TimeBase:
+                stated: dict[str, Stated], name: str) -> TimeBase:
     """The time base a table without a time column states (interval, rate, time per division)."""
     iv, rt = stated.get("interval"), stated.get("rate")
     if iv and rt and abs(1 / iv.value - rt.value) > RATE_AGREEMENT * rt.value:

@@ -1,7 +1,7 @@
 """Time bases of captures: is a time column increasing and uniform, and at what rate.
 
-Shared by the text-table reader (:mod:`flickerkit.tables`) and the binary
-readers (:mod:`flickerkit.readers`).
+Shared by the text-table reader (:mod:`.table_read`) and the 2-D ``.npy``
+reader (:mod:`.npy`).
 """
 
 from __future__ import annotations
