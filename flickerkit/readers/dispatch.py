@@ -14,6 +14,7 @@ from ..errors import InputError
 from ..fileio import note_input
 from .dark import dark_level
 from .filesignal import FileSignal
+from .kinds import RAW_SUFFIXES
 from .linebounds import first_line_bounded, lines_bounded
 from .npy import read_npy
 from .options import STREAM_ABOVE_TEXT_BYTES, ReadOptions
@@ -23,17 +24,14 @@ from .table_read import read_table, stream_table
 from .wav import read_wav
 
 
-#: Raw binary suffixes.
-RAW_SUFFIXES = (".raw", ".bin")
-
-
 def read_capture(path: str | os.PathLike[str], options: ReadOptions | None = None) -> Capture:
     """Read a capture file and apply the dark level.
 
     Parameters
     ----------
     path : str or path-like
-        ``.csv``/``.txt``/``.tsv``/``.dat`` (text table), ``.wav`` or ``.npy``.
+        ``.wav``, ``.npy``, ``.raw``/``.bin`` (give ``raw_dtype``), or a text
+        table (``.csv``, ``.txt``, ``.tsv``, ``.dat`` or any other suffix).
     options : ReadOptions, optional
 
     Returns

@@ -12,6 +12,9 @@ from typing import Any
 STREAM_ABOVE_SAMPLES = 2**25
 #: Text tables larger than this are converted in chunks and read block by block [bytes].
 STREAM_ABOVE_TEXT_BYTES = 1 << 30
+#: The reading settings the command line and a project file's ``[read]`` and ``[[capture]]``
+#: tables share, by their keyword (and project key) names in :func:`build_read_options`.
+SHARED_SETTINGS = ("column", "sample_rate_hz", "time_unit", "dark", "resample", "fill_gaps")
 
 
 @dataclass(frozen=True)
@@ -96,6 +99,9 @@ def build_read_options(*, column: str | int | None = None, sample_rate_hz: float
                        resample: bool = False, fill_gaps: bool = False,
                        base: Path | None = None, **more: Any) -> ReadOptions:
     """ReadOptions from the settings the CLI and a project file share (one builder for both).
+
+    A project's ``[read]`` table, its keys being :data:`SHARED_SETTINGS`,
+    builds with ``build_read_options(**table, base=folder)``.
 
     Parameters
     ----------

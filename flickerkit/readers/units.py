@@ -16,6 +16,8 @@ TIME_UNITS = {"s": 1.0, "sec": 1.0, "second": 1.0, "seconds": 1.0, "ms": 1e-3,
               "msec": 1e-3, "millisecond": 1e-3, "milliseconds": 1e-3,
               "usec": 1e-6, "microsecond": 1e-6, "microseconds": 1e-6,
               "nsec": 1e-9, "nanosecond": 1e-9, "nanoseconds": 1e-9}
+#: Time units offered for a time column (``--time-unit``, a project's ``time_unit``).
+OPTION_TIME_UNITS = ("s", "ms", "us", "µs", "ns")
 TIME_NAMES = re.compile(r"^\s*(t|time|zeit|temps|tiempo|tempo|sec|second|seconds|x|s|ms|us|µs"
                          r"|μs|ns)(?![a-z])", re.I)
 _UNIT_IN_NAME = re.compile(r"[\(\[\{/_ ]\s*(ns|us|µs|μs|ms|s|sec)\s*[\)\]\}]?\s*$", re.I)
