@@ -87,6 +87,13 @@ def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
                      source=name)
 
 
+def _parser_args(lay: TableLayout) -> dict[str, Any]:
+    """What every parse of the table tells pandas' C reader: separator, columns, encoding."""
+    return {"sep": r"\s+" if lay.separator == " " else lay.separator, "header": None,
+            "names": list(range(lay.width)), "engine": "c", "index_col": False,
+            "encoding": "utf-8-sig" if lay.encoding == "utf-8-sig" else "latin-1"}
+
+
 def _table_read(lay: TableLayout, streamed: bool, samples: np.ndarray | FileSignal, fs: float,
                 notes: list[str], warnings: list[str]) -> FormatRead:
     """The reader's account of a text table: its layout, column and time base."""
@@ -119,14 +126,11 @@ def read_table(p: Path, options: ReadOptions) -> FormatRead:
         # usecols makes pandas' C reader 2.5x slower; only narrow a wide table with it, or
         # one with cells after the data (time-base values, trailing separators, blanks)
         frame = pd.read_csv(
-            p, sep=r"\s+" if lay.separator == " " else lay.separator, decimal=lay.decimal,
-            header=None, names=list(range(lay.width)), skiprows=skip,
+            p, **_parser_args(lay), decimal=lay.decimal, skiprows=skip,
             usecols=([c + lay.lead for c in cols]
                      if lay.width > WIDE_TABLE_COLUMNS or lay.width > lay.k else None),
-            dtype=np.float64, engine="c",
-            encoding="utf-8-sig" if lay.encoding == "utf-8-sig" else "latin-1",
-            skip_blank_lines=False, na_filter=True, keep_default_na=True,
-            on_bad_lines="error", index_col=False,
+            dtype=np.float64, skip_blank_lines=False, na_filter=True, keep_default_na=True,
+            on_bad_lines="error",
         )
     except (ValueError, pd.errors.ParserError) as exc:
         raise _locate_bad_cell(p, lay, cols, exc) from None
@@ -206,13 +210,9 @@ def stream_table(p: Path, options: ReadOptions) -> FormatRead:
     rows = 0
     source = io.BufferedReader(LineBounded(p), buffer_size=1 << 16)
     try:
-        reader = pd.read_csv(source, sep=r"\s+" if lay.separator == " " else lay.separator,
-                             decimal=lay.decimal, header=None, names=list(range(lay.width)),
+        reader = pd.read_csv(source, **_parser_args(lay), decimal=lay.decimal,
                              skiprows=lay.first, usecols=[c + lay.lead for c in cols],
-                             dtype=np.float64, engine="c",
-                             encoding="utf-8-sig" if lay.encoding == "utf-8-sig"
-                             else "latin-1", skip_blank_lines=True, index_col=False,
-                             chunksize=TEXT_CHUNK_ROWS)
+                             dtype=np.float64, skip_blank_lines=True, chunksize=TEXT_CHUNK_ROWS)
         with open(tmp / "signal.f64", "wb") as fsig, open(tmp / "time.f64", "wb") as ftime:
             try:
                 for chunk in reader:
@@ -262,12 +262,9 @@ def _locate_bad_cell(p: Path, lay: TableLayout, cols: list[int], exc: Exception)
     name = str(p)
     skip = lay.first
     try:
-        frame = pd.read_csv(p, sep=r"\s+" if lay.separator == " " else lay.separator,
-                            header=None, names=list(range(lay.width)), skiprows=skip,
-                            usecols=[c + lay.lead for c in cols], dtype=str, engine="c",
-                            keep_default_na=False,
-                            skip_blank_lines=False, encoding="utf-8-sig"
-                            if lay.encoding == "utf-8-sig" else "latin-1", index_col=False)
+        frame = pd.read_csv(p, **_parser_args(lay), skiprows=skip,
+                            usecols=[c + lay.lead for c in cols], dtype=str,
+                            keep_default_na=False, skip_blank_lines=False)
     except (ValueError, pd.errors.ParserError) as exc2:
         msg = str(exc2).splitlines()[0]
         m = re.search(r"line (\d+)", msg)
