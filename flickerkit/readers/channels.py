@@ -1,5 +1,8 @@
-"""The channel (column) of a binary capture: numbered, checked, and the warning (or refusal)
-when several could be the light and none is named."""
+"""The channel (column) of a binary capture: numbered and checked.
+
+Several that could be the light and none named: a warning, or a refusal
+when the choice is required.
+"""
 
 from __future__ import annotations
 
@@ -22,8 +25,11 @@ def channel_of(data: np.ndarray, options: ReadOptions, name: str,
 
 
 def unnamed_choice(count: int, options: ReadOptions, name: str, what: str) -> list[str]:
-    """Warn (or, when the choice is required, refuse) when the first of several channels of
-    a binary file is taken without being named: it may be the gate drive, not the light."""
+    """Warnings when the first of several channels of a binary file is taken unnamed.
+
+    It may be the gate drive, not the light; when the choice is required
+    (``require_column``) it is refused instead.
+    """
     if count < 2 or options.column is not None:
         return []
     if options.require_column:

@@ -1,5 +1,7 @@
-"""The dispatcher: a capture file's kind, checked, to its reader, and the reader's account to
-a :class:`Capture` (with the dark level subtracted)."""
+"""The dispatcher: a capture file, checked, to the reader of its kind.
+
+The reader's account becomes a :class:`Capture` (with the dark level subtracted).
+"""
 
 from __future__ import annotations
 

@@ -1,5 +1,6 @@
-"""Bounds on the lines of a text capture: a file of one endless line is refused before
-the parser holds it in memory.
+"""Bounds on the lines of a text capture.
+
+A file of one endless line is refused before the parser holds it in memory.
 """
 
 from __future__ import annotations
@@ -17,8 +18,10 @@ SCAN_LINES_ABOVE_BYTES = 64 << 20
 
 
 def first_line_bounded(p: Path, size: int) -> None:
-    """Refuse at once a text table whose first line is longer than :data:`MAX_LINE_BYTES`
-    (a file of one long line would be parsed into memory as one row of millions of fields)."""
+    """Refuse at once a text table whose first line is longer than :data:`MAX_LINE_BYTES`.
+
+    A file of one long line would be parsed into memory as one row of millions of fields.
+    """
     if size <= MAX_LINE_BYTES:
         return
     with p.open("rb") as fh:

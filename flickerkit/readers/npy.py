@@ -1,5 +1,7 @@
-"""NumPy ``.npy`` captures: a 1-D signal (give the sample rate), or 2-D columns with time
-in seconds first."""
+"""NumPy ``.npy`` captures.
+
+A 1-D signal (give the sample rate), or 2-D columns with time in seconds first.
+"""
 
 from __future__ import annotations
 
@@ -17,8 +19,11 @@ from .timebase import uniform, uniform_blocks
 
 
 def _npy_time_checked(data, fs: float, name: str) -> float:
-    """Column 1 of a 2-D ``.npy`` is seconds by convention, with no unit stated: refuse a
-    sample count (0, 1, 2, ...) or a rate too slow for light, as for a text table."""
+    """The rate from column 1 of a 2-D ``.npy``, refused if it cannot be seconds.
+
+    Column 1 is seconds by convention, with no unit stated: a sample count
+    (0, 1, 2, ...) or a rate too slow for light is refused, as for a text table.
+    """
     head = np.asarray(data[:50, 0], dtype=np.float64)
     if head.size >= 2 and np.all(np.diff(head) == 1) and np.all(head == np.round(head)):
         raise InputError("column 1 counts samples (0, 1, 2, ...), it is not time in seconds: "

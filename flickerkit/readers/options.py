@@ -1,5 +1,8 @@
-"""How to read a capture (:class:`ReadOptions`), and the one builder of it that the command
-line and a project file's ``[read]`` table share."""
+"""How to read a capture (:class:`ReadOptions`), and its one builder.
+
+The command line and a project file's ``[read]`` table share the builder.
+Standard library only.
+"""
 
 from __future__ import annotations
 

@@ -1,5 +1,7 @@
-"""What a format reader hands the dispatcher: a :class:`FormatRead` (one typed value, not a
-tuple of samples, rate, notes, warnings and a dict)."""
+"""What a format reader hands the dispatcher: a :class:`FormatRead`.
+
+One typed value, not a tuple of samples, rate, notes, warnings and a dict.
+"""
 
 from __future__ import annotations
 

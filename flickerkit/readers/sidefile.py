@@ -1,5 +1,7 @@
-"""Reading side files (project, drive, criteria, calibration, curve and transfer files) with the
-care captures get: regular files only, a size bound before reading, the encoding detected.
+"""Reading side files (project, drive, criteria, calibration, curve and transfer files).
+
+They get the care captures get: regular files only, a size bound before
+reading, the encoding detected.
 
 A device (``/dev/zero``), a FIFO or a socket is refused at once without blocking: the file is
 opened with ``O_NONBLOCK`` and checked with ``fstat`` before a byte is read. Text is UTF-8 (with

@@ -1,5 +1,6 @@
-"""Temporary folders of streamed text captures, named for the run and the capture, and the
-removal of those left by a killed run.
+"""Temporary folders of streamed text captures, named for the run and the capture.
+
+Folders left by a killed run are removed by the next streamed read.
 """
 
 from __future__ import annotations

@@ -1,5 +1,7 @@
-"""Which column of a text table is the light: named, numbered, the only one, or the one
-whose name or unit says light; several candidates and none named warn (or refuse).
+"""Which column of a text table is the light.
+
+Named, numbered, the only one, or the one whose name or unit says light;
+several candidates and none named warn (or refuse).
 """
 
 from __future__ import annotations

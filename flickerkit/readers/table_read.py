@@ -45,8 +45,10 @@ def _rate_of(lay: TableLayout, n: int) -> float | None:
 
 
 def _fixed_rate(lay: TableLayout, n: int) -> float:
-    """Sample rate of a table whose time base has no column: stated, or from the time per
-    division and the ``n`` rows [Hz]."""
+    """Sample rate of a table whose time base has no column [Hz].
+
+    Stated, or from the time per division and the ``n`` rows.
+    """
     tb = lay.time
     assert tb is not None  # table_layout finds a time base unless a sample rate is given
     if tb.sample_rate_hz:
@@ -57,8 +59,11 @@ def _fixed_rate(lay: TableLayout, n: int) -> float:
 
 
 def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
-    """Refuse a rate from a time base without a unit that is too slow for light; warn of a
-    slow one with a unit."""
+    """Warnings on a slow sample rate ``fs`` [Hz]; refuse one that cannot be light.
+
+    A rate from a time base without a unit that is too slow for light is
+    refused; a slow one with a unit, or a unitless one below 10 kHz, is warned about.
+    """
     tb = lay.time
     if (tb is not None and tb.unitless and tb.column is not None and "column" in tb.source
             and MIN_UNITLESS_RATE_HZ <= fs < SLOW_UNITLESS_RATE_HZ):

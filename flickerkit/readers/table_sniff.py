@@ -17,8 +17,12 @@ from .units import UNIT_TOKENS, bare
 
 
 _COMMENT = ("#", "%", "//", ";", "!", "*")
+#: Bytes of a table's head read to find its layout.
 _HEAD_BYTES = 256 * 1024
+
+
 def decode_head(p: Path) -> tuple[str, str]:
+    """The head of a text table as text (whole lines) and its encoding; refuse UTF-16/binary."""
     with p.open("rb") as fh:
         raw = fh.read(_HEAD_BYTES)
     if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or (
@@ -41,6 +45,7 @@ def decode_head(p: Path) -> tuple[str, str]:
 
 
 def to_float(field: str, decimal: str) -> float | None:
+    """A cell as a number (quotes stripped, ``decimal`` the mark), or None."""
     f = field.strip().strip('"').strip("'").strip()
     if decimal == ",":
         if "." in f:
@@ -55,12 +60,15 @@ def to_float(field: str, decimal: str) -> float | None:
 
 
 def split_line(line: str, sep: str) -> list[str]:
+    """The raw fields of a line (runs of spaces for ``sep == " "``)."""
     return line.split() if sep == " " else line.split(sep)
 
 
 def cells(line: str, sep: str, lead: int = 0) -> list[str]:
-    """Fields of a line after the ``lead`` side columns, unquoted and stripped, without
-    trailing empty cells."""
+    """Fields of a line after the ``lead`` side columns, unquoted and stripped.
+
+    Trailing empty cells are dropped.
+    """
     raw = line.split() if sep == " " else line.strip(" \r\n").split(sep)
     out = [f.strip().strip('"').strip("'").strip() for f in raw[lead:]]
     while out and out[-1] == "":
@@ -188,6 +196,7 @@ def _one_decimal_comma_column(lines: list[str], tail: list[str]) -> bool:
 
 
 def bracket_unit(name: str) -> str | None:
+    """The unit in brackets at the end of a name (``time (ms)`` -> ``ms``), or None."""
     m = re.search(r"[\(\[\{]\s*([^\)\]\}]+?)\s*[\)\]\}]\s*$", name)
     return m.group(1).strip() if m else None
 

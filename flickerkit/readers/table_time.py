@@ -130,6 +130,8 @@ def _rate_scale(unit: str) -> float | None:
 
 @dataclass(frozen=True)
 class Stated:
+    """One time-base fact the file states: its value [SI], key, where, and whether unitless."""
+
     value: float
     key: str
     where: str
@@ -185,8 +187,11 @@ def stated_facts(items: list[tuple[str, str, str]], dec: str) -> dict[str, State
 
 def extra_items(names: list[str] | None, units: list[str] | None, first_row: list[str],
                 k: int) -> list[tuple[str, str, str]]:
-    """Time-base values in the columns after the data: a name with its value on the units
-    row or in the first data row, or key/value pairs on the names or units row."""
+    """Time-base values in the columns after the data, as ``(key, value, where)``.
+
+    A name with its value on the units row or in the first data row, or
+    key/value pairs on the names or units row.
+    """
     items: list[tuple[str, str, str]] = []
     if names:
         for j in range(k, len(names)):
@@ -216,6 +221,7 @@ def int_sequence(v: np.ndarray, consecutive: bool = False) -> bool:
 
 
 def option_unit(options: ReadOptions) -> float | None:
+    """Seconds per unit of the ``time_unit`` option [s], or None when not given."""
     if not options.time_unit:
         return None
     unit = TIME_UNITS.get(options.time_unit.strip().lower())
@@ -255,6 +261,7 @@ def find_time(names: list[str], units: list[str | None], header: bool, head: np.
 
 
 def steps_of(head: np.ndarray, c: int) -> float | None:
+    """Median positive step of column ``c`` in the head rows [column unit], or None."""
     d = np.diff(head[:, c])
     d = d[np.isfinite(d) & (d > 0)]
     return float(np.median(d)) if d.size else None

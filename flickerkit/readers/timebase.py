@@ -18,6 +18,7 @@ SAMPLE_RATE_RANGE_HZ = (1e-6, 1e12)
 
 
 def check_rate(fs: float, name: str) -> float:
+    """``fs`` [Hz] if within :data:`SAMPLE_RATE_RANGE_HZ`; else refused (a wrong time unit)."""
     lo, hi = SAMPLE_RATE_RANGE_HZ
     if not np.isfinite(fs) or not lo <= fs <= hi:
         raise InputError(f"the time column gives a sample rate of {fs:.3g} Hz, outside "

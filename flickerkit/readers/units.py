@@ -36,10 +36,12 @@ UNIT_TOKENS = set(TIME_UNITS) | INDEX_UNITS | {
 
 
 def bare(token: str) -> str:
+    """A unit token without brackets, in lower case."""
     return token.strip().strip("()[]{}").strip().lower()
 
 
 def unit_of(name: str) -> float | None:
+    """Seconds per unit of a time unit written in a column name [s], or None."""
     m = _UNIT_IN_NAME.search(name)
     if m:
         return TIME_UNITS[m.group(1).lower() if m.group(1) not in ("µs", "μs") else m.group(1)]

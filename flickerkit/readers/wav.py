@@ -1,5 +1,7 @@
-"""WAV captures, read with ``scipy.io.wavfile`` (memory-mapped above 64 MiB), PCM scaled to
-full scale."""
+"""WAV captures, read with ``scipy.io.wavfile``.
+
+Memory-mapped above 64 MiB; integer PCM scaled to full scale 1.
+"""
 
 from __future__ import annotations
 
