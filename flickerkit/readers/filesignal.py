@@ -90,6 +90,7 @@ class FileSignal:
         a = self[:]
         return a.astype(dtype) if dtype is not None else a
 
+
 def file_signal(arr: np.ndarray, path: Path, column: int, *, zero: float = 0.0,
                 scale: float = 1.0) -> FileSignal:
     """A FileSignal over one column of a memory-mapped 1-D or 2-D C-ordered array.

@@ -7,13 +7,14 @@ several candidates and none named warn (or refuse).
 from __future__ import annotations
 
 import re
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Callable
 
 from ..errors import InputError
 from .units import bare
 
 if TYPE_CHECKING:
-    pass
+    from .options import ReadOptions
+    from .table_time import TimeBase
 
 
 #: Names and units that say a column holds light (common practice, no source).
@@ -25,8 +26,32 @@ _NOT_LIGHT = re.compile(r"gate|drive|driver|pwm|current|\bamps?\b|mains|supply|\
                         r"|sync|\bref|control|ctrl|\bvin\b|\bvcc\b|\bvdd\b|\bdim\b|enable",
                         re.I)
 _NOT_LIGHT_UNITS = {"a", "ma", "ua", "µa", "amp", "amps", "ampere"}
-def choose_signal(names, units, channels, tcol, tb, options, label, warns, name):
-    """The column to measure and why."""
+
+
+def choose_signal(names: list[str], units: list[str | None], channels: list[int],
+                  tcol: int | None, tb: TimeBase | None, options: ReadOptions,
+                  label: Callable[[int], str], warns: list[str], name: str) -> tuple[int, str]:
+    """The 0-based column to measure and why.
+
+    Parameters
+    ----------
+    names, units : list
+        Every data column's name and unit (None where not given).
+    channels : list of int
+        Columns that hold signals (not time, index or time-base values).
+    tcol : int or None
+        The time-like column.
+    tb : TimeBase or None
+        The time base (None when a sample rate is given).
+    options : ReadOptions
+        The column asked for, the quantity, and whether the choice is required.
+    label : callable
+        Name of a column for messages.
+    warns : list of str
+        Receives the warning when the first of several candidates is taken.
+    name : str
+        The file, for messages.
+    """
     k = len(names)
     if options.column is not None:
         col = options.column
