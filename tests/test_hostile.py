@@ -205,7 +205,7 @@ def _side_readers():
     from flickerkit.drive import drive_from_mapping
     from flickerkit.flickermeter import load_calibration
     from flickerkit.project import load_project
-    from flickerkit.sidefile import load_toml
+    from flickerkit.readers.sidefile import load_toml
     from flickerkit.steps import read_transfer_csv
     from flickerkit.validate import check_drive
 

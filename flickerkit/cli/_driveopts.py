@@ -62,7 +62,7 @@ def drive_from_args(args: argparse.Namespace):
 
     data: dict = {}
     if getattr(args, "drive_file", None):
-        from ..sidefile import load_toml
+        from ..readers.sidefile import load_toml
 
         data = load_toml(args.drive_file, "drive file")
         if isinstance(data.get("drive"), dict):
@@ -128,7 +128,7 @@ def file_levels(args: argparse.Namespace):
     """Levels listed in the drive file (key ``levels``), or None."""
     if not getattr(args, "drive_file", None):
         return None
-    from ..sidefile import load_toml
+    from ..readers.sidefile import load_toml
 
     return load_toml(args.drive_file, "drive file").get("levels")
 

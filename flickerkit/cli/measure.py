@@ -82,13 +82,14 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
 def read_options(args: argparse.Namespace, quantity: str = "light"):
     from ..errors import SettingsError
     from ..readers import TIME_UNITS, build_read_options
+    from ..readers.units import OPTION_TIME_UNITS
     from ..validate import MAX_SAMPLE_RATE_HZ, check_count, check_number
 
     check_number(args.sample_rate, "--sample-rate", low=0, high=MAX_SAMPLE_RATE_HZ,
                  open_low=True)
     if args.time_unit is not None and args.time_unit.strip().lower() not in TIME_UNITS:
         raise SettingsError(f"--time-unit {args.time_unit!r} is not a unit of time; use one of "
-                            f"s, ms, us, µs, ns (any case: MS is milliseconds)")
+                            f"{', '.join(OPTION_TIME_UNITS)} (any case: MS is milliseconds)")
     if getattr(args, "raw_channels", None) is not None:
         check_count(args.raw_channels, 1024, "--raw-channels")
     return build_read_options(column=args.column, sample_rate_hz=args.sample_rate,
