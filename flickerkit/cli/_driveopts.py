@@ -22,8 +22,10 @@ def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> 
     g.add_argument("--edges", choices=("ideal", "first-order", "linear"),
                    help="edge model: ideal, first-order (time constants) or linear (slew "
                         "time of a full swing)")
-    g.add_argument("--rise-us", type=float, metavar="US", help="rise time constant or slew time [us]")
-    g.add_argument("--fall-us", type=float, metavar="US", help="fall time constant or slew time [us]")
+    g.add_argument("--rise-us", type=float, metavar="US",
+                   help="rise time constant or slew time [us]")
+    g.add_argument("--fall-us", type=float, metavar="US",
+                   help="fall time constant or slew time [us]")
     g.add_argument("--delay-us", type=float, metavar="US", help="turn-on delay [us]")
     g.add_argument("--min-on-us", type=float, metavar="US",
                    help="shortest light pulse the driver makes [us]")
@@ -57,7 +59,7 @@ def _us(v):
 
 def drive_from_args(args: argparse.Namespace):
     """Build the Drive from --drive-file and the options."""
-    from ..drive import drive_from_mapping
+    from ..drivefile import drive_from_mapping
     from ..errors import SettingsError
 
     data: dict = {}
