@@ -190,3 +190,19 @@ def test_bad_drive_file_one_line(tmp_path, capsys, text, match):
     assert main(["drive", "--drive-file", str(f), "--levels", "50", "-q"]) == 1
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and match in err[0] and str(f) in err[0], err
+
+
+def test_drive_option_choices_are_the_models_names():
+    # the options list the choices by hand (--help must not import numpy); they must be the
+    # models' own
+    import argparse
+
+    from flickerkit.cli._driveopts import add_drive_options
+    from flickerkit.drive import EDGE_KINDS, METHODS, MIN_ON_MODES
+    from flickerkit.light import RIPPLE_SHAPES
+
+    p = argparse.ArgumentParser()
+    add_drive_options(p)
+    choices = {a.dest: tuple(a.choices) for a in p._actions if a.choices}
+    assert choices == {"method": METHODS, "edges": EDGE_KINDS, "min_on_mode": MIN_ON_MODES,
+                       "ripple_shape": RIPPLE_SHAPES}
