@@ -484,10 +484,7 @@ class Light:
             notes[-1] += (f"; the capture holds whole periods of its strongest modulation "
                           f"({fd:.6g} Hz), not of the light's repetition")
             f0 = fd
-        if f0 is None:
-            if self.base_frequency_hz is not None or (self.ripple and self.ripple.percent > 0):
-                notes.append("the drive's PWM and ripple have no common period within reach; "
-                             "the capture is not a whole number of periods")
+        if f0 is None:  # steady light (a modulated light has a dominant frequency)
             fs = float(sample_rate_hz or max(MIN_SAMPLE_RATE_HZ, 64.0 / self.trains[0].period_s))
             n = int(round((duration_s or 1.0) * fs))
             if n > max_samples and duration_s is None:
