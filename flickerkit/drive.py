@@ -26,6 +26,7 @@ percent appears only in names that say so (``percent``).
 from __future__ import annotations
 
 import math
+import numbers
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -151,13 +152,18 @@ def _check_levels(on_level: float, off_level: float) -> None:
         raise SettingsError(f"off-level {off_level:g} must be below the on-level {on_level:g}")
 
 
+def _is_whole(v: object) -> bool:
+    """A whole number (an int, or a float with no fraction); a string or None is not."""
+    return isinstance(v, numbers.Real) and math.isfinite(v) and float(v).is_integer()
+
+
 def _check_counts(counts: int) -> None:
-    if int(counts) != counts or counts < 1:
+    if not _is_whole(counts) or counts < 1:
         raise SettingsError(f"counts per period must be a positive whole number, got {counts!r}")
 
 
 def _check_dither_bits(bits: int) -> None:
-    if int(bits) != bits or not (0 <= bits <= 12):
+    if not _is_whole(bits) or not (0 <= bits <= 12):
         raise SettingsError(f"dither bits must be a whole number from 0 to 12, got {bits!r}")
 
 
@@ -472,7 +478,7 @@ class Drive:
         c = check_fraction(self.crossover, "crossover")
         if self.method == "hybrid" and not (0 < c < 1):
             raise SettingsError(f"hybrid crossover must lie between 0 and 1, got {c:g}")
-        if int(self.channels) != self.channels or self.channels < 1:
+        if not _is_whole(self.channels) or self.channels < 1:
             raise SettingsError(f"channels must be a positive whole number, got "
                                 f"{self.channels!r}")
         if self.phase_offsets_deg and len(self.phase_offsets_deg) != self.channels:

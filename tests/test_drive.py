@@ -244,6 +244,11 @@ def test_drive_levels():
     (lambda: Drive(method="pulse"), "unknown dimming method"),
     (lambda: Drive(dither_bits=3), "counts_per_period"),
     (lambda: Drive().at(0.0), "above 0"),
+    # not numbers: one message, not a ValueError or TypeError from int()
+    (lambda: Drive(counts_per_period="1000"), "counts per period must be a positive whole"),
+    (lambda: Drive(channels=None), "channels must be a positive whole number"),
+    (lambda: DitheredPwm(1000.0, 0.5, 100, "3"), "dither bits must be a whole number"),
+    (lambda: Drive(channels=float("nan")), "channels must be a positive whole number"),
 ])
 def test_bad_input(make, match):
     with pytest.raises(SettingsError, match=match):
