@@ -65,7 +65,7 @@ from typing import Any, Mapping
 from .errors import SettingsError
 from .readers.kinds import CAPTURE_SUFFIXES
 from .readers.options import SHARED_SETTINGS
-from .validate import Spec, check_table, check_value
+from .validate import Spec, check_table, check_value, require_number
 
 _TOP_KEYS = {"product", "setup", "read", "capture", "captures", "drive", "criteria", "analysis",
              "steps"}
@@ -169,13 +169,10 @@ def level_from_name(name: str) -> float | None:
 
 
 def _level(value: Any, where: str) -> float:
-    try:
-        lv = float(value)
-    except (TypeError, ValueError):
-        raise SettingsError(f"{where}: level must be a number of percent, got {value!r}") from None
-    if not 0 < lv <= 100:
-        raise SettingsError(f"{where}: level {lv:g} % is outside 0-100 %")
-    return lv
+    """A dimming level in percent, (0, 100] [%]."""
+    return require_number(value, where, low=0.0, high=100.0, open_low=True,
+                          not_number="{what}: level must be a number of percent, got {value!r}",
+                          outside="{what}: level {v:g} % is outside 0-100 %")
 
 
 def load_project(path: str | Path) -> Project:

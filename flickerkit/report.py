@@ -170,7 +170,7 @@ def build_report(project: Project, *, workers: int | None = None,
             levels.append(entry.level)
             inputs.append(info)
     else:
-        from .drive import drive_from_mapping
+        from .drivefile import drive_from_mapping
         from .sweep import sweep
 
         if project.drive is None:  # load_project refuses a project with neither
@@ -253,7 +253,7 @@ def capture_traces(report: Report, periods: int = 4) -> dict[str, Any]:
                 continue
             out[entry.label] = trace_of(cap, rec.get("frequency_hz"), periods)
     elif project.drive:
-        from .drive import drive_from_mapping
+        from .drivefile import drive_from_mapping
 
         drive = drive_from_mapping(project.drive, source=f"{project.path} [drive]")
         for lv in project.drive_levels:

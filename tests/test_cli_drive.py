@@ -161,3 +161,49 @@ def test_drive_picture_draws_the_limits_it_judges():
     flat = sorted(float(ln.get_ydata()[0]) for ln in svm_ax.get_lines()
                   if len(set(ln.get_ydata())) == 1 and ln.get_linestyle() == "--")
     assert flat == [0.4, 0.9]
+
+
+def test_drive_file_levels_in_a_drive_table_are_swept(tmp_path, capsys):
+    # a project's [drive] table copied into a drive file: its levels are the sweep's
+    # (they were dropped, and the default 25 levels swept)
+    f = tmp_path / "d.toml"
+    f.write_text('[drive]\nfrequency_hz = 2345.6\nlevels = [80, 12.5]\n')
+    out = run_json(capsys, ["drive", "--drive-file", str(f)])
+    assert [r["level"] for r in out["levels"]] == pytest.approx([80.0, 12.5])
+    assert "2345.6 Hz" in out["drive"]
+    # analytic: ideal 0/1 PWM, flicker index = 1 - duty
+    assert out["levels"][1]["flicker_index"] == pytest.approx(0.875, rel=0.01)
+
+
+@pytest.mark.parametrize("text,match", [
+    # a key beside [drive] was dropped: the sweep ran at 1000 Hz, not 3000
+    ('frequency_hz = 3000\n[drive]\nmethod = "pwm"\n', "frequency_hz beside the [drive] table"),
+    ('levels = [100]\n[drive]\nlevels = [50]\n', "levels are given twice"),
+    # these ended in a traceback
+    ("edges = 3\n", "[edges] must be a table"),
+    ('ripple = "x"\n', "[ripple] must be a table"),
+    ("channels = 2\nphase_offsets_deg = 5\n", "phase_offsets_deg must be a list of numbers"),
+    ('channels = 2\nphase_offsets_deg = "ab"\n', "phase_offsets_deg must be a list of numbers"),
+])
+def test_bad_drive_file_one_line(tmp_path, capsys, text, match):
+    f = tmp_path / "bad.toml"
+    f.write_text(text)
+    assert main(["drive", "--drive-file", str(f), "--levels", "50", "-q"]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and match in err[0] and str(f) in err[0], err
+
+
+def test_drive_option_choices_are_the_models_names():
+    # the options list the choices by hand (--help must not import numpy); they must be the
+    # models' own
+    import argparse
+
+    from flickerkit.cli._driveopts import add_drive_options
+    from flickerkit.drive import EDGE_KINDS, METHODS, MIN_ON_MODES
+    from flickerkit.light import RIPPLE_SHAPES
+
+    p = argparse.ArgumentParser()
+    add_drive_options(p)
+    choices = {a.dest: tuple(a.choices) for a in p._actions if a.choices}
+    assert choices == {"method": METHODS, "edges": EDGE_KINDS, "min_on_mode": MIN_ON_MODES,
+                       "ripple_shape": RIPPLE_SHAPES}

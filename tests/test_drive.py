@@ -6,10 +6,11 @@ from scipy.integrate import trapezoid  # numpy >= 2 only has np.trapezoid; the f
 
 from flickerkit.assess import assess
 from flickerkit.drive import (
-    ConstantCurrent, DitheredPwm, Drive, Edges, MultiChannel, Pwm, Ripple, drive_from_mapping,
-    sigma_delta_counts,
+    ConstantCurrent, DitheredPwm, Drive, Edges, MultiChannel, Pwm, sigma_delta_counts,
 )
+from flickerkit.drivefile import drive_from_mapping
 from flickerkit.errors import SettingsError
+from flickerkit.light import Ripple
 
 #: Closed-form series against closed-form series: floating-point agreement.
 EXACT = 1e-10
@@ -27,7 +28,10 @@ SMOOTH_PERIOD_RTOL = 1e-4
 
 
 def analytic_pwm_c(k, duty):
-    """Two-sided c_k of a 0/1 pulse on [0, D T): (1/(pi k)) sin(pi k D) exp(-i pi k D) (analytic)."""
+    """Two-sided c_k of a 0/1 pulse on [0, D T) (analytic).
+
+    c_k = (1/(pi k)) sin(pi k D) exp(-i pi k D).
+    """
     k = np.asarray(k, float)
     return np.sin(np.pi * k * duty) / (np.pi * k) * np.exp(-1j * np.pi * k * duty)
 
@@ -144,7 +148,8 @@ def test_capture_assessed_like_a_measurement(duty):
                      fs.interval_averaged(a.sample_rate_hz)))
     # aliasing of harmonics near 1000 f adds about C_1000 ~ 1e-3 relative
     for h in a.harmonics[:5]:
-        assert h.amplitude == pytest.approx(exact.get(h.order, 0.0), abs=ALIAS_REL * fs.amplitudes[0])
+        assert h.amplitude == pytest.approx(exact.get(h.order, 0.0),
+                                            abs=ALIAS_REL * fs.amplitudes[0])
 
 
 def test_two_channels_at_180_degrees_give_steady_light():
@@ -240,6 +245,11 @@ def test_drive_levels():
     (lambda: Drive(method="pulse"), "unknown dimming method"),
     (lambda: Drive(dither_bits=3), "counts_per_period"),
     (lambda: Drive().at(0.0), "above 0"),
+    # not numbers: one message, not a ValueError or TypeError from int()
+    (lambda: Drive(counts_per_period="1000"), "counts per period must be a positive whole"),
+    (lambda: Drive(channels=None), "channels must be a positive whole number"),
+    (lambda: DitheredPwm(1000.0, 0.5, 100, "3"), "dither bits must be a whole number"),
+    (lambda: Drive(channels=float("nan")), "channels must be a positive whole number"),
 ])
 def test_bad_input(make, match):
     with pytest.raises(SettingsError, match=match):

@@ -202,7 +202,7 @@ SIDE_FUZZ = settings(max_examples=40, deadline=3000,
 def _side_readers():
     from flickerkit.criteria import load_user_criteria
     from flickerkit.curves import read_two_columns
-    from flickerkit.drive import drive_from_mapping
+    from flickerkit.drivefile import drive_from_mapping
     from flickerkit.flickermeter import load_calibration
     from flickerkit.project import load_project
     from flickerkit.readers.sidefile import load_toml
