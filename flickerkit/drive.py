@@ -34,7 +34,7 @@ import numpy as np
 from .capture import Capture
 from .errors import SettingsError
 from .light import DEFAULT_MAX_SAMPLES, FourierSeries, Light, Ripple
-from .validate import check_fraction, check_positive
+from .validate import MAX_DITHER_BITS, check_fraction, check_positive
 from .waveform import FREQ_RTOL, Train, pulse_train
 
 #: Edge models of a PWM pulse.
@@ -163,8 +163,9 @@ def _check_counts(counts: int) -> None:
 
 
 def _check_dither_bits(bits: int) -> None:
-    if not _is_whole(bits) or not (0 <= bits <= 12):
-        raise SettingsError(f"dither bits must be a whole number from 0 to 12, got {bits!r}")
+    if not _is_whole(bits) or not (0 <= bits <= MAX_DITHER_BITS):
+        raise SettingsError(
+            f"dither bits must be a whole number from 0 to {MAX_DITHER_BITS}, got {bits!r}")
 
 
 def _check_pwm_model(m: Pwm | DitheredPwm) -> None:

@@ -27,6 +27,7 @@ from . import ieee1789, metrics
 from .drive import Drive, DitheredPwm, LightModel
 from .errors import SettingsError
 from .timers import Timer, TimerSetting, clock_needed, minimum_duty
+from .validate import MAX_DITHER_BITS
 
 #: Frequency range searched by default [Hz].
 DEFAULT_RANGE_HZ = (10.0, 50_000.0)
@@ -640,9 +641,10 @@ def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequen
                  ) -> dict:
     """Dithering option: bits needed and the dither's own flicker at the setting."""
     m = max(1, math.ceil(math.log2(res.counts / s.counts) - 1e-12))
-    if m > 12:
+    if m > MAX_DITHER_BITS:
         return {"option": "dithering", "extra_bits": m, "possible": False,
-                "cost": f"{m} dither bits would be needed (more than 12 are not modelled); the "
+                "cost": f"{m} dither bits would be needed (more than {MAX_DITHER_BITS} are not "
+                        f"modelled); the "
                         f"pattern would repeat at {s.frequency_hz / 2 ** m:.3g} Hz"}
     f = s.frequency_hz
     P = 2 ** m

@@ -24,8 +24,9 @@ MAX_LEVELS = 1_000
 MAX_PLAN_LEVELS = 200
 #: Largest timer count per PWM period (a 32-bit counter).
 MAX_COUNTS = 2 ** 32
-#: Most sigma-delta dither bits.
-MAX_DITHER_BITS = 16
+#: Most sigma-delta dither bits modelled (a pattern repeats every 2**bits PWM periods; the
+#: model samples the whole pattern, so 12 bits is 4,096 periods).
+MAX_DITHER_BITS = 12
 #: Most harmonics reported.
 MAX_HARMONICS = 1_000
 #: Largest channel count of a multi-channel drive.
