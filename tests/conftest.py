@@ -17,6 +17,14 @@ def reference():
     return read_reference
 
 
+def pytest_collection_modifyitems(items):
+    """Under ``pytest -n N --dist loadgroup`` (pytest-xdist) the tests that read the demo run
+    on one worker, so the demo (a session fixture, one per worker) is run once, not N times."""
+    for item in items:
+        if "demo_run" in getattr(item, "fixturenames", ()):
+            item.add_marker(pytest.mark.xdist_group("demo"))
+
+
 @pytest.fixture(scope="session")
 def demo_run(tmp_path_factory):
     """The demo, run once for the session: ``(folder, JSON text it printed)``.
