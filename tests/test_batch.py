@@ -54,6 +54,28 @@ def test_cli_reports_bad_capture_and_keeps_the_rest(folder, capsys):
     assert "cap99_bad.npy" in captured.err and "1 of 13 captures" in captured.err
 
 
+def test_json_written_as_records_arrive_is_the_whole_list_dumped(folder, tmp_path, capsys):
+    # measure --json writes each record as it arrives; the text must be what dumping the
+    # finished list gives, also for a record relabelled afterwards (same name, two folders)
+    import shutil
+
+    from flickerkit.cli import CAUTION_TEXT
+    from flickerkit.cli.measure import distinct_records
+    from flickerkit.export.jsonout import dumps
+
+    for sub, src in (("a", "cap01.npy"), ("b", "cap02.npy")):
+        (tmp_path / sub).mkdir()
+        shutil.copy(folder / src, tmp_path / sub / "same.npy")
+    paths = [str(tmp_path / "a" / "same.npy"), str(folder / "cap03.npy"),
+             str(tmp_path / "b" / "same.npy")]
+    assert main(["measure", *paths, "-r", str(FS), "--json", "-q", "-j", "1"]) == 0
+    printed = capsys.readouterr().out
+    records, notes = distinct_records(measure_many(paths, ReadOptions(sample_rate_hz=FS),
+                                                   AssessSettings(), workers=1))
+    assert notes and [r["label"] for r in records] == ["a/same.npy", "cap03.npy", "b/same.npy"]
+    assert printed == dumps([{**r, "caution": CAUTION_TEXT} for r in records])
+
+
 def test_json_is_byte_identical_across_runs_and_workers(folder):
     paths = sorted(str(p) for p in folder.glob("cap0*.npy"))
     outs = []
