@@ -74,10 +74,8 @@ def test_display_formats_keep_four_significant_digits(value, shown):
 
 
 @pytest.fixture(scope="module")
-def demo_record(tmp_path_factory):
-    out = tmp_path_factory.mktemp("demo")
-    assert main(["demo", "--out", str(out), "-q"]) == 0
-    return out
+def demo_record(demo_run):
+    return demo_run[0]  # the session's one demo run (conftest)
 
 
 def _check_printable(wb):
