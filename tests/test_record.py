@@ -185,7 +185,8 @@ def test_decided_by_names_the_svm_component_from_the_record():
     assert g.criteria[0].decided_by.startswith("component at 1234.6 Hz")
 
 
-def test_pictures_refuse_to_overwrite_and_a_file_in_the_way(demo_record, tmp_path, capsys):
+def test_pictures_refuse_to_overwrite_and_a_file_in_the_way(demo_record, tmp_path, capsys,
+                                                            monkeypatch):
     cap = str(demo_record / "ardent12_level010.txt")
     dark = str(demo_record / "ardent12_dark.csv")
     pics = tmp_path / "pics"
@@ -193,8 +194,19 @@ def test_pictures_refuse_to_overwrite_and_a_file_in_the_way(demo_record, tmp_pat
     first = sorted(p.name for p in pics.iterdir())
     assert first == ["ardent12_level010.txt_spectrum.png", "ardent12_level010.txt_spectrum.svg",
                      "ardent12_level010.txt_waveform.png", "ardent12_level010.txt_waveform.svg"]
-    assert main(["measure", cap, "--dark", dark, "-q", "--pictures", str(pics)]) == 1
-    assert "--force" in capsys.readouterr().err
+    capsys.readouterr()
+    import flickerkit.export.figures as figures
+
+    drawn = []
+    real_render = figures.render
+    monkeypatch.setattr(figures, "render",
+                        lambda *a, **k: drawn.append(a[1]) or real_render(*a, **k))
+    assert main(["measure", cap, "--dark", dark, "--json", "--pictures", str(pics)]) == 1
+    monkeypatch.undo()
+    out = capsys.readouterr()
+    assert "--force" in out.err
+    # refused before anything is drawn or written: no JSON half-delivered with a failing exit
+    assert drawn == [] and out.out == ""
     assert main(["measure", cap, "--dark", dark, "-q", "--pictures", str(pics), "--force"]) == 0
     blocker = tmp_path / "afile"
     blocker.write_text("x")

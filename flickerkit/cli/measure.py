@@ -160,7 +160,8 @@ def add_parser(sub) -> None:
 def _pictures(args, outcomes, settings):
     """Waveform and spectrum of each measured capture, written to args.pictures."""
     from ..errors import FlickerkitError
-    from ..export.figures import capture_pictures, trace_of, write_pictures
+    from ..export.figures import (capture_picture_names, capture_pictures, check_picture_names,
+                                  trace_of, write_pictures)
     from ..readers import read_capture
 
     opts = read_options(args, args.signal)
@@ -175,6 +176,7 @@ def _pictures(args, outcomes, settings):
         except (FlickerkitError, OSError):
             continue
         traces[o.record["label"]] = trace_of(cap, o.record.get("frequency_hz"))
+    check_picture_names(args.pictures, capture_picture_names(records, traces), force=args.force)
     pics = capture_pictures(records, traces, threshold=settings.svm_threshold)
     write_pictures(pics, args.pictures, force=args.force)
     if not args.quiet:
@@ -243,6 +245,13 @@ def run(args: argparse.Namespace) -> int:
               + ("; the others are reported" if records else ""), file=sys.stderr)
     if not records:
         return 1
+    # pictures before any output: a refusal (an existing picture) leaves stdout empty
+    pictures = None
+    if args.pictures and args.signal == "light":
+        pictures = _pictures(args, outcomes, settings)
+    elif args.pictures and not args.quiet:
+        print("flickerkit: note: --pictures draws light captures only; none drawn",
+              file=sys.stderr)
     if args.json:
         from ..export.jsonout import dumps_list, dumps_object_item
         from . import CAUTION_TEXT
@@ -256,12 +265,6 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(voltage_table(records))
     else:
         sys.stdout.write(summary_table(records))
-    pictures = None
-    if args.pictures and args.signal == "light":
-        pictures = _pictures(args, outcomes, settings)
-    elif args.pictures and not args.quiet:
-        print("flickerkit: note: --pictures draws light captures only; none drawn",
-              file=sys.stderr)
     if args.xlsx:
         from ..export.workbook import VOLTAGE_COLUMNS, MEASURE_COLUMNS, write_measure_workbook
 

@@ -368,6 +368,25 @@ def check_picture_folder(folder: str | Path) -> None:
         raise OutputError(f"{p}: exists and is not a folder (--pictures needs a folder)")
 
 
+def check_picture_names(folder: str | Path, names: Sequence[str], *, force: bool = False) -> None:
+    """Refuse a picture folder that is a file, or that holds one of ``names`` without ``force``.
+
+    Call it before drawing: the names are known from the records, the pictures
+    cost a fraction of a second each to draw.
+    """
+    from ..errors import OutputError
+
+    out = Path(folder)
+    check_picture_folder(out)
+    if force:
+        return
+    for name in names:
+        for ext in FORMATS:
+            if (out / f"{name}.{ext}").exists():
+                raise OutputError(f"{out / f'{name}.{ext}'}: exists; use --force to "
+                                  f"replace the pictures")
+
+
 def write_pictures(pictures: Sequence[Picture], folder: str | Path, *,
                    force: bool = False) -> list[Path]:
     """Write every picture as PNG and SVG into ``folder`` (created); return the paths.
@@ -379,13 +398,7 @@ def write_pictures(pictures: Sequence[Picture], folder: str | Path, *,
     from ..errors import OutputError
 
     out = Path(folder)
-    check_picture_folder(out)
-    if not force:
-        for p in pictures:
-            for ext in FORMATS:
-                if (out / f"{p.name}.{ext}").exists():
-                    raise OutputError(f"{out / f'{p.name}.{ext}'}: exists; use --force to "
-                                      f"replace the pictures")
+    check_picture_names(out, [p.name for p in pictures], force=force)
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -403,6 +416,19 @@ def write_pictures(pictures: Sequence[Picture], folder: str | Path, *,
                 raise OutputError(f"{target}: cannot be written ({exc.strerror})") from None
             paths.append(target)
     return paths
+
+
+def capture_picture_names(records: Sequence[dict[str, Any]], traces: dict[str, Trace]
+                          ) -> list[str]:
+    """Return the file stems :func:`capture_pictures` gives, without drawing."""
+    names = []
+    for rec in records:
+        label = str(rec.get("label", ""))
+        stem = safe_name(label)
+        if traces.get(label) is not None:
+            names.append(f"{stem}_waveform")
+        names.append(f"{stem}_spectrum")
+    return names
 
 
 def capture_pictures(records: Sequence[dict[str, Any]], traces: dict[str, Trace],
