@@ -129,6 +129,7 @@ class Banding:
     depth: float
 
     def to_dict(self) -> dict:
+        """Return the JSON object; contrast and depth in percent."""
         return {"frame_rate_hz": self.frame_rate_hz, "exposure_s": self.exposure_s,
                 "light_frequency_hz": self.light_frequency_hz, "beat_hz": self.beat_hz,
                 "bands_per_frame": self.bands_per_frame, "rows_per_band": self.rows_per_band,
@@ -250,6 +251,7 @@ class Suggestion:
     reason: str
 
     def to_dict(self) -> dict:
+        """Return the JSON object; the worst band contrast in percent."""
         return {"frequency_hz": self.frequency_hz,
                 "worst_band_contrast_percent": 100.0 * self.worst_contrast,
                 "standing": self.standing, "reason": self.reason}

@@ -57,7 +57,7 @@ class ReadRecord:
     channels: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
-        """The JSON ``read`` object."""
+        """Return the JSON ``read`` object."""
         return {"layout": self.layout, "column": self.column, "unit": self.unit,
                 "time_base": self.time_base, "sample_rate_hz": self.sample_rate_hz,
                 "samples": self.samples, "rows_skipped": self.rows_skipped,

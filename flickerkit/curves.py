@@ -210,7 +210,7 @@ class Curve:
 
 
 def cie1976_curve() -> Curve:
-    """Steps even in CIE 1976 lightness L* (v = L*, 0 to 100)."""
+    """Return the curve of steps even in CIE 1976 lightness L* (v = L*, 0 to 100)."""
     return Curve("cie1976", luminance, lightness, 0.0, "CIE 1976 lightness L* (even steps in L*)")
 
 
@@ -260,7 +260,7 @@ def linear_curve() -> Curve:
 
 
 def user_curve(inputs: np.ndarray, outputs: np.ndarray, *, source: str = "") -> Curve:
-    """A curve through (input, output) points, interpolated monotonically (PCHIP).
+    """Make a curve through (input, output) points, interpolated monotonically (PCHIP).
 
     Parameters
     ----------

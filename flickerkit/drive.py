@@ -76,6 +76,7 @@ class Edges:
         check_positive(self.fall_s, "fall time [s]", allow_zero=True)
 
     def describe(self) -> str:
+        """Describe the edges in a few words (rise and fall in us)."""
         if self.kind == "ideal" or (self.rise_s == 0 and self.fall_s == 0):
             return "ideal edges"
         return (f"{self.kind} edges rise {self.rise_s * 1e6:g} us, "
@@ -89,7 +90,7 @@ class LightModel:
     """Shared methods of the drive models (each defines ``light()``)."""
 
     def light(self) -> Light:
-        """The model's light waveform, built once and kept (models are frozen)."""
+        """Return the model's light waveform, built once and kept (models are frozen)."""
         lt = self.__dict__.get("_light")
         if lt is None:
             lt = self._build_light()
@@ -119,7 +120,7 @@ class LightModel:
 
     def capture(self, sample_rate_hz: float | None = None, duration_s: float | None = None,
                 *, max_samples: int = DEFAULT_MAX_SAMPLES, label: str = "") -> Capture:
-        """Sampled light; see :meth:`Light.capture`."""
+        """Sample the light; see :meth:`Light.capture`."""
         return self.light().capture(sample_rate_hz, duration_s, max_samples=max_samples,
                                     label=label)
 
@@ -153,7 +154,7 @@ def _check_levels(on_level: float, off_level: float) -> None:
 
 
 def _is_whole(v: object) -> bool:
-    """A whole number (an int, or a float with no fraction); a string or None is not."""
+    """Return whether ``v`` is a whole number (an int, or a float with no fraction)."""
     return isinstance(v, numbers.Real) and math.isfinite(v) and float(v).is_integer()
 
 
@@ -169,7 +170,7 @@ def _check_dither_bits(bits: int) -> None:
 
 
 def _check_pwm_model(m: Pwm | DitheredPwm) -> None:
-    """The checks a PWM model's settings share: duty, levels, timing."""
+    """Check the settings every PWM model shares: duty, levels, timing."""
     check_fraction(m.duty, "duty")
     _check_levels(m.on_level, m.off_level)
     _check_pwm_timing(m.frequency_hz, m.edges, m.turn_on_delay_s, m.min_on_time_s,
@@ -177,7 +178,7 @@ def _check_pwm_model(m: Pwm | DitheredPwm) -> None:
 
 
 def _pwm_train(m: Pwm | DitheredPwm, widths_s: np.ndarray, shift_s: float) -> Train:
-    """The train of a PWM model's gate widths per frame [s], delayed by ``shift_s`` [s]."""
+    """Build the train of a PWM model's gate widths per frame [s], delayed by ``shift_s`` [s]."""
     e = m.edges
     return pulse_train(1.0 / m.frequency_hz, widths_s, m.off_level, m.on_level,
                        edge_kind=e.kind, rise_s=e.rise_s, fall_s=e.fall_s,
@@ -240,6 +241,7 @@ class Pwm(LightModel):
         return 1.0 / self.frequency_hz
 
     def describe(self) -> str:
+        """Describe the PWM model: frequency, duty, off-level, edges and ripple."""
         s = f"PWM {self.frequency_hz:g} Hz duty {self.duty * 100:.6g} %"
         if self.off_level:
             s += f", off-level {self.off_level:g}"
@@ -276,6 +278,7 @@ class ConstantCurrent(LightModel):
         check_positive(self.level, "analogue level")
 
     def describe(self) -> str:
+        """Describe the analogue model: level and ripple."""
         s = f"analogue {self.level * 100:.6g} %"
         if self.ripple:
             s += f", {self.ripple.percent:g} % {self.ripple.shape} ripple"
@@ -314,6 +317,7 @@ class MultiChannel(LightModel):
                 raise SettingsError("give ripple on the multi-channel drive, not on a channel")
 
     def describe(self) -> str:
+        """Describe the channels: frequency, duty, phases and ripple."""
         ph = ", ".join(f"{c.phase_deg:g}" for c in self.channels)
         s = (f"{len(self.channels)} channels PWM {self.channels[0].frequency_hz:g} Hz duty "
              f"{self.channels[0].duty * 100:.6g} %, phases {ph} deg")
@@ -407,10 +411,11 @@ class DitheredPwm(LightModel):
         _check_dither_bits(self.extra_bits)
 
     def frame_counts(self) -> np.ndarray:
-        """Counts of each PWM period over one pattern repetition [counts]."""
+        """Return the counts of each PWM period over one pattern repetition [counts]."""
         return sigma_delta_counts(self.duty * self.counts_per_period, self.extra_bits)
 
     def describe(self) -> str:
+        """Describe the dithered model: frequency, duty, counts and dither bits."""
         return (f"PWM {self.frequency_hz:g} Hz duty {self.duty * 100:.6g} % on "
                 f"{self.counts_per_period} counts with {self.extra_bits}-bit sigma-delta dither")
 
@@ -502,7 +507,7 @@ class Drive:
         return tuple(360.0 * i / self.channels for i in range(self.channels))
 
     def with_frequency(self, frequency_hz: float) -> "Drive":
-        """The same scheme at another PWM frequency."""
+        """Return the same scheme at another PWM frequency [Hz]."""
         return replace(self, frequency_hz=frequency_hz)
 
     def describe(self, *, frequency: bool = True) -> str:
@@ -557,7 +562,7 @@ class Drive:
         return MultiChannel(chans, ripple=self.ripple)
 
     def at(self, level: float) -> LightModel:
-        """The light model at a dimming level.
+        """Return the light model at a dimming level.
 
         Parameters
         ----------

@@ -40,7 +40,7 @@ class DriveFile:
 
 
 def drive_table(data: Mapping[str, Any], *, source: str) -> DriveFile:
-    """The drive's keys and levels of a drive mapping (a file, before options override it).
+    """Split a drive mapping into its drive keys and levels (a file, before options override it).
 
     The keys stand at the top, or in a ``[drive]`` table (as in a project file) with
     ``levels`` inside it or beside it; other keys beside a ``[drive]`` table are refused,

@@ -51,7 +51,7 @@ def forget_inputs() -> None:
 
 def input_named_by(path: str | os.PathLike[str],
                    inputs: "Iterable[str | os.PathLike[str]]" = ()) -> str | None:
-    """The input (as it was given) that ``path`` names, or None.
+    """Return the input (as it was given) that ``path`` names, or None.
 
     Compares resolved paths, and device and inode numbers when the output
     already exists, with every recorded input and with ``inputs``.
@@ -162,7 +162,7 @@ def _replaced_mode(p: Path) -> int:
 
 
 def write_text(path: str | os.PathLike[str], text: str, *, force: bool = False) -> Path:
-    """Write text atomically (UTF-8, ``\\n`` line ends)."""
+    """Write text atomically (UTF-8, LF line ends)."""
     with atomic_path(path, force=force) as tmp:
         with open(tmp, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)

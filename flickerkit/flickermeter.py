@@ -218,7 +218,7 @@ class Calibration:
         return 2.0 if self.signal == "voltage" else 1.0
 
     def to_toml(self) -> str:
-        """The calibration as a TOML document :func:`load_calibration` reads back."""
+        """Return the calibration as a TOML document :func:`load_calibration` reads back."""
         lines = ["# flickerkit flickermeter calibration",
                  "# reference_modulation_percent: peak-to-peak change [%] at "
                  "reference_frequency_hz giving Pinst,max = 1"]

@@ -173,11 +173,12 @@ class Light:
 
     @cached_property
     def base_mean(self) -> float:
+        """Mean of the trains' sum before ripple [relative light]."""
         return float(sum(tr.mean for tr in self.trains))
 
     @cached_property
     def _base_divisor(self) -> int:
-        """k such that the trains' sum repeats every T/k, T the trains' period; 0 if steady.
+        """Divisor k: the trains' sum repeats every T/k, T the trains' period; 0 if steady.
 
         Evenly phased channels repeat k times per PWM period (three channels at
         120 degrees: the light repeats at 3 f). Found from the Fourier

@@ -169,7 +169,7 @@ def level_from_name(name: str) -> float | None:
 
 
 def _level(value: Any, where: str) -> float:
-    """A dimming level in percent, (0, 100] [%]."""
+    """Check a dimming level in percent, (0, 100] [%]."""
     return require_number(value, where, low=0.0, high=100.0, open_low=True,
                           not_number="{what}: level must be a number of percent, got {value!r}",
                           outside="{what}: level {v:g} % is outside 0-100 %")
@@ -285,9 +285,13 @@ def _level_text(level: float | None) -> str:
 
 
 def _distinct(entries: list[CaptureEntry], where: str = "") -> list[CaptureEntry]:
-    """Give captures that share a label (same name in two folders, a file listed twice) labels
-    of their own, so that none hides another in the record. One file (any spelling, hard
-    link) listed at two dimming levels is refused: it would forge a level's row."""
+    """Give captures that share a label labels of their own.
+
+    Two captures share a label when one name stands in two folders or a file is listed
+    twice; with labels of their own none hides another in the record. One file (any
+    spelling, hard link) listed at two dimming levels is refused: it would forge a level's
+    row.
+    """
     from dataclasses import replace
 
     from .labels import unique_labels
@@ -312,7 +316,7 @@ def _distinct(entries: list[CaptureEntry], where: str = "") -> list[CaptureEntry
 
 
 def project_from_folder(folder: Path) -> Project:
-    """A project made of every capture file in a folder (levels from the file names)."""
+    """Make a project of every capture file in a folder (levels from the file names)."""
     files = sorted(x for x in folder.iterdir()
                    if x.suffix.lower() in CAPTURE_SUFFIXES and x.is_file()
                    and "dark" not in x.name.lower())

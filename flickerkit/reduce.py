@@ -20,6 +20,7 @@ BLOCK = 2**22
 
 
 def length(x: Any) -> int:
+    """Return the number of samples of an array or a file-backed signal."""
     return int(x.shape[0])
 
 

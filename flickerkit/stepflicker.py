@@ -121,7 +121,7 @@ class StepFlicker:
     target_region: str = DEFAULT_TARGET_REGION
 
     def outside(self) -> np.ndarray:
-        """bool per step: lit and worse than the target region."""
+        """Mark each step that is lit and worse than the target region (bool per step)."""
         from .ieee1789 import REGIONS
 
         worst_ok = REGIONS.index(self.target_region)

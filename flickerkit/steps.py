@@ -672,7 +672,7 @@ class StepTable:
         return [dict(zip(names, row)) for row in zip(*values)]
 
     def to_dict(self) -> dict:
-        """``{"steps": [...], "summary": {...}}``, ready for ``json.dumps``."""
+        """Return ``{"steps": [...], "summary": {...}}``, ready for ``json.dumps``."""
         return {"steps": self.rows(), "summary": self.summary()}
 
 

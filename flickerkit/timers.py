@@ -92,7 +92,7 @@ def bits_available(clock_hz: float, frequency_hz: float, mode: str = "edge") -> 
 
 
 def counts_needed(min_level: float, max_relative_step: float) -> int:
-    """Counts per period so that one count at ``min_level`` is at most that step.
+    """Return the counts per period at which one count at ``min_level`` is at most that step.
 
     Parameters
     ----------
@@ -284,6 +284,7 @@ class TimerSetting:
         return max(1, int(math.ceil(d * self.counts - 1e-9)))
 
     def to_dict(self) -> dict:
+        """Return the JSON object; frequency in Hz, tick in seconds."""
         return {"mode": self.mode, "prescaler": self.prescaler, "top": self.top,
                 "frequency_hz": self.frequency_hz, "counts_per_period": self.counts,
                 "bits": self.bits, "duty_step": self.duty_step, "tick_s": self.tick_s}

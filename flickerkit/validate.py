@@ -1,5 +1,7 @@
-"""One small validator for the tables of every side file (project, drive, criteria, calibration)
-and the limits of every count a user can ask for.
+"""One small validator for side-file tables and the limits of user-given counts.
+
+The side files are the project, drive, criteria and calibration files; the counts are
+every count a user can ask for.
 
 A table is checked against a mapping of key -> :class:`Spec`: an unknown key (a misspelt
 ``metirc``), a wrong type (``rate = "fast"``, ``time_unit = 3``, a date given as an integer, a
@@ -66,7 +68,7 @@ class Spec:
     choices: tuple[str, ...] | None = None
 
     def words(self) -> str:
-        """The range in words, e.g. ``1 to 32`` or ``above 0 and at most 1e+08``."""
+        """Say the range in words, e.g. ``1 to 32`` or ``above 0 and at most 1e+08``."""
         if self.low is not None and self.high is not None and not (self.open_low
                                                                     or self.open_high):
             return f"{self.low:g} to {self.high:g}"
@@ -78,7 +80,7 @@ class Spec:
         return " and ".join(parts) or "a number"
 
     def describe(self) -> str:
-        """The range as text, e.g. ``(0, 1e+08]``."""
+        """Write the range in interval notation, e.g. ``(0, 1e+08]``."""
         if self.choices:
             return "one of " + ", ".join(self.choices)
         lo = "-inf" if self.low is None else f"{self.low:g}"
@@ -296,7 +298,7 @@ def require_number(value: Any, what: str, *, low: float | None = None,
 
 
 def check_positive(value: Any, what: str, *, allow_zero: bool = False) -> float:
-    """A finite number above 0 (or at least 0 with ``allow_zero``), in the models' wording.
+    """Check a finite number above 0 (or at least 0 with ``allow_zero``), in the models' wording.
 
     Examples
     --------
@@ -312,7 +314,7 @@ def check_positive(value: Any, what: str, *, allow_zero: bool = False) -> float:
 
 
 def check_fraction(value: Any, what: str) -> float:
-    """A number from 0 to 1 (a duty, a level), in the models' wording.
+    """Check a number from 0 to 1 (a duty, a level), in the models' wording.
 
     Examples
     --------

@@ -109,12 +109,14 @@ class Train:
 
     @classmethod
     def constant(cls, level: float, period_s: float) -> "Train":
+        """Make a steady train at ``level`` with period ``period_s`` [s]."""
         one = np.ones(1)
         return cls(period_s, np.zeros(1), one * period_s, np.zeros(1, bool), one * level,
                    np.zeros(1), one)
 
     @cached_property
     def is_constant(self) -> bool:
+        """Whether the train is steady (one level throughout)."""
         return bool(np.all(self.b == 0) and np.all(self.a == self.a[0]))
 
     def _segment_integral(self, j: np.ndarray, v: np.ndarray, omega: float) -> np.ndarray:
@@ -145,6 +147,7 @@ class Train:
 
     @cached_property
     def mean(self) -> float:
+        """Mean of the train over one period [level unit]."""
         return float(self._prefix(0.0)[-1].real / self.period_s)
 
     def cumulative(self, t: np.ndarray, omega: float = 0.0) -> tuple[np.ndarray, np.ndarray]:

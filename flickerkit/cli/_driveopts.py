@@ -172,8 +172,11 @@ def parse_levels(text: str):
 
 def emit(args: argparse.Namespace, out: dict, text, write_workbook, reminder: str, *,
          draw=None) -> int:
-    """Print a modelled-light result (JSON with the caution, or text), write its workbook,
-    and remind on stderr that a model is not a measurement."""
+    """Print a modelled-light result and write its workbook.
+
+    The result goes out as JSON with the caution, or as text; a reminder on stderr says
+    that a model is not a measurement.
+    """
     import sys
 
     from . import _CAUTION, CAUTION_TEXT

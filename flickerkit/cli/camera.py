@@ -23,6 +23,7 @@ examples:
 
 
 def add_parser(sub) -> None:
+    """Add the ``camera`` command: rolling bands and beats of cameras under the modelled light."""
     p = sub.add_parser("camera", help=HELP, description=DESCRIPTION,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     add_drive_options(p)
@@ -74,6 +75,7 @@ def _numbers(text: str, name: str):
 
 
 def run(args: argparse.Namespace) -> int:
+    """Run ``camera``: the banding of each camera setting, and frequencies that avoid it."""
     from ..camera import Camera, banding, suggest_frequencies
     from ..errors import SettingsError
     from ..fileio import check_writable
@@ -129,6 +131,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def text(out: dict) -> str:
+    """Format the ``camera`` result for the terminal."""
     from ..export.table import fmt, render
 
     rows = [[fmt(r["frame_rate_hz"], ".4g"), f"1/{1 / r['exposure_s']:.4g}",
@@ -147,6 +150,7 @@ def text(out: dict) -> str:
 
 
 def write_workbook(path, out: dict, *, force: bool = False):
+    """Write the ``camera`` result to an Excel workbook."""
     from openpyxl import Workbook
 
     from ..export.workbook import print_setup, set_properties, write_rows

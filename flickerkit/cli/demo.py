@@ -24,6 +24,7 @@ example:
 
 
 def add_parser(sub) -> None:
+    """Add the ``demo`` command: invented captures and the record made from them."""
     p = sub.add_parser("demo", help=HELP, description=DESCRIPTION,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--out", default="flickerkit-demo", metavar="FOLDER",
@@ -36,6 +37,7 @@ def add_parser(sub) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    """Run ``demo``: write invented captures and their project, then ``report`` on them."""
     from .. import demo
     from ..errors import OutputError
     from . import build_parser, report

@@ -28,6 +28,7 @@ examples:
 
 
 def add_parser(sub) -> None:
+    """Add the ``drive`` command: the modelled light of a drive at dimming levels."""
     p = sub.add_parser("drive", help=HELP, description=DESCRIPTION,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     add_drive_options(p)
@@ -72,6 +73,7 @@ def _levels(args):
 
 
 def run(args: argparse.Namespace) -> int:
+    """Run ``drive``: assess the modelled light at each level and where each criterion fails."""
     from ..fileio import check_writable
     from ._driveopts import drive_from_args
 
@@ -101,6 +103,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def table(out: dict) -> str:
+    """Format the ``drive`` result as a terminal table."""
     from ..export.table import fmt, render
 
     rows = []

@@ -48,6 +48,7 @@ SHORT_TABLE_ROWS = 64
 
 
 def add_parser(sub) -> None:
+    """Add the ``steps`` command: a perceptually even brightness table for a PWM counter."""
     p = sub.add_parser("steps", help=HELP, description=DESCRIPTION,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     t = p.add_argument_group("table")
@@ -133,6 +134,7 @@ def _same_path(a: str, b: str) -> bool:
 
 
 def run(args: argparse.Namespace) -> int:
+    """Run ``steps``: build the brightness table and write it out."""
     from .. import __version__
     from ..errors import SettingsError
     from ..fileio import check_writable, write_text
@@ -188,7 +190,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def build(args: argparse.Namespace):
-    """The table the options describe."""
+    """Build the brightness table the options describe."""
     from ..errors import SettingsError
     from ..steps import build_table_percent, make_counter, read_transfer_csv
 
@@ -219,7 +221,7 @@ def build(args: argparse.Namespace):
 
 
 def transfer_from_files(args: argparse.Namespace, top: int):
-    """The product's transfer from ``COUNT=CAPTURE`` options (the mean light of each)."""
+    """Read the product's transfer from ``COUNT=CAPTURE`` options (the mean light of each)."""
     from ..errors import SettingsError
     from ..readers import read_capture
     from ..steps import transfer_from_captures
@@ -247,7 +249,7 @@ DRIVE_OPTIONS = ("drive_file", "method", "edges", "rise_us", "fall_us", "delay_u
 
 
 def drive_of(args: argparse.Namespace):
-    """The drive description the options give, or None (ideal PWM at --pwm-frequency)."""
+    """Return the drive the options describe, or None (ideal PWM at --pwm-frequency)."""
     if all(getattr(args, k, None) is None for k in DRIVE_OPTIONS):
         return None
     from ..errors import SettingsError
@@ -263,7 +265,7 @@ def drive_of(args: argparse.Namespace):
 
 
 def settings_record(args: argparse.Namespace) -> dict:
-    """The options a workbook records."""
+    """Return the options a workbook records."""
     return {
         "command": "steps", "steps": args.steps, "curve": args.curve_file or args.curve,
         "gamma": args.gamma, "min level [%]": args.min_percent, "max level [%]": args.max_percent,
@@ -291,7 +293,7 @@ def to_csv(rows: list[dict]) -> str:
 
 
 def terminal_table(table, *, all_rows: bool = False) -> str:
-    """The table and its summary for the terminal."""
+    """Format the table and its summary for the terminal."""
     from ..export.table import fmt, render
 
     rows = table.rows()

@@ -68,7 +68,7 @@ class Trace:
 
 
 def trace_of(capture: Any, frequency_hz: float | None, periods: int = 4) -> Trace:
-    """The first ``periods`` periods of a capture (20 ms when no period was found).
+    """Cut the first ``periods`` periods of a capture (20 ms when no period was found).
 
     Reads only the slice needed, so captures read in blocks stay in bounded memory.
     """
@@ -79,12 +79,12 @@ def trace_of(capture: Any, frequency_hz: float | None, periods: int = 4) -> Trac
 
 
 def safe_name(text: str) -> str:
-    """A file-name stem from a label (letters, digits, ``-``, ``_``, ``.``)."""
+    """Make a file-name stem from a label (letters, digits, ``-``, ``_``, ``.``)."""
     return re.sub(r"[^A-Za-z0-9_.-]+", "_", str(text)).strip("_.") or "capture"
 
 
 def waveform_figure(trace: Trace, record: dict[str, Any]):
-    """A few periods of the waveform, with the capture's mean, min and max marked.
+    """Draw a few periods of the waveform, with the capture's mean, min and max marked.
 
     Parameters
     ----------

@@ -24,7 +24,7 @@ _FLAT = json.JSONEncoder(ensure_ascii=False, allow_nan=False, separators=(", ", 
 
 
 def _flat(v: Any) -> bool:
-    """True for a scalar, or an object or list without containers inside."""
+    """Return whether ``v`` is a scalar, or an object or list without containers inside."""
     if isinstance(v, dict):
         v = v.values()
     elif not isinstance(v, list):

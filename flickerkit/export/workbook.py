@@ -27,8 +27,11 @@ REPLACED_NOTE = ("control characters in the input text, which a workbook cannot 
 
 
 def workbook_text(text: str) -> tuple[str, bool]:
-    """``text`` with each control character a workbook cannot hold replaced by a visible
-    ``[U+XXXX]`` marker; and whether anything was replaced."""
+    """Mark the control characters a workbook cannot hold.
+
+    Returns ``text`` with each such character replaced by a visible ``[U+XXXX]`` marker,
+    and whether anything was replaced.
+    """
     out, n = _ILLEGAL.subn(lambda m: f"[U+{ord(m.group()):04X}]", text)
     return out, bool(n)
 
@@ -38,7 +41,7 @@ SIGNIFICANT_DIGITS = 4
 
 
 def sig_format(value: float, digits: int = SIGNIFICANT_DIGITS) -> str:
-    """An Excel number format showing ``value`` with about ``digits`` significant digits.
+    """Return an Excel number format showing ``value`` with about ``digits`` significant digits.
 
     Whole numbers show as whole numbers; very large or small magnitudes in
     scientific notation. Only the display changes: the cell keeps the value.
@@ -185,8 +188,10 @@ def fit_rows(ws, min_row: int = 1, line_pt: float = 13.0, max_row: int | None = 
 
 
 def _hf(text: str, limit: int = 40) -> str:
-    """Header or footer text: control characters marked, '&' escaped, cut to fit a third
-    of a portrait page."""
+    """Make header or footer text: control characters marked, '&' escaped.
+
+    The text is cut to ``limit`` characters, a third of a portrait page.
+    """
     text = workbook_text(str(text))[0]
     if len(text) > limit:
         text = text[:limit - 1].rstrip() + "…"
@@ -195,7 +200,7 @@ def _hf(text: str, limit: int = 40) -> str:
 
 def write_turned(ws, columns: Sequence[tuple[str, str]], records: Sequence[dict[str, Any]], *,
                  head_width: int = 40, value_width: int = 18) -> int:
-    """A table turned for print: figures run down (column A), captures across (row 1).
+    """Write a table turned for print: figures run down (column A), captures across (row 1).
 
     ``columns`` are (heading, dotted key); the first is the capture label and
     heads the columns. Returns the last row written.

@@ -14,7 +14,10 @@ from .options import ReadOptions
 
 def channel_of(data: np.ndarray, options: ReadOptions, name: str,
                what: str) -> tuple[np.ndarray, int]:
-    """The column of a 1-D or 2-D array that ``options.column`` names, and its 1-based number."""
+    """Pick the column that ``options.column`` names from a 1-D or 2-D array.
+
+    Returns the column and its 1-based number.
+    """
     if data.ndim == 1:
         if options.column not in (None, 1, "1"):
             raise InputError(f"{what} has one {what == 'WAV file' and 'channel' or 'column'}; "
@@ -41,7 +44,7 @@ def unnamed_choice(count: int, options: ReadOptions, name: str, what: str) -> li
 
 
 def column_number(column, k: int, what: str, name: str) -> int:
-    """A 1-based column (channel) number of a binary file, checked against its ``k``."""
+    """Check a 1-based column (channel) number of a binary file against its ``k`` columns."""
     col = column if column is not None else 1
     try:
         col = int(col)

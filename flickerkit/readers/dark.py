@@ -23,7 +23,7 @@ def _dark_number(value: float) -> tuple[float, str]:
 
 def dark_level(dark: float | str, options: ReadOptions,
                capture: str | None = None) -> tuple[float, str]:
-    """The level to subtract and the note saying so.
+    """Return the dark level to subtract and the note saying so.
 
     Parameters
     ----------

@@ -56,6 +56,7 @@ class FileSignal:
         return self.shape[0]
 
     def with_dark(self, dark: float) -> "FileSignal":
+        """Return a view of the same file with ``dark`` more subtracted [signal unit]."""
         out = FileSignal(self.path, self.stored, self.offset, self.shape[0],
                          channels=self.channels, channel=self.channel, dark=self.dark + dark,
                          zero=self.zero, scale=self.scale)
@@ -93,7 +94,7 @@ class FileSignal:
 
 def file_signal(arr: np.ndarray, path: Path, column: int, *, zero: float = 0.0,
                 scale: float = 1.0) -> FileSignal:
-    """A FileSignal over one column of a memory-mapped 1-D or 2-D C-ordered array.
+    """Make a FileSignal over one column of a memory-mapped 1-D or 2-D C-ordered array.
 
     Parameters
     ----------

@@ -66,9 +66,11 @@ class LineBounded(io.RawIOBase):
         self._offset = 0  # bytes read
 
     def readable(self) -> bool:
+        """Return True: the file is open for reading."""
         return True
 
     def readinto(self, buffer) -> int:
+        """Read into ``buffer``, refusing a line longer than :data:`MAX_LINE_BYTES`."""
         view = memoryview(buffer)[:MAX_LINE_BYTES]
         n = self._fh.readinto(view)
         if not n:
@@ -92,6 +94,7 @@ class LineBounded(io.RawIOBase):
                          f"a text capture holds one sample per line", source=str(self.path))
 
     def close(self) -> None:
+        """Close the file."""
         self._fh.close()
         super().close()
 

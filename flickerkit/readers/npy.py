@@ -19,7 +19,7 @@ from .timebase import uniform, uniform_blocks
 
 
 def _npy_time_checked(data, fs: float, name: str) -> float:
-    """The rate from column 1 of a 2-D ``.npy``, refused if it cannot be seconds.
+    """Check that column 1 of a 2-D ``.npy`` can be seconds; return its sample rate ``fs`` [Hz].
 
     Column 1 is seconds by convention, with no unit stated: a sample count
     (0, 1, 2, ...) or a rate too slow for light is refused, as for a text table.

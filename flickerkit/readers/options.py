@@ -75,7 +75,7 @@ class ReadOptions:
 
 
 def dark_option(dark: float | str | None, base: Path | None = None) -> float | str | None:
-    """A dark-level setting as the reader takes it: a number, or the path of a dark capture.
+    """Turn a dark-level setting into what the reader takes: a number, or a dark capture's path.
 
     Parameters
     ----------

@@ -62,7 +62,7 @@ class FormatRead:
     channels: tuple[str, ...] = ()
 
     def record(self) -> ReadRecord:
-        """The echo of what was read (:class:`~flickerkit.capture.ReadRecord`)."""
+        """Return the echo of what was read (:class:`~flickerkit.capture.ReadRecord`)."""
         return ReadRecord(layout=self.layout, column=self.column, unit=self.unit,
                           time_base=self.time_base, sample_rate_hz=float(self.sample_rate_hz),
                           samples=int(self.samples.shape[0]), rows_skipped=self.rows_skipped,
@@ -71,7 +71,7 @@ class FormatRead:
 
 def binary_read(samples: np.ndarray | FileSignal, sample_rate_hz: float, notes: list[str],
                 warnings: list[str], *, fmt: str, column: str, time_base: str) -> FormatRead:
-    """A :class:`FormatRead` of a binary file: its format is its layout.
+    """Make the :class:`FormatRead` of a binary file: its format is its layout.
 
     Parameters
     ----------

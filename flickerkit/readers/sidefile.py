@@ -31,7 +31,7 @@ _BOMS = (
 
 def read_bytes(path: str | os.PathLike[str], what: str, *,
                limit: int = MAX_SIDE_FILE_BYTES) -> bytes:
-    """The bytes of a small regular file, refused at once if it is anything else.
+    """Read the bytes of a small regular file, refused at once if it is anything else.
 
     Parameters
     ----------
@@ -110,12 +110,12 @@ def decode(data: bytes, name: str, what: str) -> str:
 
 def read_text(path: str | os.PathLike[str], what: str, *,
               limit: int = MAX_SIDE_FILE_BYTES) -> str:
-    """Checked text of a side file (see :func:`read_bytes` and :func:`decode`)."""
+    """Read the checked text of a side file (see :func:`read_bytes` and :func:`decode`)."""
     return decode(read_bytes(path, what, limit=limit), os.fspath(path), what)
 
 
 def load_toml(path: str | os.PathLike[str], what: str) -> dict[str, Any]:
-    """A side file parsed as TOML, with one-line errors naming the file."""
+    """Parse a side file as TOML, with one-line errors naming the file."""
     import tomllib
 
     text = read_text(path, what)

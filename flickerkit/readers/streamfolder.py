@@ -17,7 +17,7 @@ STREAM_FOLDER_PREFIX = "flickerkit-stream-"
 
 
 def stream_folder(p: Path) -> Path:
-    """A new temporary folder for a streamed capture, named for the run and the capture."""
+    """Make a temporary folder for a streamed capture, named for the run and the capture."""
     import tempfile
 
     _remove_stale_stream_folders()

@@ -31,7 +31,7 @@ _NOT_LIGHT_UNITS = {"a", "ma", "ua", "µa", "amp", "amps", "ampere"}
 def choose_signal(names: list[str], units: list[str | None], channels: list[int],
                   tcol: int | None, tb: TimeBase | None, options: ReadOptions,
                   label: Callable[[int], str], warns: list[str], name: str) -> tuple[int, str]:
-    """The 0-based column to measure and why.
+    """Choose the 0-based column to measure, and say why.
 
     Parameters
     ----------

@@ -112,7 +112,7 @@ class TableLayout:
         return n
 
     def describe(self) -> str:
-        """The layout in a few words, for the read echo."""
+        """Describe the layout in a few words, for the read echo."""
         sep = {"\t": "tab", " ": "space", ",": "comma", ";": "semicolon"}.get(
             self.separator, repr(self.separator))
         mark = "comma" if self.decimal == "," else "point"
@@ -135,7 +135,7 @@ class TableLayout:
 
 
 def table_layout(p: Path, options: ReadOptions) -> TableLayout:
-    """The layout of a text table from its head.
+    """Find the layout of a text table from its head.
 
     Parameters
     ----------

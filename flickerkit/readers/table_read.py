@@ -93,7 +93,7 @@ def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
 
 
 def _parser_args(lay: TableLayout) -> dict[str, Any]:
-    """What every parse of the table tells pandas' C reader: separator, columns, encoding."""
+    """Return what every parse of the table tells pandas' C reader: separator, columns, encoding."""
     return {"sep": r"\s+" if lay.separator == " " else lay.separator, "header": None,
             "names": list(range(lay.width)), "engine": "c", "index_col": False,
             "encoding": "utf-8-sig" if lay.encoding == "utf-8-sig" else "latin-1"}
@@ -101,7 +101,7 @@ def _parser_args(lay: TableLayout) -> dict[str, Any]:
 
 def _table_read(lay: TableLayout, streamed: bool, samples: np.ndarray | FileSignal, fs: float,
                 notes: list[str], warnings: list[str]) -> FormatRead:
-    """The reader's account of a text table: its layout, column and time base."""
+    """Make the reader's account of a text table: its layout, column and time base."""
     meta: dict[str, Any] = {
         "column": lay.label(lay.signal),
         "format": "text table (streamed)" if streamed else "text table",

@@ -22,7 +22,7 @@ _HEAD_BYTES = 256 * 1024
 
 
 def decode_head(p: Path) -> tuple[str, str]:
-    """The head of a text table as text (whole lines) and its encoding; refuse UTF-16/binary."""
+    """Decode the head of a text table (whole lines) and name its encoding; refuse UTF-16/binary."""
     with p.open("rb") as fh:
         raw = fh.read(_HEAD_BYTES)
     if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or (
@@ -45,7 +45,7 @@ def decode_head(p: Path) -> tuple[str, str]:
 
 
 def to_float(field: str, decimal: str) -> float | None:
-    """A cell as a number (quotes stripped, ``decimal`` the mark), or None."""
+    """Read a cell as a number (quotes stripped, ``decimal`` the mark), or None."""
     f = field.strip().strip('"').strip("'").strip()
     if decimal == ",":
         if "." in f:
@@ -60,7 +60,7 @@ def to_float(field: str, decimal: str) -> float | None:
 
 
 def split_line(line: str, sep: str) -> list[str]:
-    """The raw fields of a line (runs of spaces for ``sep == " "``)."""
+    """Split a line into its raw fields (runs of spaces for ``sep == " "``)."""
     return line.split() if sep == " " else line.split(sep)
 
 
@@ -77,7 +77,7 @@ def cells(line: str, sep: str, lead: int = 0) -> list[str]:
 
 
 def _numeric_fields(line: str, sep: str, decimal: str, lead: int = 0) -> int:
-    """Number of fields if every field is numeric (trailing empty cells aside), else 0."""
+    """Count the fields if every field is numeric (trailing empty cells aside), else return 0."""
     fields = cells(line, sep, lead)
     if not fields:
         return 0
@@ -88,7 +88,7 @@ def _numeric_fields(line: str, sep: str, decimal: str, lead: int = 0) -> int:
 
 
 def row_fits(line: str, sep: str, decimal: str, k: int, lead: int = 0) -> bool:
-    """A data row: ``k`` numeric fields, then only numbers or empty cells."""
+    """Return whether ``line`` is a data row: ``k`` numeric fields, then numbers or empty cells."""
     if not line.strip() or line.lstrip().startswith(_COMMENT[:3]):
         return False
     fields = cells(line, sep, lead)
@@ -196,7 +196,7 @@ def _one_decimal_comma_column(lines: list[str], tail: list[str]) -> bool:
 
 
 def bracket_unit(name: str) -> str | None:
-    """The unit in brackets at the end of a name (``time (ms)`` -> ``ms``), or None."""
+    """Return the unit in brackets at the end of a name (``time (ms)`` -> ``ms``), or None."""
     m = re.search(r"[\(\[\{]\s*([^\)\]\}]+?)\s*[\)\]\}]\s*$", name)
     return m.group(1).strip() if m else None
 

@@ -97,7 +97,7 @@ class TimeBase:
 
 
 def _quantity(value: str, dec: str) -> tuple[float, str] | None:
-    """A number and the unit written after it (lower case, '' when none)."""
+    """Split a number from the unit written after it (lower case, '' when none)."""
     v = value.strip()
     if dec == ",":
         v = re.sub(r"(?<=\d),(?=\d)", ".", v, count=1)
@@ -237,7 +237,7 @@ def _unit_name(scale: float) -> str:
 
 def find_time(names: list[str], units: list[str | None], header: bool, head: np.ndarray,
               k: int) -> tuple[int | None, str | None]:
-    """The time-like column and what it is: ``"time"`` or ``"index"`` (by name, unit, values)."""
+    """Find the time-like column and its kind, ``"time"`` or ``"index"`` (by name, unit, values)."""
     if k < 2:
         return None, None
     if not header:
@@ -270,7 +270,7 @@ def steps_of(head: np.ndarray, c: int) -> float | None:
 def time_column_base(c: int, label: str, unit_text: str | None, name: str, header: bool,
                      opt_unit: float | None, stated: dict[str, Stated], step: float | None,
                       notes: list[str], warns: list[str]) -> TimeBase:
-    """A time column's scale, from the option, the header or units row, or the stated rate."""
+    """Scale a time column from the option, the header or units row, or the stated rate."""
     if opt_unit is not None:
         own_text = bare(unit_text or "")
         own = TIME_UNITS.get(own_text) if own_text else None
@@ -320,7 +320,7 @@ def _stated_rate(stated: dict[str, Stated]) -> tuple[float, str] | None:
 
 def stated_base(index_col: int | None, label: str | None, head: np.ndarray,
                 stated: dict[str, Stated], name: str) -> TimeBase:
-    """The time base a table without a time column states (interval, rate, time per division)."""
+    """Read the time base stated by a table without a time column (interval, rate, per division)."""
     iv, rt = stated.get("interval"), stated.get("rate")
     if iv and rt and abs(1 / iv.value - rt.value) > RATE_AGREEMENT * rt.value:
         raise InputError(f"the file states a sample interval of {iv.value:.6g} s ({iv.key!r}) "

@@ -36,7 +36,7 @@ UNIT_TOKENS = set(TIME_UNITS) | INDEX_UNITS | {
 
 
 def bare(token: str) -> str:
-    """A unit token without brackets, in lower case."""
+    """Strip the brackets from a unit token and lower its case."""
     return token.strip().strip("()[]{}").strip().lower()
 
 
