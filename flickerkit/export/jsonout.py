@@ -62,7 +62,7 @@ def _write(v: Any, pad: str, out: list[str]) -> None:
 
 
 def dumps(obj: Any) -> str:
-    """JSON text with NaN/inf as null, stable key order, final newline.
+    """Return JSON text with NaN/inf as null, stable key order, final newline.
 
     Objects and lists that hold others are indented by two spaces; a flat one
     (a table row, a harmonic, a list of numbers) is written on one line. Python's
@@ -76,7 +76,7 @@ def dumps(obj: Any) -> str:
 
 
 def dumps_object_item(obj: dict[str, Any]) -> str:
-    """One object of a top-level JSON list, as :func:`dumps` writes it inside the list.
+    """Return one object of a top-level JSON list, as :func:`dumps` writes it inside the list.
 
     ``dumps_list([dumps_object_item(o) for o in objs]) == dumps(objs)``, so the objects of
     a long list can be written as they arrive (a batch's records while the workers run).
@@ -93,7 +93,7 @@ def dumps_object_item(obj: dict[str, Any]) -> str:
 
 
 def dumps_list(items: Sequence[str]) -> str:
-    """The JSON text of a list from its objects' :func:`dumps_object_item` texts."""
+    """Join objects' :func:`dumps_object_item` texts into the JSON text of a list."""
     if not items:
         return "[]\n"
     return "[\n  " + ",\n  ".join(items) + "\n]\n"
