@@ -496,7 +496,9 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
                else "")))
     # clipping needs noise that the rail removed: judged with the second-difference noise,
     # which a noise-free flat top (or edges between samples) does not have
-    if real_noise and metrics.clipping_from_counts(n, at_max, at_next, metrics.noise_rms(head)):
+    # (the counts first: the noise estimate is a pass over the head, needed only at a rail)
+    if real_noise and metrics.rail_counts(n, at_max, at_next) \
+            and metrics.clipping_from_counts(n, at_max, at_next, metrics.noise_rms(head)):
         warnings.warn(CaptureWarning(
             f"clipping suspected: {at_max / n:.1%} of samples sit exactly at "
             f"the maximum {hi:.6g} while the rest is noisy; the recorder's range may be too "

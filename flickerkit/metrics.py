@@ -409,7 +409,17 @@ def clipping_from_counts(n: int, at_max: int, at_next: int, noise_std: float) ->
     whose noise is below one code step are not flagged: their top code is
     in the tail of the noise distribution, rarer than the code below it.
     """
-    if noise_std <= 0 or n < 100 or at_max < 0.01 * n or at_next == 0:
+    return noise_std > 0 and rail_counts(n, at_max, at_next)
+
+
+def rail_counts(n: int, at_max: int, at_next: int) -> bool:
+    """The counts half of :func:`clipping_from_counts` (no noise estimate needed).
+
+    True when at least 1 % of ``n`` samples sit exactly at the maximum and it
+    occurs more than twice as often as the next lower value (``at_next``).
+    A caller can test this first and estimate the noise only when it holds.
+    """
+    if n < 100 or at_max < 0.01 * n or at_next == 0:
         return False
     return bool(at_max > 2 * at_next)
 
