@@ -508,7 +508,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     bins = spec.harmonic_bins()
     shown = bins[: settings.harmonics]
     for order, (b, ph) in enumerate(zip(shown, spec.phase_at(shown)), start=1):
-        harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
+        harmonics.append(Harmonic(order, float(spec.frequencies_at(b)),
                                   float(spec.amplitudes[b]), float(np.degrees(ph))))
 
     cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))

@@ -370,8 +370,9 @@ def _refine_by_phase(seg: np.ndarray, period: float, passes: int = 2) -> float:
         if half < 4:
             return period
         L = int(round(half * period))
-        z1 = _fundamental_sum(seg, 0, L, period)
-        z2 = _fundamental_sum(seg, L, 2 * L, period)
+        with _one_blas_thread():  # memory-bound products: threads only wait for each other
+            z1 = _fundamental_sum(seg, 0, L, period)
+            z2 = _fundamental_sum(seg, L, 2 * L, period)
         if abs(z1) == 0 or abs(z2) == 0:
             return period
         dnu = float(np.angle(z2 / z1)) / (2.0 * np.pi * L)  # cycles per sample
