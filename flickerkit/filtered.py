@@ -181,9 +181,7 @@ def filtered_percent_flicker(
         fit = int(n_avail // T) if n_avail < x.shape[0] else int(np.floor(n_avail / T + 0.01))
         if fit < period.periods:
             period = replace(period, periods=fit)
-    # JA10.5 asks for at least 1 s: a cheaper transform may not keep fewer periods than that
-    one_second = int(np.ceil(fs / period.period_samples)) if period.period_samples else 1
-    n_span, p = whole_period_span(n_avail, period, min_periods=one_second)
+    n_span, p = whole_period_span(n_avail, period)
     if p >= 1:
         seg = x[:n_span]
     else:

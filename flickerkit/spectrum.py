@@ -167,8 +167,7 @@ class Spectrum:
 NOISE_FLOOR_BINS = 65_536
 
 
-def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True,
-                      min_periods: int = 1) -> tuple[int, int]:
+def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True) -> tuple[int, int]:
     """Length and period count of the whole-period span of a capture to transform.
 
     Parameters
@@ -180,9 +179,6 @@ def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True,
     fast : bool, optional
         Choose the span by the cost of its transform (see Notes); otherwise the
         longest whole-period span.
-    min_periods : int, optional
-        Fewest periods a fast span may keep (when the capture holds that many),
-        on top of the fractions in the Notes.
 
     Returns
     -------
@@ -211,11 +207,11 @@ def whole_period_span(n_samples: int, period: Periodicity, *, fast: bool = True,
     length = min(n_samples, int(round(p_max * T)))
     if not fast or p_max < 2:
         return length, p_max
-    return _cheap_span(n_samples, float(T), p_max, min(max(1, int(min_periods)), p_max))
+    return _cheap_span(n_samples, float(T), p_max)
 
 
 @lru_cache(maxsize=64)
-def _cheap_span(n_samples: int, T: float, p_max: int, p_min: int = 1) -> tuple[int, int]:
+def _cheap_span(n_samples: int, T: float, p_max: int) -> tuple[int, int]:
     """Length and periods of the span chosen by :func:`whole_period_span` (fast).
 
     Cached: the spectrum and JA10.6 filtering of one capture ask for the same span.
@@ -226,7 +222,7 @@ def _cheap_span(n_samples: int, T: float, p_max: int, p_min: int = 1) -> tuple[i
         p = np.arange(p_hi, p_lo - 1, -1, dtype=np.int64)
         return p, np.minimum(n_samples, np.round(p * T).astype(np.int64))
 
-    p_exact = max(p_min, int(np.ceil(_EXACT_FRACTION_KEPT * p_max)))
+    p_exact = max(1, int(np.ceil(_EXACT_FRACTION_KEPT * p_max)))
     p, n = spans(p_max, p_exact)
     cost = fft_cost(n)
     smooth = np.flatnonzero(cost == n)
@@ -234,7 +230,7 @@ def _cheap_span(n_samples: int, T: float, p_max: int, p_min: int = 1) -> tuple[i
         return int(n[smooth[0]]), int(p[smooth[0]])
     budget = _COST_SLACK * length
     best = (np.inf, length, p_max)
-    p_lo = max(p_min, int(np.ceil(_MIN_FRACTION_KEPT * p_max)))
+    p_lo = max(1, int(np.ceil(_MIN_FRACTION_KEPT * p_max)))
     hi = p_exact - 1
     while True:
         good = np.flatnonzero(cost <= budget)
