@@ -442,7 +442,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     span_n = int(bounds[-1] - bounds[0])
     mean = sums.span_total / span_n
     above, span_above, at_max, at_next = reduce.second_pass(
-        x, bounds, sums.total / sums.lengths, mean, hi, block=block)
+        x, bounds, sums.total / sums.lengths, mean, hi, block=block, block_max=tot.block_max)
     per = metrics.stats_from_sums(sums.hi, sums.lo, sums.total, above)
     if period.frequency_hz is None:
         per = metrics.PeriodStats(1, per.percent_flicker_median, per.percent_flicker_worst,

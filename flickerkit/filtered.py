@@ -196,14 +196,20 @@ def filtered_percent_flicker(
     out = []
     work = np.empty_like(spec)
 
-    def keep_only(a: int, b: int, dc: bool) -> np.ndarray:
-        """The spectrum with bins a:b (and the mean when dc) kept, the rest zero."""
-        work[:a] = 0.0
-        work[a:b] = spec[a:b]
-        work[b:] = 0.0
-        if dc:
+    extremes: dict[tuple[int, int], tuple[float, float]] = {}
+
+    def extremes_of(a: int, b: int) -> tuple[float, float]:
+        """Largest and smallest sample of the waveform of the mean and bins a:b (a >= 1)
+        [input unit]; one inverse transform per distinct selection (the band below 90 Hz
+        usually keeps the same bins as the 90 Hz cut-off)."""
+        if (a, b) not in extremes:
+            work[1:a] = 0.0
+            work[a:b] = spec[a:b]
+            work[b:] = 0.0
             work[0] = spec[0]
-        return work
+            y = fft.irfft(work, n)
+            extremes[(a, b)] = (float(y.max()), float(y.min()))
+        return extremes[(a, b)]
 
     # components below 1e-12 of the mean change a percent flicker by less than 1e-10 %:
     # a cut-off that keeps none of the others gives steady light without an inverse transform,
@@ -225,14 +231,13 @@ def filtered_percent_flicker(
         if count == last_count and fc >= last_fc:  # nested cut-offs keeping the same components
             out.append(last_value)
             continue
-        y = fft.irfft(keep_only(0, k_keep, False), n)
-        hi, lo = float(y.max()), float(y.min())
+        hi, lo = extremes_of(1, max(k_keep, 1))
         value = percent_flicker_of_extremes(hi, lo)
         out.append(value)
         last_count, last_value, last_fc = count, value, fc
     bands = []
     for lo_hz, hi_hz in bands_hz:
-        if lo_hz <= 0:  # freqs < hi (1 - rtol), the mean left out
+        if lo_hz <= 0:  # freqs < hi (1 - rtol) (the mean is added below in any case)
             a, b = 1, int(np.searchsorted(freqs, hi_hz * (1.0 - rtol), side="left"))
         else:  # hi (1 + rtol) >= freqs > lo (1 + rtol)
             a = max(1, int(np.searchsorted(freqs, lo_hz * (1.0 + rtol), side="right")))
@@ -240,10 +245,8 @@ def filtered_percent_flicker(
         if b <= a or not np.any(significant[a:b]):
             bands.append((float(lo_hz), float(hi_hz), 0.0))
             continue
-        y = fft.irfft(keep_only(a, b, True), n)
-        hi, lo = float(y.max()), float(y.min())
-        bands.append((float(lo_hz), float(hi_hz),
-                      percent_flicker_of_extremes(hi, lo)))
+        hi, lo = extremes_of(a, b)
+        bands.append((float(lo_hz), float(hi_hz), percent_flicker_of_extremes(hi, lo)))
     for note in notes:
         warnings.warn(note, CaptureWarning, stacklevel=2)
     return FilteredFlicker(cutoffs_hz=cutoffs, percent_flicker=tuple(out), whole_periods=int(p),

@@ -234,7 +234,25 @@ def periodic_average_and_noise(samples: np.ndarray,
     x = np.asarray(samples[:NOISE_SAMPLES], dtype=np.float64)
     template, phase = _fold(x, period_samples)
     resid = x - template[phase]
-    return template, float(1.4826 * np.median(np.abs(resid - np.median(resid))))
+    return template, float(1.4826 * _mad_in_place(resid))
+
+
+def _median_in_place(a: np.ndarray) -> float:
+    """``numpy.median`` of a non-empty 1-D array, partitioning the array itself (no copy);
+    nan if it holds a nan, as numpy's."""
+    k = a.shape[0] // 2
+    odd = a.shape[0] % 2 == 1
+    a.partition((k, -1) if odd else (k - 1, k, -1))  # the last: the largest, or a nan
+    if np.isnan(a[-1]):
+        return float("nan")
+    return float(a[k]) if odd else float((a[k - 1] + a[k]) / 2.0)
+
+
+def _mad_in_place(a: np.ndarray) -> float:
+    """Median absolute deviation from the median of a finite array, overwriting it."""
+    np.subtract(a, _median_in_place(a), out=a)
+    np.abs(a, out=a)
+    return _median_in_place(a)
 
 
 def synchronous_average(samples: np.ndarray, period_samples: float) -> np.ndarray:
@@ -295,8 +313,7 @@ def noise_rms(samples: np.ndarray, period_samples: float | None = None) -> float
         return 0.0
     if period_samples is not None and n >= 2 * period_samples and period_samples >= 4:
         return periodic_average_and_noise(x, period_samples)[1]
-    d2 = np.diff(x, 2)
-    return float(1.4826 * np.median(np.abs(d2 - np.median(d2))) / np.sqrt(6.0))
+    return float(1.4826 * _mad_in_place(np.diff(x, 2)) / np.sqrt(6.0))
 
 
 def noise_percent_flicker(noise_std: float, mean: float, samples_per_period: float) -> float:
