@@ -69,16 +69,18 @@ class Periodicity:
 
 def _autocorrelation(x0: np.ndarray, max_lag: int) -> tuple[np.ndarray, np.ndarray, int]:
     """Unbiased normalised autocorrelation for lags 0..max_lag (r[0] = 1), the power
-    spectrum it came from, and that spectrum's transform length (at least twice the
-    signal's, zero-padded)."""
+    spectrum it came from, and that spectrum's transform length (zero-padded to at
+    least ``n + max_lag``, so no lag up to max_lag wraps round: 1.5 n for half the
+    signal, a quarter less work than twice its length)."""
     from numpy import fft
 
     from .fftlength import next_fast_len
 
     n = x0.shape[0]
-    nfft = next_fast_len(2 * n)
+    nfft = next_fast_len(n + max_lag)
     spec = fft.rfft(x0, nfft)
-    power = spec.real**2 + spec.imag**2
+    power = spec.real**2
+    power += spec.imag**2
     r = fft.irfft(power, nfft)[: max_lag + 1]
     r /= n - np.arange(max_lag + 1)
     return r / r[0], power, nfft
