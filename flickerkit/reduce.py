@@ -137,7 +137,6 @@ def second_pass(x: Any, bounds: np.ndarray, period_means: np.ndarray, span_mean:
     span_above = 0.0
     at_max, nxt, at_nxt = 0, -np.inf, 0
     b0, b1 = int(bounds[0]), int(bounds[-1])
-    work = np.empty(0)
     known = len(block_max) == -(-length(x) // block)
     for i, (off, b) in enumerate(blocks(x, block=block)):
         top = block_max[i] if known else float(b.max())
@@ -158,10 +157,7 @@ def second_pass(x: Any, bounds: np.ndarray, period_means: np.ndarray, span_mean:
         part = b[a - off : e - off]
         starts, period = _segments(a, part.size, bounds)
         lengths = np.diff(np.append(starts, part.size))
-        if work.size < part.size:
-            work = np.empty(part.size)
-        w = work[: part.size]
-        w[:] = np.repeat(period_means[period], lengths)
+        w = np.repeat(period_means[period], lengths)  # each sample's period mean; then work
         np.subtract(part, w, out=w)
         np.maximum(w, 0.0, out=w)
         np.add.at(above, period, np.add.reduceat(w, starts))
