@@ -206,7 +206,12 @@ def stats_from_sums(hi: np.ndarray, lo: np.ndarray, total: np.ndarray,
 
 def _fold(x: np.ndarray, period_samples: float) -> tuple[np.ndarray, np.ndarray]:
     bins = int(round(period_samples))
-    phase = np.floor(np.mod(np.arange(x.shape[0]) / period_samples, 1.0) * bins).astype(np.int64)
+    u = np.arange(x.shape[0], dtype=np.float64)  # in place: the same values, fewer temporaries
+    u /= period_samples
+    u -= np.floor(u)  # mod 1 of u >= 0, exactly (numpy.mod is ten times slower)
+    u *= bins
+    np.floor(u, out=u)
+    phase = u.astype(np.int64)
     np.minimum(phase, bins - 1, out=phase)
     counts = np.bincount(phase, minlength=bins)
     template = np.bincount(phase, weights=x, minlength=bins) / np.maximum(counts, 1)
@@ -233,7 +238,8 @@ def periodic_average_and_noise(samples: np.ndarray,
     """
     x = np.asarray(samples[:NOISE_SAMPLES], dtype=np.float64)
     template, phase = _fold(x, period_samples)
-    resid = x - template[phase]
+    resid = np.take(template, phase)
+    np.subtract(x, resid, out=resid)
     return template, float(1.4826 * _mad_in_place(resid))
 
 
