@@ -155,13 +155,20 @@ def second_pass(x: Any, bounds: np.ndarray, period_means: np.ndarray, span_mean:
         if e <= a:
             continue
         part = b[a - off : e - off]
-        starts, period = _segments(a, part.size, bounds)
-        lengths = np.diff(np.append(starts, part.size))
-        w = np.repeat(period_means[period], lengths)  # each sample's period mean; then work
-        np.subtract(part, w, out=w)
-        np.maximum(w, 0.0, out=w)
-        np.add.at(above, period, np.add.reduceat(w, starts))
-        np.subtract(part, span_mean, out=w)
-        np.maximum(w, 0.0, out=w)
-        span_above += float(np.sum(w))
+        for c in range(0, part.size, _CHUNK):  # temporaries that stay in the cache
+            sub = part[c : c + _CHUNK]
+            starts, period = _segments(a + c, sub.size, bounds)
+            lengths = np.diff(np.append(starts, sub.size))
+            w = np.repeat(period_means[period], lengths)  # each sample's period mean; then work
+            np.subtract(sub, w, out=w)
+            np.maximum(w, 0.0, out=w)
+            np.add.at(above, period, np.add.reduceat(w, starts))
+            np.subtract(sub, span_mean, out=w)
+            np.maximum(w, 0.0, out=w)
+            span_above += float(np.sum(w))
     return above, span_above, at_max, at_nxt
+
+
+#: Samples the second pass works on at a time within a block (512 KiB temporaries: six
+#: passes over them run in the cache, not in memory).
+_CHUNK = 2**16
