@@ -35,8 +35,9 @@ import numpy as np
 
 ROOT = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..")
 ENV = {**os.environ, "PYTHONPATH": ROOT}
-#: The measuring process reports its own peak resident memory (VmHWM) on stderr.
-_MEASURE = ("import sys; from flickerkit.cli import main; rc = main(sys.argv[1:]); "
+#: The measuring process runs the command line as a user's does (main() reads sys.argv) and
+#: reports its own peak resident memory (VmHWM) on stderr.
+_MEASURE = ("import sys; from flickerkit.cli import main; rc = main(); "
             "hwm = [l for l in open('/proc/self/status') if l.startswith('VmHWM')][0]; "
             "print('peak_kib', hwm.split()[1], file=sys.stderr); raise SystemExit(rc)")
 _BARE_FFT = "import sys, numpy as np; np.fft.rfft(np.load(sys.argv[1]))"
