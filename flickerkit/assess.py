@@ -442,7 +442,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     span_n = int(bounds[-1] - bounds[0])
     mean = sums.span_total / span_n
     above, span_above, at_max, at_next = reduce.second_pass(
-        x, bounds, sums.total / sums.lengths, mean, hi, block=block)
+        x, bounds, sums.total / sums.lengths, mean, hi, block=block, block_max=tot.block_max)
     per = metrics.stats_from_sums(sums.hi, sums.lo, sums.total, above)
     if period.frequency_hz is None:
         per = metrics.PeriodStats(1, per.percent_flicker_median, per.percent_flicker_worst,
@@ -496,9 +496,8 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
                else "")))
     # clipping needs noise that the rail removed: judged with the second-difference noise,
     # which a noise-free flat top (or edges between samples) does not have
-    # (the counts are tested first, with any noise: the noise estimate is then needed only
-    # for the rare capture whose counts look clipped)
-    if real_noise and metrics.clipping_from_counts(n, at_max, at_next, np.inf) \
+    # (the counts first: the noise estimate is a pass over the head, needed only at a rail)
+    if real_noise and metrics.rail_counts(n, at_max, at_next) \
             and metrics.clipping_from_counts(n, at_max, at_next, metrics.noise_rms(head)):
         warnings.warn(CaptureWarning(
             f"clipping suspected: {at_max / n:.1%} of samples sit exactly at "
@@ -509,7 +508,7 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     bins = spec.harmonic_bins()
     shown = bins[: settings.harmonics]
     for order, (b, ph) in enumerate(zip(shown, spec.phase_at(shown)), start=1):
-        harmonics.append(Harmonic(order, float(spec.frequencies_hz[b]),
+        harmonics.append(Harmonic(order, float(spec.frequencies_at(b)),
                                   float(spec.amplitudes[b]), float(np.degrees(ph))))
 
     cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))

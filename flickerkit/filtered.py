@@ -173,9 +173,14 @@ def filtered_percent_flicker(
         period = fundamental_frequency(x, fs)
     notes: list[str] = []
     n_avail = x.shape[0] if max_samples is None else min(x.shape[0], int(max_samples))
-    if n_avail < x.shape[0] and period.period_samples is not None and period.periods >= 1:
-        period = replace(period, periods=min(period.periods,
-                                             int(n_avail // period.period_samples)))
+    if period.period_samples is not None and period.periods >= 1:
+        T = period.period_samples
+        # only the periods within the samples used count: the count may be a longer
+        # capture's (assess passes only its start), and a span cut at the end of the
+        # samples would not hold whole periods (counted as fundamental_frequency does)
+        fit = int(n_avail // T) if n_avail < x.shape[0] else int(np.floor(n_avail / T + 0.01))
+        if fit < period.periods:
+            period = replace(period, periods=fit)
     n_span, p = whole_period_span(n_avail, period)
     if p >= 1:
         seg = x[:n_span]
@@ -186,10 +191,28 @@ def filtered_percent_flicker(
                      "spurious components below the cut-offs")
     n = seg.shape[0]
     spec = fft.rfft(seg)
-    freqs = np.arange(spec.shape[0]) * (fs / n)
+    freqs = np.arange(spec.shape[0]) * (fs / n)  # increasing: each selection is a slice
     nyquist = fs / 2.0
     out = []
-    work = np.zeros_like(spec)
+    work = np.empty_like(spec)
+
+    extremes: dict[tuple[int, int], tuple[float, float]] = {}
+
+    def extremes_of(a: int, b: int) -> tuple[float, float]:
+        """Return the largest and smallest sample of the mean and bins a:b (a >= 1) [input unit].
+
+        One inverse transform per distinct selection (the band below 90 Hz usually keeps
+        the same bins as the 90 Hz cut-off).
+        """
+        if (a, b) not in extremes:
+            work[1:a] = 0.0
+            work[a:b] = spec[a:b]
+            work[b:] = 0.0
+            work[0] = spec[0]
+            y = fft.irfft(work, n)
+            extremes[(a, b)] = (float(y.max()), float(y.min()))
+        return extremes[(a, b)]
+
     # components below 1e-12 of the mean change a percent flicker by less than 1e-10 %:
     # a cut-off that keeps none of the others gives steady light without an inverse transform,
     # and one that keeps the same ones as the previous cut-off gives the same waveform
@@ -202,38 +225,30 @@ def filtered_percent_flicker(
         if fc >= nyquist:
             notes.append(f"cut-off {fc:g} Hz is at or above the Nyquist frequency "
                          f"{nyquist:g} Hz; nothing is removed there")
-        keep = freqs <= fc * (1.0 + rtol)
-        count = int(np.count_nonzero(significant & keep))
+        k_keep = int(np.searchsorted(freqs, fc * (1.0 + rtol), side="right"))  # freqs <= ...
+        count = int(np.count_nonzero(significant[:k_keep]))
         if count == 0 and spec[0].real > 0:
             out.append(0.0)
             continue
         if count == last_count and fc >= last_fc:  # nested cut-offs keeping the same components
             out.append(last_value)
             continue
-        work[:] = 0.0
-        work[keep] = spec[keep]
-        y = fft.irfft(work, n)
-        hi, lo = float(y.max()), float(y.min())
+        hi, lo = extremes_of(1, max(k_keep, 1))
         value = percent_flicker_of_extremes(hi, lo)
         out.append(value)
         last_count, last_value, last_fc = count, value, fc
     bands = []
     for lo_hz, hi_hz in bands_hz:
-        if lo_hz <= 0:
-            sel = freqs < hi_hz * (1.0 - rtol)
-        else:
-            sel = (freqs > lo_hz * (1.0 + rtol)) & (freqs <= hi_hz * (1.0 + rtol))
-        sel[0] = False
-        if not np.any(significant & sel):
+        if lo_hz <= 0:  # freqs < hi (1 - rtol) (the mean is added below in any case)
+            a, b = 1, int(np.searchsorted(freqs, hi_hz * (1.0 - rtol), side="left"))
+        else:  # hi (1 + rtol) >= freqs > lo (1 + rtol)
+            a = max(1, int(np.searchsorted(freqs, lo_hz * (1.0 + rtol), side="right")))
+            b = int(np.searchsorted(freqs, hi_hz * (1.0 + rtol), side="right"))
+        if b <= a or not np.any(significant[a:b]):
             bands.append((float(lo_hz), float(hi_hz), 0.0))
             continue
-        work[:] = 0.0
-        work[sel] = spec[sel]
-        work[0] = spec[0]
-        y = fft.irfft(work, n)
-        hi, lo = float(y.max()), float(y.min())
-        bands.append((float(lo_hz), float(hi_hz),
-                      percent_flicker_of_extremes(hi, lo)))
+        hi, lo = extremes_of(a, b)
+        bands.append((float(lo_hz), float(hi_hz), percent_flicker_of_extremes(hi, lo)))
     for note in notes:
         warnings.warn(note, CaptureWarning, stacklevel=2)
     return FilteredFlicker(cutoffs_hz=cutoffs, percent_flicker=tuple(out), whole_periods=int(p),

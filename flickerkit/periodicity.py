@@ -69,16 +69,18 @@ class Periodicity:
 
 def _autocorrelation(x0: np.ndarray, max_lag: int) -> tuple[np.ndarray, np.ndarray, int]:
     """Unbiased normalised autocorrelation for lags 0..max_lag (r[0] = 1), the power
-    spectrum it came from, and that spectrum's transform length (at least twice the
-    signal's, zero-padded)."""
+    spectrum it came from, and that spectrum's transform length (zero-padded to at
+    least ``n + max_lag``, so no lag up to max_lag wraps round: 1.5 n for half the
+    signal, a quarter less work than twice its length)."""
     from numpy import fft
 
     from .fftlength import next_fast_len
 
     n = x0.shape[0]
-    nfft = next_fast_len(2 * n)
+    nfft = next_fast_len(n + max_lag)
     spec = fft.rfft(x0, nfft)
-    power = spec.real**2 + spec.imag**2
+    power = spec.real**2
+    power += spec.imag**2
     r = fft.irfft(power, nfft)[: max_lag + 1]
     r /= n - np.arange(max_lag + 1)
     return r / r[0], power, nfft
@@ -370,10 +372,9 @@ def _refine_by_phase(seg: np.ndarray, period: float, passes: int = 2) -> float:
         if half < 4:
             return period
         L = int(round(half * period))
-        k = np.arange(2 * L, dtype=np.float64)
-        w = np.exp(-2j * np.pi * k / period)
-        z1 = np.dot(seg[:L], w[:L])
-        z2 = np.dot(seg[L:2 * L], w[L:])
+        with _one_blas_thread():  # memory-bound products: threads only wait for each other
+            z1 = _fundamental_sum(seg, 0, L, period)
+            z2 = _fundamental_sum(seg, L, 2 * L, period)
         if abs(z1) == 0 or abs(z2) == 0:
             return period
         dnu = float(np.angle(z2 / z1)) / (2.0 * np.pi * L)  # cycles per sample
@@ -382,6 +383,36 @@ def _refine_by_phase(seg: np.ndarray, period: float, passes: int = 2) -> float:
             return period
         period = new
     return period
+
+
+#: Samples per row of the blocked sums in :func:`_fundamental_sum`.
+_SUM_BLOCK = 4096
+
+
+def _fundamental_sum(x: np.ndarray, a: int, b: int, period: float) -> complex:
+    """``sum x[k] exp(-2 pi i k / period)`` over ``a <= k < b``, without a full-length
+    complex array.
+
+    ``k = a + m B + j`` (B = :data:`_SUM_BLOCK`) splits the phase factor into
+    ``exp(-2 pi i (a + m B) / T) exp(-2 pi i j / T)``: the rows of ``x`` times one block
+    of the phase factor (two real matrix-vector products), then summed with the
+    rows' phase factors. The same sum up to rounding (about 1e-13 relative).
+    """
+    B = _SUM_BLOCK
+    rows = (b - a) // B
+    j = np.arange(B, dtype=np.float64)
+    e = np.exp(-2j * np.pi * j / period)
+    z = 0j
+    if rows:
+        body = x[a: a + rows * B].reshape(rows, B)
+        s = body @ e.real + 1j * (body @ e.imag)
+        starts = a + B * np.arange(rows, dtype=np.float64)
+        z = complex(np.dot(s, np.exp(-2j * np.pi * starts / period)))
+    t0 = a + rows * B
+    if t0 < b:
+        k = np.arange(t0, b, dtype=np.float64)
+        z += complex(np.dot(x[t0:b], np.exp(-2j * np.pi * k / period)))
+    return z
 
 
 def _refine(r: np.ndarray, period: float, max_lag: int) -> float:

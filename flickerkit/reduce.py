@@ -66,6 +66,7 @@ class Totals:
     hi: float
     lo: float
     first_bad: int | None
+    block_max: tuple[float, ...] = ()
 
 
 def first_pass(x: Any, bounds: np.ndarray, *, block: int = BLOCK,
@@ -81,32 +82,47 @@ def first_pass(x: Any, bounds: np.ndarray, *, block: int = BLOCK,
     phi = np.full(p, -np.inf)
     plo = np.full(p, np.inf)
     ptot = np.zeros(p)
+    tops: list[float] = []
     b0, b1 = int(bounds[0]), int(bounds[-1])
     for off, b in blocks(x, block=block):
-        finite = np.isfinite(b)
-        if not finite.all():
-            bad = off + int(np.flatnonzero(~finite)[0])
-            break
-        total += float(np.sum(b))
-        hi = max(hi, float(np.max(b)))
-        lo = min(lo, float(np.min(b)))
+        s = float(np.sum(b))
+        if not np.isfinite(s):  # a nan or an infinity is there (or the sum overflowed)
+            finite = np.isfinite(b)
+            if not finite.all():
+                bad = off + int(np.flatnonzero(~finite)[0])
+                break
+        total += s
         if feed is not None:
             feed(b)
         a, e = max(off, b0), min(off + b.size, b1)
-        if e > a:
+        if e > a:  # the block's extremes from its periods' and the samples outside the span
             part = b[a - off : e - off]
             starts, period = _segments(a, part.size, bounds)
-            np.maximum.at(phi, period, np.maximum.reduceat(part, starts))
-            np.minimum.at(plo, period, np.minimum.reduceat(part, starts))
+            top_p = np.maximum.reduceat(part, starts)
+            low_p = np.minimum.reduceat(part, starts)
+            np.maximum.at(phi, period, top_p)
+            np.minimum.at(plo, period, low_p)
             np.add.at(ptot, period, np.add.reduceat(part, starts))
+            top, low = float(top_p.max()), float(low_p.min())
+            for rest in (b[: a - off], b[e - off :]):
+                if rest.size:
+                    top, low = max(top, float(rest.max())), min(low, float(rest.min()))
+        else:
+            top, low = float(np.max(b)), float(np.min(b))
+        tops.append(top)
+        hi, lo = max(hi, top), min(lo, low)
     sums = PeriodSums(phi, plo, ptot, np.diff(bounds), float(phi.max()), float(plo.min()),
                       float(ptot.sum()))
-    return Totals(length(x), total, hi, lo, bad), sums
+    return Totals(length(x), total, hi, lo, bad, tuple(tops)), sums
 
 
 def second_pass(x: Any, bounds: np.ndarray, period_means: np.ndarray, span_mean: float,
-                hi: float, *, block: int = BLOCK) -> tuple[np.ndarray, float, int, int]:
+                hi: float, *, block: int = BLOCK,
+                block_max: tuple[float, ...] = ()) -> tuple[np.ndarray, float, int, int]:
     """One more read: areas above the per-period and span means, and counts at the maximum.
+
+    ``block_max``: each block's largest sample, when known (``Totals.block_max`` of
+    :func:`first_pass` with the same ``block``), saves a pass over each block.
 
     Returns
     -------
@@ -122,9 +138,9 @@ def second_pass(x: Any, bounds: np.ndarray, period_means: np.ndarray, span_mean:
     span_above = 0.0
     at_max, nxt, at_nxt = 0, -np.inf, 0
     b0, b1 = int(bounds[0]), int(bounds[-1])
-    work = np.empty(0)
-    for off, b in blocks(x, block=block):
-        top = float(b.max())
+    known = len(block_max) == -(-length(x) // block)
+    for i, (off, b) in enumerate(blocks(x, block=block)):
+        top = block_max[i] if known else float(b.max())
         if top < hi:  # the usual block: the maximum is elsewhere, its own top is a candidate
             m = top
         else:  # the block with the maximum: count it, and find the next lower value
@@ -140,16 +156,20 @@ def second_pass(x: Any, bounds: np.ndarray, period_means: np.ndarray, span_mean:
         if e <= a:
             continue
         part = b[a - off : e - off]
-        starts, period = _segments(a, part.size, bounds)
-        lengths = np.diff(np.append(starts, part.size))
-        if work.size < part.size:
-            work = np.empty(part.size)
-        w = work[: part.size]
-        w[:] = np.repeat(period_means[period], lengths)
-        np.subtract(part, w, out=w)
-        np.maximum(w, 0.0, out=w)
-        np.add.at(above, period, np.add.reduceat(w, starts))
-        np.subtract(part, span_mean, out=w)
-        np.maximum(w, 0.0, out=w)
-        span_above += float(np.sum(w))
+        for c in range(0, part.size, _CHUNK):  # temporaries that stay in the cache
+            sub = part[c : c + _CHUNK]
+            starts, period = _segments(a + c, sub.size, bounds)
+            lengths = np.diff(np.append(starts, sub.size))
+            w = np.repeat(period_means[period], lengths)  # each sample's period mean; then work
+            np.subtract(sub, w, out=w)
+            np.maximum(w, 0.0, out=w)
+            np.add.at(above, period, np.add.reduceat(w, starts))
+            np.subtract(sub, span_mean, out=w)
+            np.maximum(w, 0.0, out=w)
+            span_above += float(np.sum(w))
     return above, span_above, at_max, at_nxt
+
+
+#: Samples the second pass works on at a time within a block (512 KiB temporaries: six
+#: passes over them run in the cache, not in memory).
+_CHUNK = 2**16

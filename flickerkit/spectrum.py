@@ -35,8 +35,10 @@ class Spectrum:
 
     Attributes
     ----------
-    frequencies_hz : numpy.ndarray
-        Bin frequencies, ``k * resolution_hz`` [Hz].
+    bin_hz : float
+        Bin spacing, ``sample_rate / n_samples`` [Hz]; bin k is at ``k * bin_hz``
+        (:attr:`frequencies_hz` forms the whole axis on first use; :meth:`bin_range`
+        and :meth:`frequencies_at` do not).
     amplitudes : numpy.ndarray
         C_k = single-sided amplitude of bin k divided by the mean; C_0 = 0
         [unitless]. For ``1 + m sin(2 pi f t)``, C at f is m.
@@ -56,7 +58,7 @@ class Spectrum:
         ``"rectangular"`` (whole periods) or ``"hann"``.
     """
 
-    frequencies_hz: np.ndarray
+    bin_hz: float
     amplitudes: np.ndarray
     coefficients: np.ndarray
     mean: float
@@ -65,6 +67,44 @@ class Spectrum:
     whole_periods: int
     fundamental_hz: float | None
     window: str
+
+    @cached_property
+    def frequencies_hz(self) -> np.ndarray:
+        """Bin frequencies, ``k * bin_hz`` [Hz] (formed on first use: millions of bins)."""
+        return self.frequencies_at(np.arange(self.amplitudes.shape[0]))
+
+    def frequencies_at(self, bins: np.ndarray) -> np.ndarray:
+        """Frequencies of selected bins, the same values as ``frequencies_hz[bins]`` [Hz]."""
+        return np.asarray(bins) * self.bin_hz
+
+    def bin_range(self, f_lo_hz: float, f_hi_hz: float) -> tuple[int, int]:
+        """Bins ``lo:hi`` whose frequencies lie in ``[f_lo_hz, f_hi_hz]`` (both included).
+
+        The same as ``searchsorted(frequencies_hz, f_lo_hz, "left")`` and
+        ``searchsorted(frequencies_hz, f_hi_hz, "right")``, without forming the axis.
+        """
+        K = int(self.amplitudes.shape[0])
+        df = self.bin_hz
+        if K == 0 or not df > 0:
+            return 0, 0
+
+        def first(f: float, above: bool) -> int:  # first k with k df >= f (> f when above)
+            if not f > 0:
+                return 0 if (f < 0 or not above) else 1
+            k = min(K, max(0, int(np.floor(f / df))))
+            while k > 0 and ((k - 1) * df > f if above else (k - 1) * df >= f):
+                k -= 1
+            while k < K and (k * df <= f if above else k * df < f):
+                k += 1
+            return k
+
+        return first(f_lo_hz, False), first(f_hi_hz, True)
+
+    @property
+    def highest_frequency_hz(self) -> float:
+        """Frequency of the last bin, ``frequencies_hz[-1]`` (0 without bins) [Hz]."""
+        K = int(self.amplitudes.shape[0])
+        return float((K - 1) * self.bin_hz) if K else 0.0
 
     @cached_property
     def phases_rad(self) -> np.ndarray:
@@ -78,7 +118,7 @@ class Spectrum:
     @property
     def resolution_hz(self) -> float:
         """Bin spacing [Hz]."""
-        return float(self.frequencies_hz[1]) if self.frequencies_hz.size > 1 else float("nan")
+        return float(self.bin_hz) if self.amplitudes.shape[0] > 1 else float("nan")
 
     def harmonic_bins(self, max_frequency_hz: float | None = None) -> np.ndarray:
         """Bin indices of the fundamental and its harmonics (empty when windowed).
@@ -90,10 +130,10 @@ class Spectrum:
         """
         if self.whole_periods < 1 or self.fundamental_hz is None:
             return np.zeros(0, dtype=np.int64)
-        last = self.frequencies_hz.size - 1
+        last = self.amplitudes.shape[0] - 1
         bins = np.arange(self.whole_periods, last + 1, self.whole_periods, dtype=np.int64)
         if max_frequency_hz is not None:
-            bins = bins[self.frequencies_hz[bins] <= max_frequency_hz * (1 + 1e-12)]
+            bins = bins[self.frequencies_at(bins) <= max_frequency_hz * (1 + 1e-12)]
         return bins
 
     def noise_floor(self) -> float:
@@ -267,9 +307,8 @@ def modulation_spectrum(
     amps[0] = 0.0
     if n_span % 2 == 0 and amps.size > 1:
         amps[-1] /= 2.0  # the Nyquist bin is not doubled in a real signal
-    freqs = np.arange(spec.shape[0]) * (sample_rate_hz / n_span)
     return Spectrum(
-        frequencies_hz=freqs,
+        bin_hz=sample_rate_hz / n_span,
         amplitudes=amps,
         coefficients=spec,
         mean=float(mean),
@@ -364,7 +403,7 @@ def averaged_spectrum(samples, sample_rate_hz: float, period: Periodicity, *,
     amps = acc
     amps /= picks.size
     return Spectrum(
-        frequencies_hz=np.arange(first.shape[0]) * (sample_rate_hz / L),
+        bin_hz=sample_rate_hz / L,
         amplitudes=amps, coefficients=first,
         mean=float(first[0].real / L), n_samples=L, start=0, whole_periods=m,
         fundamental_hz=period.frequency_hz, window="rectangular, averaged",

@@ -511,11 +511,9 @@ def svm_of_spectrum(
         f_fund = spectrum.fundamental_hz
         method_note = (f"components over {spectrum.whole_periods} whole periods of "
                        f"{f_fund:.6g} Hz, rectangular window (no leakage)")
-        all_f = np.asarray(spectrum.frequencies_hz)
-        # bins are sorted: keep the band only (a 10-minute capture has millions of bins)
-        lo = int(np.searchsorted(all_f, band_lo, side="left"))
-        hi = int(np.searchsorted(all_f, band_hi, side="right"))
-        freqs = all_f[lo:hi]
+        # keep the band only (a 10-minute capture has millions of bins)
+        lo, hi = spectrum.bin_range(band_lo, band_hi)
+        freqs = spectrum.frequencies_at(np.arange(lo, hi))
         amps = np.asarray(spectrum.amplitudes)[lo:hi]
         harmonic = np.zeros(freqs.size, dtype=bool)
         hb = spectrum.harmonic_bins(f_max_hz)
@@ -535,7 +533,7 @@ def svm_of_spectrum(
     total = float(np.sum(terms))
     value = total ** (1.0 / MINKOWSKI_EXPONENT)
 
-    nyquist = float(spectrum.frequencies_hz[-1]) if spectrum.frequencies_hz.size else 0.0
+    nyquist = spectrum.highest_frequency_hz
     if nyquist < f_max_hz * (1 - 1e-9):
         notes.append(f"the capture's spectrum ends at {nyquist:.6g} Hz, below the SVM band's "
                      f"upper end {f_max_hz:.6g} Hz: components in between are missing (raise "

@@ -117,3 +117,48 @@ def test_max_samples_limits_the_span_to_whole_periods():
     assert result.n_samples <= 30_050 and result.n_samples % 200 == 0
     assert result.duration_s == pytest.approx(result.n_samples / fs)
     assert result.percent_flicker[2] == pytest.approx(20.0, abs=1e-9)
+
+
+def test_samples_cut_from_a_longer_capture_keep_whole_periods():
+    # assess passes only the first samples of a long capture with the whole capture's period
+    # count: the span must still be whole periods of the samples given. Analytic: 1 + 0.2 cos
+    # at an awkward 123.456 Hz gives 20 % at every cut-off above it, 0 % below
+    fs = 24_000.0
+    t = np.arange(240_000) / fs
+    x = 1 + 0.2 * np.cos(2 * np.pi * 123.456 * t)
+    period = Periodicity(123.456, fs / 123.456, int(240_000 * 123.456 / fs), 1.0)
+    cut = x[:30_050]
+    result = filtered_percent_flicker(cut, fs, period, max_samples=30_050)
+    periods = result.n_samples * 123.456 / fs
+    assert result.whole_periods <= 30_050 * 123.456 / fs
+    assert periods == pytest.approx(round(periods), abs=0.5 * 123.456 / fs + 1e-9)
+    # leakage of a cut period would put tens of percent below the cut-off
+    assert result.percent_flicker[1] == pytest.approx(0.0, abs=0.05)
+    # the span's rounding to whole samples (half a sample in 30,000) leaks about 2e-4 of the
+    # component (computed here: 20.004 %); chosen bound 0.01 percentage point
+    assert result.percent_flicker[2] == pytest.approx(20.0, abs=0.01)
+
+
+def test_assess_of_a_long_awkward_pwm_filters_whole_periods():
+    # PWM at 1234.56 Hz (30 % duty, 2 % off-level) times 1 + 0.05 sin(2 pi 100 t): below
+    # 1000 Hz only the mean times the ripple remains (the first sideband is at 1134.56 Hz), so
+    # the 1000 Hz filtered percent flicker is 0.05 D / (D + off (1 - D)) (analytic) -- on a
+    # capture longer than the filtered span (assess gives only its start)
+    from flickerkit.assess import assess
+    from flickerkit.capture import make_capture
+
+    from .synth import pwm
+
+    fs, dur, duty, off = 200_000.0, 6.0, 0.3, 0.02
+    x = pwm(1234.56, duty, off, fs, dur)
+    t = np.arange(x.size) / fs
+    x = x * (1 + 0.05 * np.sin(2 * np.pi * 100.0 * t))
+    a = assess(make_capture(x, fs, label="awkward"))
+    mean = duty + off * (1 - duty)
+    expected = 100 * 0.05 * mean / mean
+    assert a.filtered.n_samples < x.size
+    # the span holds whole PWM periods but not whole ripple cycles: the filtered waveform's
+    # wrap-around jump (at most twice the ripple, 10 % of the mean) rings by up to 9 % of it
+    # (Gibbs, analytic), so within 0.9 percentage point; a span cut mid-period leaks the PWM's
+    # fundamental below the cut-off instead (tens of percent)
+    assert a.filtered.percent_flicker[-1] == pytest.approx(expected, abs=0.9)

@@ -82,6 +82,10 @@ def main(argv: list[str] | None = None) -> int:
     from ..errors import FlickerkitError
     from ..fileio import forget_inputs
 
+    if argv is None:  # this process's own command line: large arrays reuse freed memory
+        from ..allocator import keep_freed_memory
+
+        keep_freed_memory()
     forget_inputs()
     _note_inputs(args)
     try:
