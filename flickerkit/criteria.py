@@ -494,9 +494,10 @@ def judge(assessment: Assessment | None, criterion: Criterion, *, level: float |
         return verdict(status="not applicable", measured=None, limit=None, margin=None,
                        reason=f"not in force on {date.isoformat()}{since}")
     if assessment is None:
-        if criterion.metric in _RULES:
-            return verdict(status="not applicable", measured=None, limit=None, margin=None,
-                           reason="no light at this level: no modulation to judge")
+        if criterion.metric in _RULES:  # the IEEE lines' limits depend on a frequency
+            return verdict(status="not applicable", measured=None,
+                           limit=limit if criterion.metric == "below_90hz_modulation" else None,
+                           margin=None, reason="no light at this level: no modulation to judge")
         return verdict(status="insufficient data", measured=None, limit=limit, margin=None,
                        reason=f"no {criterion.metric} value: no light at this level")
     a = assessment
