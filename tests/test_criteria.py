@@ -242,3 +242,69 @@ def test_a_misspelt_metric_is_refused_not_read_as_no_value():
     cut = criteria.from_mapping({"id": "house-cut", "metric": "filtered_percent_flicker.200",
                                  "limit": 30.0})
     assert criteria.judge(rec, cut).status in ("pass", "insufficient data")
+
+
+def test_every_figure_name_is_the_json_key_path_of_the_same_value():
+    """A criterion's metric names the typed field whose JSON key path it is: for a composite
+    light (analytic: 1234.56 Hz PWM at 30 % duty with 5 % ripple at 100 Hz, seeded noise at
+    40 dB) every name reads the value the JSON holds there (nan as None)."""
+    import math
+
+    import numpy as np
+
+    from flickerkit.keypath import FIGURES, figure, figure_or_none
+
+    from .synth import pwm
+
+    fs, d = 48_017.0, 0.6
+    t = np.arange(int(fs * d)) / fs
+    x = pwm(1234.56, 0.3, 0.02, fs, d) * (1 + 0.05 * np.sin(2 * np.pi * 100.0 * t))
+    x = x + 0.01 * np.random.default_rng(15).standard_normal(x.size) * x.mean()
+    a = assess(make_capture(x, fs, label="composite"))
+    js = a.to_dict()
+    for name in [*FIGURES, "filtered_percent_flicker.200", "filtered_percent_flicker.40"]:
+        got = figure(a, name)
+        want = figure_or_none(js, name)
+        if got is None or not math.isfinite(got):
+            assert want is None, name
+        else:
+            assert want == pytest.approx(got, rel=1e-12), name
+    assert figure(a, "filtered_percent_flicker.123") is None  # a cut-off not computed
+
+
+def test_a_level_without_light_is_never_a_pass():
+    """A drive level that makes no light (a skipped pulse): nothing modulates, so the IEEE
+    1789 lines and the seizure screen are not applicable; a figure-limit criterion has no
+    figure: insufficient data (common practice, no source: never pass without a figure)."""
+    when = dt.date(2025, 3, 1)
+    for cid, want in (("ieee1789-low-risk", "not applicable"),
+                      ("seizure-screen-below-90hz", "not applicable"),
+                      ("eu-2019-2020-svm", "insufficient data"),
+                      ("gbt50034-svm", "insufficient data")):
+        v = criteria.judge(None, criteria.REGISTRY[cid], level=100.0, date=when, label="dark")
+        assert v.status == want and "no light" in v.reason and v.label == "dark", cid
+        assert v.measured is None
+
+
+def test_report_of_a_drive_with_a_skipped_pulse(tmp_path):
+    """A 1234.56 Hz PWM drive with a 30 us shortest pulse that it skips (invented): at 2 %
+    the pulse (16 us) is skipped and there is no light; at 37 % it is full-depth PWM
+    (analytic: 100 % percent flicker, over IEEE 1789's low-risk line only above 1250 Hz:
+    0.08 x 1234.56 = 98.8 % < 100 %, so it fails)."""
+    from flickerkit.project import load_project
+    from flickerkit.report import build_report
+
+    p = tmp_path / "skip.toml"
+    p.write_text('[product]\nname = "invented skip lamp"\n[setup]\njudged_on = 2025-03-01\n'
+                 '[drive]\nmethod = "pwm"\nfrequency_hz = 1234.56\nmin_on_time_s = 30e-6\n'
+                 'min_on_mode = "skip"\nlevels = [37, 2]\n'
+                 '[criteria]\napply = ["ieee1789-low-risk", "gbt50034-svm"]\n')
+    rep = build_report(load_project(p))
+    by = {(v.label, v.criterion): v for v in rep.verdicts}
+    lit, dark = rep.records[0]["label"], rep.records[1]["label"]
+    assert rep.records[0]["level"] == 37 and rep.records[1]["level"] == 2  # percent as given
+    assert rep.records[0]["percent_flicker"] == pytest.approx(100.0, rel=1e-9)
+    assert by[(lit, "ieee1789-low-risk")].status == "fail"
+    assert rep.records[1]["percent_flicker"] is None
+    assert by[(dark, "ieee1789-low-risk")].status == "not applicable"
+    assert by[(dark, "gbt50034-svm")].status == "insufficient data"

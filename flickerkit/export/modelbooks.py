@@ -122,7 +122,8 @@ def write_plan_workbook(path: str | Path, plan: Plan, *, force: bool = False,
     wb = Workbook()
     ws = wb.active
     ws.title = "Plan"
-    rows = [["Drive", plan.drive], ["Targets", ", ".join(t.name for t in plan.targets)],
+    rows: list[list[Any]] = [
+            ["Drive", plan.drive], ["Targets", ", ".join(t.name for t in plan.targets)],
             ["Lowest frequency, exact clock [Hz]", plan.lowest_frequency_hz],
             ["Clock tolerance [+- %]", 100.0 * plan.tolerance],
             ["Recommended frequency [Hz]", plan.recommended_frequency_hz],
