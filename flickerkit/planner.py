@@ -27,6 +27,7 @@ import numpy as np
 from . import ieee1789, metrics
 from .drive import Drive, DitheredPwm, LightModel
 from .errors import SettingsError
+from .levels import percent
 from .timers import Timer, TimerSetting, clock_needed, minimum_duty
 
 #: Frequency range searched by default [Hz].
@@ -853,11 +854,6 @@ class DitherOption:
 Option = ClockOption | HybridOption | DitherOption
 
 
-def percent(level: float | None) -> float | None:
-    """A dimming level as the edges give it: a fraction of full output [0-1] -> percent."""
-    return None if level is None else 100.0 * level
-
-
 def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequence[Target]
                  ) -> DitherOption:
     """Dithering option: bits needed and the dither's own flicker at the setting."""
@@ -1149,7 +1145,7 @@ def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequ
 
 __all__ = ["DEFAULT_TOLERANCE", "AbruptChange", "AbruptPoint", "ClockOption", "DitherOption",
            "FrequencyResult", "HybridOption", "LevelFigures", "Option", "Plan", "Resolution",
-           "SettingCheck", "Target", "percent",
+           "SettingCheck", "Target",
            "abrupt_changes", "abrupt_points", "band_frequencies", "band_meets", "check_band",
            "check_tolerance", "default_levels", "figures", "lowest_frequency", "parse_targets",
            "plan", "recommend", "svm_of_series"]

@@ -185,15 +185,15 @@ def build_report(project: Project, *, workers: int | None = None,
             verdicts.extend(out.then)
     else:
         from .drive import drive_from_mapping
+        from .levels import fraction
         from .sweep import sweep
 
         if project.drive is None:  # load_project refuses a project with neither
             raise SettingsError(f"{project.path}: lists no captures and no [drive]")
         drive = drive_from_mapping(project.drive, source=f"{project.path} [drive]")
-        result = sweep(drive, [lv / 100.0 for lv in project.drive_levels], progress=on_level)
+        result = sweep(drive, [fraction(lv) for lv in project.drive_levels], progress=on_level)
         for lv, row in zip(project.drive_levels, result.rows):
-            # the level in percent as the project states it (not 100 x lv / 100)
-            records.append(row.to_dict(level_percent=lv))
+            records.append(row.to_dict())
             levels.append(lv)
             verdicts.extend(criteria.judge(row.assessment, c, level=lv, label=row.label,
                                            date=project.judged_on) for c in chosen)

@@ -28,6 +28,7 @@ from .criteria import REGISTRY
 from .drive import Drive
 from .errors import InputError
 from .keypath import figure
+from .levels import percent
 
 if TYPE_CHECKING:  # pragma: no cover - types only
     from .assess import Assessment
@@ -275,11 +276,6 @@ def _fails(row: LevelRow, name: str) -> bool | None:
     return v > limit * (1 + 1e-12) if metric == "svm" else v > limit
 
 
-def percent(level: float | None) -> float | None:
-    """A dimming level as the edges give it: a fraction of full output [0-1] -> percent."""
-    return None if level is None else 100.0 * level
-
-
 @dataclass(frozen=True)
 class LevelRow:
     """One level of a sweep.
@@ -315,24 +311,16 @@ class LevelRow:
         """The level's assessment (None when it makes no light)."""
         return None if self.light is None else self.light.assessment
 
-    def to_dict(self, *, label: str | None = None,
-                level_percent: float | None = None) -> dict[str, Any]:
+    def to_dict(self) -> dict[str, Any]:
         """The JSON object: the assessment's keys plus ``level`` [percent],
-        ``relative_light``, ``model_percent_flicker`` and ``model``.
-
-        ``label`` and ``level_percent`` replace the row's own (a report gives
-        each level its project's label and the percent as the project states it).
-        """
+        ``relative_light``, ``model_percent_flicker`` and ``model``."""
         if self.light is not None:
             rec = self.light.to_dict()
         else:
             rec = {"label": self.label, "percent_flicker": None, "flicker_index": None,
                    "frequency_hz": None, "ieee1789": None, "mean": 0.0, "svm": None,
                    "warnings": [self.no_light], "harmonics": []}
-        if label is not None:
-            rec["label"] = label
-        lv = percent(self.level) if level_percent is None else level_percent
-        return {"level": lv, "relative_light": self.relative_light, **rec,
+        return {"level": percent(self.level), "relative_light": self.relative_light, **rec,
                 "model_percent_flicker": self.model_percent_flicker, "model": self.model}
 
 
@@ -418,4 +406,4 @@ def sweep(drive: Drive, levels: Sequence[float], *, max_samples: int = SWEEP_MAX
 
 
 __all__ = ["CRITERIA", "SWEEP_MAX_SAMPLES", "CaptureFigures", "LevelRow", "ModelledLight",
-           "SweepResult", "model_assessment", "model_record", "percent", "sweep"]
+           "SweepResult", "model_assessment", "model_record", "sweep"]

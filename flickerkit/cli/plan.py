@@ -163,7 +163,7 @@ def run(args: argparse.Namespace) -> int:
 def text(p: Plan) -> str:
     """The plan for the terminal."""
     from ..export.table import fmt, render
-    from ..planner import percent
+    from ..levels import percent
 
     s = [f"drive: {p.drive}",
          f"targets: {', '.join(t.name for t in p.targets)} at levels "

@@ -116,7 +116,7 @@ def write_plan_workbook(path: str | Path, plan: Plan, *, force: bool = False,
     from openpyxl import Workbook
     from openpyxl.styles import Alignment
 
-    from ..planner import percent
+    from ..levels import percent
 
     wrap = Alignment(wrap_text=True, vertical="top")
     wb = Workbook()
