@@ -111,6 +111,7 @@ def run(args: argparse.Namespace) -> int:
 
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
+    from ..levels import fraction
     from ..planner import Resolution, default_levels, parse_targets, plan
     from ..timers import Timer
 
@@ -120,7 +121,7 @@ def run(args: argparse.Namespace) -> int:
         raise SettingsError(f"--min-level must lie in (0, 100] %, got {args.min_level:g}")
     args.frequency = None
     drive = drive_from_args(args)
-    res = Resolution(bits=args.bits, min_level=args.min_level / 100.0,
+    res = Resolution(bits=args.bits, min_level=fraction(args.min_level),
                      max_step=None if args.max_step is None else args.max_step / 100.0)
     timer = None
     pres = None
