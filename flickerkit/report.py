@@ -11,12 +11,16 @@ import functools
 import hashlib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Callable
+from typing import TYPE_CHECKING, Any, Callable
 
 from . import __version__, cautions, criteria
 from .criteria import Verdict  # the Report field ``criteria`` hides the module in its body
 from .errors import FlickerkitError, SettingsError
 from .project import Project
+
+if TYPE_CHECKING:  # pragma: no cover - types only
+    from .assess import Assessment
+    from .judgement import GroupOutcome
 
 #: Cautions every report carries (summary sheet and terminal); text in :mod:`flickerkit.cautions`.
 CAUTIONS = cautions.REPORT
@@ -41,7 +45,7 @@ class Report:
     inputs: tuple[dict[str, Any], ...]
     settings: dict[str, Any]
     steps: Any = None
-    groups: tuple[Any, ...] = ()
+    groups: tuple[GroupOutcome, ...] = ()
     run_at: str = field(default_factory=lambda: _dt.datetime.now(_dt.timezone.utc)
                         .strftime("%Y-%m-%d %H:%M:%S UTC"))
 
@@ -222,12 +226,13 @@ def build_report(project: Project, *, workers: int | None = None,
                   settings=settings_out, steps=steps, groups=groups)
 
 
-def judge_capture(assessment, *, chosen: tuple[criteria.Criterion, ...], level: float | None,
+def judge_capture(assessment: Assessment, *, chosen: tuple[criteria.Criterion, ...], level: float | None,
                   label: str, date: _dt.date) -> tuple[Verdict, ...]:
     """A capture's verdicts against the chosen criteria, from its typed assessment.
 
     Run in the worker that measured it (:func:`flickerkit.batch.measure_many`'s
-    ``then``); ``level`` [percent] and ``label`` are the project's.
+    ``then``); ``level`` [percent] and ``label`` are the project's. A report's
+    captures are light (its reading options never ask for a voltage).
     """
     return tuple(criteria.judge(assessment, c, level=level, date=date, label=label)
                  for c in chosen)
