@@ -226,8 +226,8 @@ def build_report(project: Project, *, workers: int | None = None,
                   settings=settings_out, steps=steps, groups=groups)
 
 
-def judge_capture(assessment: Assessment, *, chosen: tuple[criteria.Criterion, ...], level: float | None,
-                  label: str, date: _dt.date) -> tuple[Verdict, ...]:
+def judge_capture(assessment: Assessment, *, chosen: tuple[criteria.Criterion, ...],
+                  level: float | None, label: str, date: _dt.date) -> tuple[Verdict, ...]:
     """A capture's verdicts against the chosen criteria, from its typed assessment.
 
     Run in the worker that measured it (:func:`flickerkit.batch.measure_many`'s
