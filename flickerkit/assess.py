@@ -496,7 +496,10 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
                else "")))
     # clipping needs noise that the rail removed: judged with the second-difference noise,
     # which a noise-free flat top (or edges between samples) does not have
-    if real_noise and metrics.clipping_from_counts(n, at_max, at_next, metrics.noise_rms(head)):
+    # (the counts are tested first, with any noise: the noise estimate is then needed only
+    # for the rare capture whose counts look clipped)
+    if real_noise and metrics.clipping_from_counts(n, at_max, at_next, np.inf) \
+            and metrics.clipping_from_counts(n, at_max, at_next, metrics.noise_rms(head)):
         warnings.warn(CaptureWarning(
             f"clipping suspected: {at_max / n:.1%} of samples sit exactly at "
             f"the maximum {hi:.6g} while the rest is noisy; the recorder's range may be too "

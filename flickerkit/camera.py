@@ -34,8 +34,9 @@ from typing import Sequence
 
 import numpy as np
 
-from .drive import Light, LightModel
+from .drive import LightModel
 from .errors import SettingsError
+from .light import Light
 from .metrics import percent_flicker_of_extremes
 
 #: Running-mean evaluation points per fundamental period added to the

@@ -723,7 +723,7 @@ def load_user_criteria(path: str | Path) -> dict[str, Criterion]:
         type or an out-of-range value, an id repeats, or an id is a built-in
         criterion's (a user file may add criteria, never redefine one).
     """
-    from .sidefile import load_toml
+    from .readers.sidefile import load_toml
     from .validate import check_table, Spec
 
     p = Path(path)

@@ -395,7 +395,7 @@ def read_two_columns(path: str | Path, what: str = "two-column file"
     import tempfile
 
     from .readers import ReadOptions, read_capture
-    from .sidefile import decode, read_bytes
+    from .readers.sidefile import decode, read_bytes
 
     # The side-file checks first (device, FIFO, size bound, encoding), so that a bad file is
     # named as the side file it is; a UTF-16/32 table (byte-order mark) is read as UTF-8.

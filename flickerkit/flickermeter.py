@@ -387,7 +387,7 @@ def load_calibration(path: str | Path) -> Calibration:
         Path("lab.toml").write_text(LIGHT_PROVISIONAL_230V.to_toml())
         cal = load_calibration("lab.toml")
     """
-    from .sidefile import load_toml
+    from .readers.sidefile import load_toml
 
     p = Path(path)
     data = load_toml(p, "calibration file")

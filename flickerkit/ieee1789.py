@@ -79,6 +79,13 @@ def snap_to_break(f_hz: float, tolerance_hz: float) -> tuple[float, str]:
 
 
 def _limit(f_hz, slopes, exempt_above_hz) -> np.ndarray | float:
+    if isinstance(f_hz, (float, int)):  # one point: the same rule without numpy's overhead
+        f1 = float(f_hz)
+        if not f1 > 0:
+            return 0.0
+        if f1 > exempt_above_hz:
+            return float("inf")
+        return (slopes[0] if f1 < LOW_FREQUENCY_BREAK_HZ else slopes[1]) * f1
     f = np.asarray(f_hz, dtype=np.float64)
     lim = np.where(f < LOW_FREQUENCY_BREAK_HZ, slopes[0] * f, slopes[1] * f)
     lim = np.where(f > exempt_above_hz, np.inf, lim)
@@ -149,6 +156,10 @@ def region_of(f_hz, modulation_percent) -> np.ndarray | str:
     str or numpy.ndarray of str
         One of :data:`REGIONS` per point.
     """
+    if isinstance(f_hz, (float, int)) and isinstance(modulation_percent, (float, int)):
+        m1 = float(modulation_percent)  # one point (a measured capture judges dozens)
+        return (REGIONS[0] if m1 < noel_limit_percent(f_hz) else
+                REGIONS[1] if m1 < low_risk_limit_percent(f_hz) else REGIONS[2])
     f = np.asarray(f_hz, dtype=np.float64)
     m = np.asarray(modulation_percent, dtype=np.float64)
     out = np.where(m < noel_limit_percent(f), REGIONS[0],

@@ -29,6 +29,7 @@ from .drive import Drive, DitheredPwm, LightModel
 from .errors import SettingsError
 from .levels import percent
 from .timers import Timer, TimerSetting, clock_needed, minimum_duty
+from .validate import MAX_DITHER_BITS
 
 #: Frequency range searched by default [Hz].
 DEFAULT_RANGE_HZ = (10.0, 50_000.0)
@@ -858,10 +859,10 @@ def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequen
                  ) -> DitherOption:
     """Dithering option: bits needed and the dither's own flicker at the setting."""
     m = max(1, math.ceil(math.log2(res.counts / s.counts) - 1e-12))
-    if m > 12:
-        return DitherOption(False, m, f"{m} dither bits would be needed (more than 12 are not "
-                                      f"modelled); the pattern would repeat at "
-                                      f"{s.frequency_hz / 2 ** m:.3g} Hz")
+    if m > MAX_DITHER_BITS:
+        return DitherOption(False, m, f"{m} dither bits would be needed (more than "
+                                      f"{MAX_DITHER_BITS} are not modelled); the pattern would "
+                                      f"repeat at {s.frequency_hz / 2 ** m:.3g} Hz")
     f = s.frequency_hz
     P = 2 ** m
     N = max(1, int(math.floor(res.min_level * s.counts)))

@@ -63,12 +63,14 @@ from pathlib import Path
 from typing import Any, Mapping
 
 from .errors import SettingsError
-from .validate import Spec, check_table, check_value
+from .readers.kinds import CAPTURE_SUFFIXES
+from .readers.options import SHARED_SETTINGS
+from .validate import Spec, check_table, check_value, require_number
 
 _TOP_KEYS = {"product", "setup", "read", "capture", "captures", "drive", "criteria", "analysis",
              "steps"}
 _PRODUCT_KEYS = {"name", "model", "maker", "description"}
-_READ_KEYS = {"dark", "column", "sample_rate_hz", "time_unit", "resample", "fill_gaps"}
+_READ_KEYS = set(SHARED_SETTINGS)
 _CAPTURE_KEYS = _READ_KEYS | {"level", "file", "label"}
 _CRITERIA_KEYS = {"apply", "file"}
 _ANALYSIS_KEYS = {"ieee1789_mode", "harmonics"}
@@ -77,12 +79,13 @@ _STEPS_KEYS = {"steps", "curve", "bits", "top", "min", "max", "off", "gamma", "m
 
 
 def _specs():
+    from .readers.units import OPTION_TIME_UNITS
     from .validate import MAX_SAMPLE_RATE_HZ, MAX_STEPS, MAX_FREQUENCY_HZ, Spec
 
     text = Spec("string")
     read = {"dark": Spec("number|string"), "column": Spec("integer|string", 1, 10_000),
             "sample_rate_hz": Spec("number", 0, MAX_SAMPLE_RATE_HZ, open_low=True),
-            "time_unit": Spec("string", choices=("s", "ms", "us", "µs", "ns")),
+            "time_unit": Spec("string", choices=OPTION_TIME_UNITS),
             "resample": Spec("bool"), "fill_gaps": Spec("bool")}
     return {
         "product": {k: text for k in _PRODUCT_KEYS},
@@ -108,7 +111,6 @@ def _specs():
 
 #: What each project table's keys may hold (types and documented ranges).
 SPECS = _specs()
-CAPTURE_SUFFIXES = (".csv", ".txt", ".tsv", ".dat", ".wav", ".npy")
 _LEVEL_IN_NAME = (re.compile(r"(?:level|lvl|dim)[ _-]?(\d+(?:[.p]\d+)?)", re.I),
                   re.compile(r"(\d+(?:[.p]\d+)?)\s*(?:%|pct|percent)", re.I))
 
@@ -167,13 +169,10 @@ def level_from_name(name: str) -> float | None:
 
 
 def _level(value: Any, where: str) -> float:
-    try:
-        lv = float(value)
-    except (TypeError, ValueError):
-        raise SettingsError(f"{where}: level must be a number of percent, got {value!r}") from None
-    if not 0 < lv <= 100:
-        raise SettingsError(f"{where}: level {lv:g} % is outside 0-100 %")
-    return lv
+    """A dimming level in percent, (0, 100] [%]."""
+    return require_number(value, where, low=0.0, high=100.0, open_low=True,
+                          not_number="{what}: level must be a number of percent, got {value!r}",
+                          outside="{what}: level {v:g} % is outside 0-100 %")
 
 
 def load_project(path: str | Path) -> Project:
@@ -184,7 +183,7 @@ def load_project(path: str | Path) -> Project:
     SettingsError
         Naming the file, the table and the key that is wrong.
     """
-    from .sidefile import load_toml
+    from .readers.sidefile import load_toml
 
     p = Path(path)
     where = str(p)

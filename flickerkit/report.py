@@ -188,7 +188,7 @@ def build_report(project: Project, *, workers: int | None = None,
             inputs.append(info)
             verdicts.extend(out.then)
     else:
-        from .drive import drive_from_mapping
+        from .drivefile import drive_from_mapping
         from .levels import fraction
         from .sweep import sweep
 
@@ -284,7 +284,7 @@ def capture_traces(report: Report, periods: int = 4) -> dict[str, Any]:
                 continue
             out[entry.label] = trace_of(cap, rec.get("frequency_hz"), periods)
     elif project.drive:
-        from .drive import drive_from_mapping
+        from .drivefile import drive_from_mapping
 
         drive = drive_from_mapping(project.drive, source=f"{project.path} [drive]")
         for lv in project.drive_levels:

@@ -24,8 +24,9 @@ MAX_LEVELS = 1_000
 MAX_PLAN_LEVELS = 200
 #: Largest timer count per PWM period (a 32-bit counter).
 MAX_COUNTS = 2 ** 32
-#: Most sigma-delta dither bits.
-MAX_DITHER_BITS = 16
+#: Most sigma-delta dither bits modelled (a pattern repeats every 2**bits PWM periods; the
+#: model samples the whole pattern, so 12 bits is 4,096 periods).
+MAX_DITHER_BITS = 12
 #: Most harmonics reported.
 MAX_HARMONICS = 1_000
 #: Largest channel count of a multi-channel drive.
@@ -154,10 +155,14 @@ def check_value(value: Any, spec: Spec, *, source: str, table: str | None, key: 
     raise SettingsError(f"{w} must be {want}, got {value!r}")
 
 
-def _range(v: float, spec: Spec, w: str) -> None:
+def _out_of_range(v: float, spec: Spec) -> bool:
     lo_bad = spec.low is not None and (v < spec.low or (spec.open_low and v == spec.low))
     hi_bad = spec.high is not None and (v > spec.high or (spec.open_high and v == spec.high))
-    if lo_bad or hi_bad:
+    return lo_bad or hi_bad
+
+
+def _range(v: float, spec: Spec, w: str) -> None:
+    if _out_of_range(v, spec):
         raise SettingsError(f"{w} must be {spec.words()}, got {v:g}")
 
 
@@ -208,23 +213,124 @@ def check_count(value: int, limit: int, what: str, *, low: int = 1) -> int:
     return value
 
 
-def check_number(value: float | None, what: str, *, low: float | None = None,
-                 high: float | None = None, open_low: bool = False) -> float | None:
-    """Refuse a non-finite or out-of-range option value at once (None passes)."""
+def check_number(value: Any, what: str, *, low: float | None = None,
+                 high: float | None = None, open_low: bool = False,
+                 open_high: bool = False) -> float | None:
+    """Refuse an option value that is not a finite number within its range (None passes).
+
+    :func:`require_number` for options that may be left out.
+
+    Examples
+    --------
+    >>> check_number(None, "--fps") is None
+    True
+    >>> check_number(0.0, "--exposure", low=0, high=100, open_low=True)
+    Traceback (most recent call last):
+    ...
+    flickerkit.errors.SettingsError: --exposure must be above 0 and at most 100, got 0
+    """
     if value is None:
         return None
-    spec = Spec("number", low, high, open_low=open_low)
-    if not math.isfinite(value):
+    return require_number(value, what, low=low, high=high, open_low=open_low,
+                          open_high=open_high)
+
+
+def require_number(value: Any, what: str, *, low: float | None = None,
+                   high: float | None = None, open_low: bool = False,
+                   open_high: bool = False, not_number: str | None = None,
+                   outside: str | None = None) -> float:
+    """Refuse a value that is not a finite number within its range, at once.
+
+    The one number check of options, model settings and side-file values read one by
+    one; each caller keeps its own wording.
+
+    Parameters
+    ----------
+    value : object
+        The value; anything ``float()`` takes.
+    what : str
+        What it is (an option, a setting, a file and key), for the message.
+    low, high : float, optional
+        Range, inclusive unless ``open_low`` / ``open_high``.
+    not_number, outside : str, optional
+        The refusals as ``str.format`` templates of ``what``, ``value`` (as given) and
+        ``v`` (as a float): when ``float()`` fails (default ``"{what} must be a number,
+        got {value!r}"``), and when the value is outside the range or not finite.
+        Without ``outside``, a value that is not finite gives ``"{what} must be a finite
+        number, got {value!r}"`` and one out of range ``"{what} must be <the range in
+        words>, got {v:g}"``.
+
+    Returns
+    -------
+    float
+        The value as a float.
+
+    Raises
+    ------
+    SettingsError
+        One line in the caller's wording.
+
+    Examples
+    --------
+    >>> require_number(0.5, "duty", low=0, high=1)
+    0.5
+    >>> require_number(2, "duty", low=0, high=1, outside="{what} must be from 0 to 1, got {v:g}")
+    Traceback (most recent call last):
+    ...
+    flickerkit.errors.SettingsError: duty must be from 0 to 1, got 2
+    """
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise SettingsError((not_number or "{what} must be a number, got {value!r}").format(
+            what=what, value=value)) from None
+    spec = Spec("number", low, high, open_low=open_low, open_high=open_high)
+    if outside is not None:
+        if not math.isfinite(v) or _out_of_range(v, spec):
+            raise SettingsError(outside.format(what=what, value=value, v=v))
+        return v
+    if not math.isfinite(v):
         raise SettingsError(f"{what} must be a finite number, got {value!r}")
-    _range(float(value), spec, what)
-    return value
+    _range(v, spec, what)
+    return v
+
+
+def check_positive(value: Any, what: str, *, allow_zero: bool = False) -> float:
+    """A finite number above 0 (or at least 0 with ``allow_zero``), in the models' wording.
+
+    Examples
+    --------
+    >>> check_positive(-1, "PWM frequency [Hz]")
+    Traceback (most recent call last):
+    ...
+    flickerkit.errors.SettingsError: PWM frequency [Hz] must be a finite positive number, got -1
+    """
+    need = "zero or positive" if allow_zero else "positive"
+    return require_number(value, what, low=0.0, open_low=not allow_zero,
+                          not_number="{what} must be a number, got {value!r}",
+                          outside="{what} must be a finite " + need + " number, got {v:g}")
+
+
+def check_fraction(value: Any, what: str) -> float:
+    """A number from 0 to 1 (a duty, a level), in the models' wording.
+
+    Examples
+    --------
+    >>> check_fraction(1.5, "duty")
+    Traceback (most recent call last):
+    ...
+    flickerkit.errors.SettingsError: duty must be from 0 to 1, got 1.5
+    """
+    return require_number(value, what, low=0.0, high=1.0,
+                          not_number="{what} must be a number from 0 to 1, got {value!r}",
+                          outside="{what} must be from 0 to 1, got {v:g}")
 
 
 def drive_specs() -> dict[str, Spec]:
     """Ranges of the numbers of a drive description (file, project [drive] or options).
 
     Only the upper ends of the counts and frequencies that decide how much work a model
-    takes are checked here; :func:`flickerkit.drive.drive_from_mapping` checks the lower
+    takes are checked here; :func:`flickerkit.drivefile.drive_from_mapping` checks the lower
     ends and the physics (fractions, times) with its own messages.
     """
     return {
@@ -260,6 +366,6 @@ def check_drive(data: Mapping[str, Any], *, source: str, name: str | None = None
 
 __all__ = ["Spec", "drive_specs", "check_drive", "MAX_PLAN_LEVELS", "MAX_COUNTS",
            "MAX_DITHER_BITS", "MAX_HARMONICS", "check_value", "check_table", "check_count",
-           "check_number", "MAX_LEVELS",
+           "check_number", "require_number", "check_positive", "check_fraction", "MAX_LEVELS",
            "MAX_CHANNELS", "MAX_STEPS", "MAX_SAMPLE_RATE_HZ", "MAX_FREQUENCY_HZ",
            "MAX_SIDE_FILE_BYTES"]

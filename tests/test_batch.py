@@ -54,6 +54,28 @@ def test_cli_reports_bad_capture_and_keeps_the_rest(folder, capsys):
     assert "cap99_bad.npy" in captured.err and "1 of 13 captures" in captured.err
 
 
+def test_json_written_as_records_arrive_is_the_whole_list_dumped(folder, tmp_path, capsys):
+    # measure --json writes each record as it arrives; the text must be what dumping the
+    # finished list gives, also for a record relabelled afterwards (same name, two folders)
+    import shutil
+
+    from flickerkit.cli import CAUTION_TEXT
+    from flickerkit.cli.measure import distinct_records
+    from flickerkit.export.jsonout import dumps
+
+    for sub, src in (("a", "cap01.npy"), ("b", "cap02.npy")):
+        (tmp_path / sub).mkdir()
+        shutil.copy(folder / src, tmp_path / sub / "same.npy")
+    paths = [str(tmp_path / "a" / "same.npy"), str(folder / "cap03.npy"),
+             str(tmp_path / "b" / "same.npy")]
+    assert main(["measure", *paths, "-r", str(FS), "--json", "-q", "-j", "1"]) == 0
+    printed = capsys.readouterr().out
+    records, notes = distinct_records(measure_many(paths, ReadOptions(sample_rate_hz=FS),
+                                                   AssessSettings(), workers=1))
+    assert notes and [r["label"] for r in records] == ["a/same.npy", "cap03.npy", "b/same.npy"]
+    assert printed == dumps([{**r, "caution": CAUTION_TEXT} for r in records])
+
+
 def test_json_is_byte_identical_across_runs_and_workers(folder):
     paths = sorted(str(p) for p in folder.glob("cap0*.npy"))
     outs = []
@@ -65,15 +87,42 @@ def test_json_is_byte_identical_across_runs_and_workers(folder):
     assert outs[0] == outs[1] == outs[2]
 
 
+def _children(pid):
+    """Processes whose parent is ``pid`` (Linux /proc), or None where /proc cannot tell."""
+    if not os.path.isdir("/proc/self"):
+        return None
+    kids = []
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                with open(f"/proc/{entry}/stat") as fh:
+                    if int(fh.read().rsplit(")", 1)[1].split()[1]) == pid:
+                        kids.append(int(entry))
+            except (OSError, IndexError, ValueError):
+                continue
+    return kids
+
+
 def test_sigint_leaves_no_workbook(tmp_path):
-    for i in range(60):
-        np.save(tmp_path / f"c{i:03d}.npy", pwm(100.0 + i, 0.3, 0.0, 200_000.0, 2.0))
+    # enough work (40 captures of 100,000 samples) that the batch is still running when the
+    # signal comes: it is sent as soon as both workers exist, i.e. once the map has started
+    for i in range(40):
+        np.save(tmp_path / f"c{i:03d}.npy", pwm(100.0 + i, 0.3, 0.0, 200_000.0, 0.5))
     out = tmp_path / "record.xlsx"
     proc = subprocess.Popen([sys.executable, "-m", "flickerkit", "measure",
                              *sorted(str(p) for p in tmp_path.glob("*.npy")), "-r", "200000",
                              "-q", "-j", "2", "--xlsx", str(out)],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-    time.sleep(2.0)
+    deadline = time.monotonic() + 30
+    while time.monotonic() < deadline and proc.poll() is None:
+        kids = _children(proc.pid)
+        if kids is None:  # no /proc: wait as long as start-up takes at most
+            time.sleep(2.0)
+            break
+        if len(kids) >= 2:
+            break
+        time.sleep(0.02)
+    assert proc.poll() is None, "the batch ended before it could be interrupted"
     proc.send_signal(signal.SIGINT)
     _, err = proc.communicate(timeout=60)
     assert proc.returncode == 130, err

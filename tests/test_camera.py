@@ -1,4 +1,4 @@
-"""Camera banding: the table of perception-and-dimming.md §5 and its closed form."""
+"""Camera banding: the analytic table of reference/camera_banding.csv and its closed form."""
 
 import numpy as np
 import pytest
@@ -13,7 +13,8 @@ from .refdata import rows
 @pytest.mark.parametrize("row", rows("camera_banding.csv"),
                          ids=lambda r: f"{r['frequency_hz']}-{r['exposure_s']}")
 def test_band_contrast_table(row):
-    # brief §5 table, D = 10 %, within the precision printed there (half a unit of its last digit)
+    # reference/camera_banding.csv (analytic: running mean of the PWM over the exposure), D = 10 %,
+    # within the precision printed there (half a unit of its last digit)
     f, t = float(row["frequency_hz"]), float(row["exposure_s"])
     fps = 30.0 if t <= 1 / 30 else 1 / t
     b = banding(Pwm(f, 0.1), Camera(fps, t))
@@ -35,14 +36,14 @@ def closed_form(f, d, t):
 def test_contrast_equals_closed_form(f, d, t):
     b = banding(Pwm(f, d), Camera(1 / t / 1.5, t))
     assert b.contrast == pytest.approx(closed_form(f, d, t), rel=1e-9, abs=1e-12)
-    # the brief's simplified form for the peak-to-peak part: min(r, 1-r, D, 1-D) / (f T)
+    # analytic, simplified form of the peak-to-peak part: min(r, 1-r, D, 1-D) / (f T)
     r = f * t - np.floor(f * t)
     light = Pwm(f, d)
     assert b.depth * light.mean == pytest.approx(min(r, 1 - r, d, 1 - d) / (f * t), rel=1e-9)
 
 
 def test_beat_and_bands():
-    # brief §5: bands roll at fps * dist(f/fps, integer): 1 kHz at 30 fps -> 10 band periods/s
+    # analytic: bands roll at fps * dist(f/fps, integer): 1 kHz at 30 fps -> 10 band periods/s
     assert beat_frequency(1000.0, 30.0) == pytest.approx(10.0)
     assert beat_frequency(1200.0, 24.0) == pytest.approx(0.0)
     b = banding(Pwm(1000.0, 0.5), Camera(30.0, 1 / 120, readout_s=0.02, rows=1000))

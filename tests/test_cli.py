@@ -164,10 +164,10 @@ def test_python_dash_m_entry_point(capture_file):
     assert json.loads(out.stdout)[0]["periods"] > 50
 
 
-def test_demo_runs_end_to_end(tmp_path, capsys):
-    folder = tmp_path / "demo"
-    assert main(["demo", "--out", str(folder), "--json", "-q"]) == 0
-    data = json.loads(capsys.readouterr().out)
+def test_demo_runs_end_to_end(demo_run, capsys):
+    folder, printed = demo_run  # the session's one demo run (conftest), into a new folder
+    data = json.loads(printed)
+    capsys.readouterr()  # only what the refusal below prints is read
     records = data["records"]
     assert len(records) == 5
     assert (folder / "ardent12_record.xlsx").exists()
@@ -177,7 +177,8 @@ def test_demo_runs_end_to_end(tmp_path, capsys):
     # 7 % peak-to-peak ripple is 3.5 % percent flicker (period-averaged, noise removed)
     assert records[0]["percent_flicker_averaged"] == pytest.approx(3.5, rel=0.02)
     # analytic: the 20 % level is full-depth PWM at 1.2 kHz, and IEEE 1789's low-risk line
-    # there is 0.08 x 1200 = 96 % (methods brief, recalled), so the record must fail
+    # there is 0.08 x 1200 = 96 % (IEEE Std 1789-2015 RP1 line, recalled from memory), so the
+    # record must fail
     assert data["overall"] == "fail"
     assert {v["criterion"] for v in data["verdicts"]} >= {"ieee1789-low-risk", "eu-2019-2020-svm"}
     assert main(["demo", "--out", str(folder), "-q"]) == 1  # refuses to replace without --force

@@ -63,8 +63,9 @@ def test_camera_json(capsys):
     out = run_json(capsys, ["camera", "-f", "1000", "--level", "10", "--fps", "30",
                             "--exposure", "1/120", "--suggest", "1250:20000"])
     cam = out["cameras"][0]
-    assert cam["beat_hz"] == pytest.approx(10.0)  # brief §5: 1 kHz at 30 fps
-    assert cam["band_contrast_percent"] == pytest.approx(5.9, abs=0.05)  # brief §5 table
+    assert cam["beat_hz"] == pytest.approx(10.0)  # analytic: fps x dist(f/fps, integer)
+    # analytic, reference/camera_banding.csv
+    assert cam["band_contrast_percent"] == pytest.approx(5.9, abs=0.05)
     assert out["suggestions"][0]["worst_band_contrast_percent"] == pytest.approx(0, abs=1e-7)
 
 
@@ -117,7 +118,7 @@ def test_levels_are_percent_at_every_edge(capsys):
 def test_drive_table_says_what_decided_the_region(capsys):
     # 2 kHz PWM at 50 % whose light carries 20 % sine ripple at 100 Hz: the PWM fundamental is
     # exempt from the low-risk line above 1250 Hz, so the region is decided by the ripple,
-    # 20 % against 0.08 x 100 = 8 % (IEEE 1789-2015 RP1, as recalled in ieee1789.py); the
+    # 20 % against 0.08 x 100 = 8 % (IEEE 1789-2015 RP1 line, recalled from memory); the
     # terminal must say so, as measure does, not only print 2000 Hz and above-low-risk
     assert main(["drive", "-f", "2000", "--ripple", "20", "--levels", "50", "-q"]) == 0
     out = capsys.readouterr().out
@@ -160,3 +161,49 @@ def test_drive_picture_draws_the_limits_it_judges():
     flat = sorted(float(ln.get_ydata()[0]) for ln in svm_ax.get_lines()
                   if len(set(ln.get_ydata())) == 1 and ln.get_linestyle() == "--")
     assert flat == [0.4, 0.9]
+
+
+def test_drive_file_levels_in_a_drive_table_are_swept(tmp_path, capsys):
+    # a project's [drive] table copied into a drive file: its levels are the sweep's
+    # (they were dropped, and the default 25 levels swept)
+    f = tmp_path / "d.toml"
+    f.write_text('[drive]\nfrequency_hz = 2345.6\nlevels = [80, 12.5]\n')
+    out = run_json(capsys, ["drive", "--drive-file", str(f)])
+    assert [r["level"] for r in out["levels"]] == pytest.approx([80.0, 12.5])
+    assert "2345.6 Hz" in out["drive"]
+    # analytic: ideal 0/1 PWM, flicker index = 1 - duty
+    assert out["levels"][1]["flicker_index"] == pytest.approx(0.875, rel=0.01)
+
+
+@pytest.mark.parametrize("text,match", [
+    # a key beside [drive] was dropped: the sweep ran at 1000 Hz, not 3000
+    ('frequency_hz = 3000\n[drive]\nmethod = "pwm"\n', "frequency_hz beside the [drive] table"),
+    ('levels = [100]\n[drive]\nlevels = [50]\n', "levels are given twice"),
+    # these ended in a traceback
+    ("edges = 3\n", "[edges] must be a table"),
+    ('ripple = "x"\n', "[ripple] must be a table"),
+    ("channels = 2\nphase_offsets_deg = 5\n", "phase_offsets_deg must be a list of numbers"),
+    ('channels = 2\nphase_offsets_deg = "ab"\n', "phase_offsets_deg must be a list of numbers"),
+])
+def test_bad_drive_file_one_line(tmp_path, capsys, text, match):
+    f = tmp_path / "bad.toml"
+    f.write_text(text)
+    assert main(["drive", "--drive-file", str(f), "--levels", "50", "-q"]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and match in err[0] and str(f) in err[0], err
+
+
+def test_drive_option_choices_are_the_models_names():
+    # the options list the choices by hand (--help must not import numpy); they must be the
+    # models' own
+    import argparse
+
+    from flickerkit.cli._driveopts import add_drive_options
+    from flickerkit.drive import EDGE_KINDS, METHODS, MIN_ON_MODES
+    from flickerkit.light import RIPPLE_SHAPES
+
+    p = argparse.ArgumentParser()
+    add_drive_options(p)
+    choices = {a.dest: tuple(a.choices) for a in p._actions if a.choices}
+    assert choices == {"method": METHODS, "edges": EDGE_KINDS, "min_on_mode": MIN_ON_MODES,
+                       "ripple_shape": RIPPLE_SHAPES}

@@ -34,7 +34,7 @@ def test_json_has_steps_and_summary(capsys):
     d = json.loads(out)
     assert set(d) == {"steps", "summary"}
     counts = [s["count"] for s in d["steps"]]
-    assert counts == LSTAR["table"][0]["counts"]  # methods brief §7.1 [C], 8-bit
+    assert counts == LSTAR["table"][0]["counts"]  # computed: CIE 15:2004 inverse L*, 8-bit
     assert all("relative_light" in s for s in d["steps"])
     assert d["summary"]["steps_lost"] == 5 and d["summary"]["lit_steps_dark"] == [1]
 
@@ -55,7 +55,7 @@ def test_terminal_table_and_summary(capsys):
     code, out, err = run(capsys, "-n", "255", "--curve", "iec62386", "--off", "--bits", "8",
                          "--rounding", "nearest")
     assert code == 0
-    assert "steps not shown" in out and "distinct counts: 109 of 255" in out  # brief §3 [C]
+    assert "steps not shown" in out and "distinct counts: 109 of 255" in out  # computed
     assert "caution" not in err  # no flicker judgement asked for
 
 

@@ -49,7 +49,7 @@ def with_figures(a=None, *, svm=None, pst=None, pst_short=False, pst_status="pro
 
 
 def test_ieee1789_at_100hz_inside_and_outside():
-    # IEEE 1789 RP1 at 100 Hz: 0.08 x 100 = 8 % (brief §2.3, recalled line)
+    # IEEE 1789 RP1 at 100 Hz: 0.08 x 100 = 8 % (IEEE Std 1789-2015 line, recalled from memory)
     lr = criteria.REGISTRY["ieee1789-low-risk"]
     assert criteria.judge(record(0.079), lr).status == "pass"
     v = criteria.judge(record(0.081), lr)
@@ -63,7 +63,8 @@ def test_ieee1789_at_100hz_inside_and_outside():
 
 
 def test_eu_svm_limit_by_date():
-    # Regulation (EU) 2021/341: SVM <= 0.9 from 2021-09-01, <= 0.4 from 2024-09-01 (brief §3.6)
+    # Regulation (EU) 2019/2020 Annex II Table 4 as amended by (EU) 2021/341: SVM <= 0.9 from
+    # 2021-09-01, <= 0.4 from 2024-09-01 (read in the consolidated text of 1 September 2021)
     c = criteria.REGISTRY["eu-2019-2020-svm"]
     assert c.limit_on(dt.date(2022, 1, 1)) == 0.9
     assert c.limit_on(dt.date(2024, 8, 31)) == 0.9

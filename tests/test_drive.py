@@ -6,10 +6,11 @@ from scipy.integrate import trapezoid  # numpy >= 2 only has np.trapezoid; the f
 
 from flickerkit.assess import assess
 from flickerkit.drive import (
-    ConstantCurrent, DitheredPwm, Drive, Edges, MultiChannel, Pwm, Ripple, drive_from_mapping,
-    sigma_delta_counts,
+    ConstantCurrent, DitheredPwm, Drive, Edges, MultiChannel, Pwm, sigma_delta_counts,
 )
+from flickerkit.drivefile import drive_from_mapping
 from flickerkit.errors import SettingsError
+from flickerkit.light import Ripple
 
 #: Closed-form series against closed-form series: floating-point agreement.
 EXACT = 1e-10
@@ -27,14 +28,17 @@ SMOOTH_PERIOD_RTOL = 1e-4
 
 
 def analytic_pwm_c(k, duty):
-    """Two-sided c_k of a 0/1 pulse on [0, D T): (1/(pi k)) sin(pi k D) exp(-i pi k D) (analytic)."""
+    """Two-sided c_k of a 0/1 pulse on [0, D T) (analytic).
+
+    c_k = (1/(pi k)) sin(pi k D) exp(-i pi k D).
+    """
     k = np.asarray(k, float)
     return np.sin(np.pi * k * duty) / (np.pi * k) * np.exp(-1j * np.pi * k * duty)
 
 
 @pytest.mark.parametrize("duty", [0.5, 0.25, 0.1, 0.01, 0.9])
 def test_pwm_fourier_coefficients_analytic(duty):
-    # analytic: C_k = 2 |sin(pi k D)| / (pi k D) relative to the mean (flicker-metrics brief §3.1)
+    # analytic: C_k = 2 |sin(pi k D)| / (pi k D) relative to the mean (Fourier series of 0/1 PWM)
     fs = Pwm(1000.0, duty).fourier_series(40_000.0)
     k = np.round(fs.frequencies_hz / 1000.0)
     expected = 2 * np.abs(np.sin(np.pi * k * duty)) / (np.pi * k * duty)
@@ -121,7 +125,8 @@ def test_delay_and_minimum_on_time():
 
 
 def test_off_level_through_assess():
-    # analytic (flicker-metrics brief §1.2, peak-normalised): PF = 100 (1-b)/(1+b),
+    # analytic (percent flicker and IEC 60050-845 flicker index of the waveform, peak-normalised):
+    # PF = 100 (1-b)/(1+b),
     # FI = D(1-D)(1-b) / (b + D(1-b)); PWM D = 0.1, b = 0.2: 66.6667 %, 0.257143
     a = assess(Pwm(1234.5, 0.1, off_level=0.2).capture())
     assert a.percent_flicker == pytest.approx(66.6667, rel=SAMPLED_REL)
@@ -143,7 +148,8 @@ def test_capture_assessed_like_a_measurement(duty):
                      fs.interval_averaged(a.sample_rate_hz)))
     # aliasing of harmonics near 1000 f adds about C_1000 ~ 1e-3 relative
     for h in a.harmonics[:5]:
-        assert h.amplitude == pytest.approx(exact.get(h.order, 0.0), abs=ALIAS_REL * fs.amplitudes[0])
+        assert h.amplitude == pytest.approx(exact.get(h.order, 0.0),
+                                            abs=ALIAS_REL * fs.amplitudes[0])
 
 
 def test_two_channels_at_180_degrees_give_steady_light():
@@ -166,7 +172,7 @@ def test_two_channels_at_180_degrees_give_steady_light():
 @pytest.mark.parametrize("n_count,amp_pct,frame_mod_pct", [
     (1, 11.8, 33), (4, 3.1, 11), (16, 0.78, 3), (100, 0.12, 0.5)])
 def test_dither_subharmonics(n_count, amp_pct, frame_mod_pct):
-    # perception-and-dimming brief §4 table (4 dither bits, P = 16): each component at f/P
+    # analytic, first-order sigma-delta dither (4 dither bits, P = 16): each component at f/P
     # multiples has amplitude (2/P)/(N + 1/P); frame-average modulation 1/(2N+1)
     P, counts, f = 16, 1000, 1000.0
     model = DitheredPwm(f, (n_count + 1 / P) / counts, counts, 4)
@@ -178,7 +184,7 @@ def test_dither_subharmonics(n_count, amp_pct, frame_mod_pct):
     means = model.light().interval_means(np.arange(P + 1) / f)
     mod = 100 * (means.max() - means.min()) / (means.max() + means.min())
     assert mod == pytest.approx(100 / (2 * n_count + 1), rel=1e-9)
-    assert mod == pytest.approx(frame_mod_pct, rel=0.12)  # the brief rounds to 1-2 figures
+    assert mod == pytest.approx(frame_mod_pct, rel=0.12)  # figures rounded to 1-2 digits
 
 
 def test_sigma_delta_pattern():
@@ -239,6 +245,11 @@ def test_drive_levels():
     (lambda: Drive(method="pulse"), "unknown dimming method"),
     (lambda: Drive(dither_bits=3), "counts_per_period"),
     (lambda: Drive().at(0.0), "above 0"),
+    # not numbers: one message, not a ValueError or TypeError from int()
+    (lambda: Drive(counts_per_period="1000"), "counts per period must be a positive whole"),
+    (lambda: Drive(channels=None), "channels must be a positive whole number"),
+    (lambda: DitheredPwm(1000.0, 0.5, 100, "3"), "dither bits must be a whole number"),
+    (lambda: Drive(channels=float("nan")), "channels must be a positive whole number"),
 ])
 def test_bad_input(make, match):
     with pytest.raises(SettingsError, match=match):

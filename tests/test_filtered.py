@@ -44,9 +44,9 @@ ROWS = _rows()
 
 
 @pytest.mark.parametrize("row", ROWS, ids=lambda r: f"{r['kind']}-{r['frequency_hz']}-{r['duty']}")
-def test_brief_table(row):
-    # source: methods brief section 6.2 point 6 [C] (analytic Fourier synthesis), re-computed
-    # from the continuous series (reference/ja10-filtered.csv)
+def test_ja10_filtered_table(row):
+    # source: analytic: the California JA10.6 procedure applied to the continuous Fourier series
+    # (reference/ja10-filtered.csv)
     x, fs, exact = _capture(row)
     result = filtered_percent_flicker(x, fs, exact)
     expected = [float(row[f"pf_{c:g}"]) for c in JA10_CUTOFFS_HZ]
@@ -56,7 +56,7 @@ def test_brief_table(row):
 
 
 @pytest.mark.parametrize("row", ROWS[:2], ids=["pwm-50", "pwm-10"])
-def test_brief_table_with_period_found(row):
+def test_ja10_filtered_table_with_period_found(row):
     # source as above; the period is found by flickerkit.periodicity
     x, fs, _ = _capture(row)
     result = filtered_percent_flicker(x, fs, fundamental_frequency(x, fs))
@@ -70,7 +70,7 @@ def test_component_at_cutoff_is_kept():
     x, fs, exact = _capture(row)
     at = filtered_percent_flicker(x, fs, exact, cutoffs_hz=[1000.0]).percent_flicker[0]
     below = filtered_percent_flicker(x, fs, exact, cutoffs_hz=[999.9]).percent_flicker[0]
-    assert at == pytest.approx(196.726, abs=TABLE_TOL_PP)  # brief section 6.2 point 6
+    assert at == pytest.approx(196.726, abs=TABLE_TOL_PP)  # analytic, reference/ja10-filtered.csv
     assert below == pytest.approx(0.0, abs=1e-9)
 
 

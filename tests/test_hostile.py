@@ -202,10 +202,10 @@ SIDE_FUZZ = settings(max_examples=40, deadline=3000,
 def _side_readers():
     from flickerkit.criteria import load_user_criteria
     from flickerkit.curves import read_two_columns
-    from flickerkit.drive import drive_from_mapping
+    from flickerkit.drivefile import drive_from_mapping
     from flickerkit.flickermeter import load_calibration
     from flickerkit.project import load_project
-    from flickerkit.sidefile import load_toml
+    from flickerkit.readers.sidefile import load_toml
     from flickerkit.steps import read_transfer_csv
     from flickerkit.validate import check_drive
 

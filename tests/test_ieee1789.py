@@ -8,7 +8,7 @@ from flickerkit import ieee1789
 from .conftest import read_reference
 
 ROWS = read_reference("ieee1789_boundaries.csv")
-#: The brief prints the limits to 3-4 significant figures.
+#: reference/ieee1789_boundaries.csv prints the limits to 3-4 significant figures.
 REL_TOL = 1e-3
 
 
@@ -28,8 +28,26 @@ def test_vectorised_limits_match_scalar():
     assert all(lr[i] == ieee1789.low_risk_limit_percent(x) for i, x in enumerate(f))
 
 
+def test_one_point_follows_the_vectorised_rule_at_breaks_and_odd_values():
+    # one (frequency, modulation) point takes a path without numpy; it must give what the
+    # array form gives on the breaks (90, 1250, 3000 Hz: module notes), either side of them,
+    # at zero and negative frequencies and for non-finite values
+    f = np.array([-1.0, 0.0, 1.0, 89.999, 90.0, 90.001, 1249.9, 1250.0, 1250.001, 2999.9,
+                  3000.0, 3000.001, np.inf, np.nan])
+    m = np.array([0.0, 0.5, 2.2, 3.0, 7.2, 8.0, 41.6, 99.0, 100.0, np.nan])
+    ff, mm = (a.ravel() for a in np.meshgrid(f, m))
+    regions = ieee1789.region_of(ff, mm)
+    for fn in (ieee1789.low_risk_limit_percent, ieee1789.noel_limit_percent):
+        lim = fn(f)
+        for i, x in enumerate(f):
+            one = fn(float(x))
+            assert isinstance(one, float)
+            assert one == lim[i] or (np.isnan(one) and np.isnan(lim[i]))
+    assert [ieee1789.region_of(float(a), float(b)) for a, b in zip(ff, mm)] == list(regions)
+
+
 def test_verdicts_just_inside_and_outside():
-    # IEEE 1789 at 100 Hz: low-risk line 8 %, NOEL 3.33 % (brief §2.3)
+    # IEEE 1789 at 100 Hz: low-risk line 8 %, NOEL 3.33 % (IEEE Std 1789-2015 lines, from memory)
     assert ieee1789.classify(100.0, 7.9).region == "low-risk"
     assert ieee1789.classify(100.0, 8.1).region == "above-low-risk"
     assert ieee1789.classify(100.0, 3.3).region == "no-observable-effect"
@@ -41,7 +59,8 @@ def test_verdicts_just_inside_and_outside():
 
 
 def test_full_depth_pwm_regions_against_frequency():
-    # brief §2.3: 100 % modulation is low-risk only above 1250 Hz, NOEL only above 3000 Hz
+    # IEEE Std 1789-2015 lines, recalled from memory: 100 % modulation is low-risk only above
+    # 1250 Hz, NOEL only above 3000 Hz
     assert ieee1789.classify(1250.0, 100.0).region == "above-low-risk"
     assert ieee1789.classify(1250.5, 100.0).region == "low-risk"
     assert ieee1789.classify(3000.0, 100.0).region == "low-risk"

@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 
-from flickerkit.export.jsonout import dumps
+from flickerkit.export.jsonout import dumps, dumps_list, dumps_object_item
 
 
 def test_dumps_round_trips_and_keeps_rows_on_one_line():
@@ -26,3 +26,12 @@ def test_dumps_round_trips_and_keeps_rows_on_one_line():
     assert len(rows) == 5 and all(ln.startswith("    {") for ln in rows)
     # the same bytes as the standard encoder's compact form of each row
     assert rows[1].strip().rstrip(",") == json.dumps(back["rows"][1])
+
+
+def test_a_list_written_object_by_object_is_the_same_text():
+    objs = [{"label": "a", "x": np.float64(0.25), "bad": math.nan, "rows": [{"k": 1}, {"k": 2}],
+             "deep": {"a": {"b": [1, [2, (3, math.inf)]]}}, "n": np.int64(7)},
+            {"flat": 1.5, "s": "\u00b5"}, {}, {"empty": [], "obj": {}}]
+    for k in range(len(objs) + 1):
+        part = objs[:k]
+        assert dumps_list([dumps_object_item(o) for o in part]) == dumps(part)

@@ -138,7 +138,7 @@ def test_ripple_under_pwm_passes_the_strongest_period_and_the_common_one():
 
 
 def test_strong_ripple_under_pwm_is_judged_at_100_hz():
-    # IEEE 1789-2015: low-risk line 0.08 x 100 Hz = 8 % (from memory, as in ieee1789.py);
+    # IEEE 1789-2015: low-risk line 0.08 x 100 Hz = 8 % (from memory);
     # a 20 % ripple under 2 kHz PWM is above it, in drive and in measure alike
     model = Drive(frequency_hz=2000.0, ripple=Ripple(20.0)).at(0.5)
     rec = model_record(model)

@@ -117,9 +117,9 @@ def test_lines_just_below_the_bound_still_read(tmp_path):
 
 
 def test_long_line_inside_an_in_memory_table_is_refused(tmp_path, monkeypatch):
-    from flickerkit import tables
+    from flickerkit.readers import linebounds
 
-    monkeypatch.setattr(tables, "SCAN_LINES_ABOVE_BYTES", 0)  # scan this small file too
+    monkeypatch.setattr(linebounds, "SCAN_LINES_ABOVE_BYTES", 0)  # scan this small file too
     p = tmp_path / "mid.csv"
     p.write_bytes(b"light\n" + b"1.5\n" * 20000 + b"1" * (MAX_LINE_BYTES + 10) + b"\n"
                   + b"1.5\n" * 20000)

@@ -1,4 +1,4 @@
-"""Planner: lowest frequencies against the briefs' check values; options and their cost."""
+"""Planner: lowest frequencies against published lines and analytic SVM values; options and cost."""
 
 import importlib.util
 
@@ -17,13 +17,13 @@ from .refdata import rows
 HAS_SVM = importlib.util.find_spec("flickerkit.svm") is not None
 needs_svm = pytest.mark.skipif(not HAS_SVM, reason="flickerkit.svm (issue 3) not in this tree")
 
-#: Bisection stops at this relative width (planner.FREQUENCY_RTOL), plus the brief's rounding.
+#: Bisection stops at this relative width (planner.FREQUENCY_RTOL), plus the reference rounding.
 FREQ_RTOL = 1e-3
 
 
 def test_ieee1789_full_depth_pwm_breakpoints():
-    # IEEE 1789 (flicker-metrics brief §2.2 [M]): 100 % modulation is low-risk only above
-    # 1250 Hz and no-observable-effect only above 3000 Hz
+    # IEEE Std 1789-2015 RP1 / RP2 lines, recalled from memory (not read in the standard):
+    # 100 % modulation is low-risk only above 1250 Hz and no-observable-effect only above 3000 Hz
     levels = default_levels(0.001)
     lr = lowest_frequency(Drive(), parse_targets("ieee1789-low-risk"), levels)
     noel = lowest_frequency(Drive(), parse_targets("ieee1789-noel"), levels)
@@ -44,7 +44,8 @@ def test_off_level_lowers_the_needed_frequency():
 @pytest.mark.parametrize("row", [r for r in rows("pwm_svm.csv") if r["kind"] == "svm"],
                          ids=lambda r: f"{r['frequency_hz']}-{r['duty']}-{r['off_level']}")
 def test_svm_of_pwm_from_series(row):
-    # flicker-metrics brief §3.5 (power-form threshold, components <= 2 kHz)
+    # analytic: PWM Fourier series + CIE TN 006:2016 SVM sum, power-form threshold of Perz et al.
+    # (2018), components <= 2 kHz (reference/pwm_svm.csv)
     m = Pwm(float(row["frequency_hz"]), float(row["duty"]), off_level=float(row["off_level"]))
     assert figures(m).svm == pytest.approx(float(row["value"]), abs=float(row["precision"]))
 
@@ -53,7 +54,8 @@ def test_svm_of_pwm_from_series(row):
 @pytest.mark.parametrize("row", [r for r in rows("pwm_svm.csv") if r["kind"] != "svm"],
                          ids=lambda r: r["kind"])
 def test_lowest_frequency_for_svm(row):
-    # flicker-metrics brief §3.5: 50 % PWM falls below SVM 0.9 at ~984 Hz, 0.4 at ~1776 Hz
+    # analytic (root of the series' SVM, reference/pwm_svm.csv): 50 % PWM falls below SVM 0.9 at
+    # ~984 Hz, 0.4 at ~1776 Hz
     limit = row["kind"].split("svm")[1]
     r = lowest_frequency(Drive(), parse_targets(f"svm<={limit}"), [float(row["duty"])])
     assert r.frequency_hz == pytest.approx(float(row["value"]), abs=float(row["precision"]))
@@ -68,7 +70,7 @@ def test_series_svm_agrees_with_assess_of_the_capture():
         a = assess(m.capture())
         got = svm_of_spectrum(a.spectrum)
         got = getattr(got, "value", got)
-        assert got == pytest.approx(figures(m).svm, rel=0.01)  # issue 3's 1 % from captures
+        assert got == pytest.approx(figures(m).svm, rel=0.01)  # project tolerance, 1 %
 
 
 def test_plan_with_timer_feasible_and_not():
@@ -79,18 +81,19 @@ def test_plan_with_timer_feasible_and_not():
     assert ok.lowest_frequency_hz == pytest.approx(1250.0, rel=FREQ_RTOL)
     for s in ok.settings:
         assert s.setting.frequency_hz >= ok.lowest_frequency_hz * (1 - 1e-12)
-    # analytic: 0.1 % with 1 % steps needs 1e5 counts (brief §3); 48 MHz at 3 kHz gives 16000
+    # analytic: 0.1 % with 1 % steps needs TOP >= 1/(w Y_min) = 1e5 counts; 48 MHz at 3 kHz
+    # gives 16000
     bad = plan(Drive(), parse_targets("noel"), timer=t,
                resolution=Resolution(min_level=0.001, max_step=0.01))
     assert bad.feasible is False
     opts = {o.option: o for o in bad.options}
-    # brief §3: 1e5 counts x the frequency run (300 MHz at 3 kHz on an exact clock; the plan
+    # analytic: clock = 1e5 counts x the frequency run (300 MHz at 3 kHz on an exact clock; the plan
     # runs at the frequency whose whole +-2 % clock band meets the target, 3061 Hz)
     assert opts["faster clock or high-resolution timer"].clock_hz == pytest.approx(
         1e5 * bad.recommended_frequency_hz, rel=1e-9)
     d = opts["dithering"]
     assert d.extra_bits == 3  # 48 MHz / 3061 Hz = 15680 counts; 2^3 * 15680 >= 1e5 > 2^2 * 15680
-    # brief §4: sub-harmonic amplitude (2/P)/(N + 1/P), lowest at f/2^m
+    # analytic, first-order dither: sub-harmonic amplitude (2/P)/(N + 1/P), lowest at f/2^m
     assert d.largest_subharmonic_percent == pytest.approx(d.analytic_subharmonic_percent,
                                                              rel=1e-3)
     assert d.lowest_component_hz == pytest.approx(d.pattern_frequency_hz)

@@ -237,3 +237,62 @@ def test_one_read_options_builder_for_cli_and_project(tmp_path):
     assert dark_option("dark.csv") == "dark.csv"
     assert dark_option("dark.csv", tmp_path) == str(tmp_path / "dark.csv")
     assert build_read_options(dark=0.5).dark == 0.5
+
+
+def test_project_read_keys_are_the_builders_settings(tmp_path):
+    """common practice, no source: a [read] table and the command line set the same things,
+    under one list of names (readers.options.SHARED_SETTINGS)."""
+    import inspect
+
+    from flickerkit import project
+    from flickerkit.readers import SHARED_SETTINGS, build_read_options
+
+    keywords = {k for k, v in inspect.signature(build_read_options).parameters.items()
+                if v.kind is inspect.Parameter.KEYWORD_ONLY} - {"base"}
+    assert keywords == set(SHARED_SETTINGS) == project._READ_KEYS
+    table = {"column": "CH2", "sample_rate_hz": 1234.56, "time_unit": "ms",
+             "dark": "dark.csv", "resample": True, "fill_gaps": True}
+    opts = build_read_options(**table, base=tmp_path)
+    assert (opts.column, opts.sample_rate_hz, opts.time_unit, opts.resample, opts.fill_gaps) \
+        == ("CH2", 1234.56, "ms", True, True)
+    assert opts.dark == str(tmp_path / "dark.csv")
+
+
+def test_every_reader_gives_a_typed_account(tmp_path, wave):
+    """Each format's reader returns a FormatRead whose record is the capture's read echo
+    (analytic: the samples written are the samples read)."""
+    from flickerkit.readers import FormatRead
+    from flickerkit.readers.npy import read_npy
+    from flickerkit.readers.raw import read_raw
+    from flickerkit.readers.table_read import read_table
+    from flickerkit.readers.wav import read_wav
+
+    np.save(tmp_path / "a.npy", wave)
+    wave.astype(np.float32).tofile(tmp_path / "a.raw")
+    wavfile.write(tmp_path / "a.wav", int(FS), wave.astype(np.float32))
+    (tmp_path / "a.csv").write_text("time (ms),light (V)\n" + "".join(
+        f"{1e3 * t:.6f},{v:.6f}\n" for t, v in zip(t_of(wave), wave)))
+    cases = [(read_npy, "a.npy", ReadOptions(sample_rate_hz=FS)),
+             (read_raw, "a.raw", ReadOptions(sample_rate_hz=FS, raw_dtype="float32")),
+             (read_wav, "a.wav", ReadOptions()), (read_table, "a.csv", ReadOptions())]
+    for reader, name, opts in cases:
+        got = reader(tmp_path / name, opts)
+        assert isinstance(got, FormatRead)
+        assert np.allclose(np.asarray(got.samples), wave, atol=1e-6)
+        assert got.sample_rate_hz == pytest.approx(FS, rel=1e-9)
+        assert got.record() == read_capture(tmp_path / name, opts).read
+    assert got.rows_skipped == 1 and got.unit == "V" and got.column == "light (V)"
+
+
+def test_reading_options_load_no_numpy():
+    """A project file's reading settings (readers.options, readers.kinds) are standard library
+    only: `import flickerkit.project` stays light (subprocess + sys.modules)."""
+    import subprocess
+    import sys
+
+    code = ("import sys, flickerkit.project, flickerkit.readers.options; "
+            "print(sorted(m for m in ('numpy', 'pandas', 'scipy', 'flickerkit.readers.dispatch')"
+            " if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True, cwd=os.path.dirname(os.path.dirname(__file__)))
+    assert out.stdout.strip() == "[]"

@@ -74,10 +74,8 @@ def test_display_formats_keep_four_significant_digits(value, shown):
 
 
 @pytest.fixture(scope="module")
-def demo_record(tmp_path_factory):
-    out = tmp_path_factory.mktemp("demo")
-    assert main(["demo", "--out", str(out), "-q"]) == 0
-    return out
+def demo_record(demo_run):
+    return demo_run[0]  # the session's one demo run (conftest)
 
 
 def _check_printable(wb):
@@ -256,7 +254,7 @@ def test_report_without_a_20_percent_capture_lists_it_missing(demo_record, tmp_p
 def test_spectrum_picture_draws_the_modulation_that_decided_the_region():
     # 1234.56 Hz PWM at 40 % duty whose on-level carries 10 % at 17.3 Hz: the light's mean is
     # 0.4 (1 + 0.1 sin), so its 17.3 Hz component is 10 % of the mean (analytic) and it is what
-    # decides IEEE 1789 (0.025 f = 0.43 % line, IEEE 1789-2015 RP1 as recalled in ieee1789.py).
+    # decides IEEE 1789 (0.025 f = 0.43 % line, IEEE 1789-2015 RP1, from memory).
     # The spectrum picture must show that component, not only the PWM's harmonics.
     import numpy as np
 
@@ -290,8 +288,8 @@ def test_limiting_text_reads_and_names_line_ripple():
 
 def test_workbook_ieee_chart_places_composite_light_where_it_was_judged():
     # 1234.56 Hz PWM whose on-level carries 10 % at 17.3 Hz: IEEE 1789 is decided at 17.3 Hz,
-    # 10 % (analytic: the envelope is 10 % of the mean; 0.025 f line of IEEE 1789-2015 RP1 as
-    # recalled in ieee1789.py), so the workbook's chart point sits there, as the picture's
+    # 10 % (analytic: the envelope is 10 % of the mean; 0.025 f line of IEEE 1789-2015 RP1,
+    # from memory), so the workbook's chart point sits there, as the picture's
     # does, not at the PWM's 1234.56 Hz and 100 %; the log axis labels 0.01 as 0.01, not 0.0
     from openpyxl import Workbook
 
@@ -324,8 +322,8 @@ def _pwm_with_envelope(depth, fs=200_000.0, duration_s=1.5):
 
 
 def test_ieee_verdict_reason_names_the_fundamental_and_what_decided():
-    # the envelope (17.3 Hz, 10 %) decides against the 0.025 f line (IEEE 1789-2015 RP1 as
-    # recalled in ieee1789.py); the standard's reading is at the PWM's 1234.56 Hz, so the
+    # the envelope (17.3 Hz, 10 %) decides against the 0.025 f line (IEEE 1789-2015 RP1,
+    # from memory); the standard's reading is at the PWM's 1234.56 Hz, so the
     # reason must not say "fundamental mode at 17.3 Hz"
     from flickerkit.assess import assess
     from flickerkit.capture import make_capture

@@ -63,7 +63,7 @@ def test_report_workbook_matches_json(project, tmp_path, capsys):
     data = json.loads(capsys.readouterr().out)
     assert data["overall"] == "fail"
     verdicts = {(v["criterion"], v["label"]): v for v in data["verdicts"]}
-    # 3 % at 100 Hz: low-risk line 8 %, NOEL 3.33 % (IEEE 1789 as recalled, brief §2.3)
+    # 3 % at 100 Hz: low-risk line 8 %, NOEL 3.33 % (IEEE Std 1789-2015 lines, recalled from memory)
     assert verdicts[("ieee1789-low-risk", "full.npy")]["status"] == "pass"
     assert verdicts[("ieee1789-noel", "full.npy")]["status"] == "pass"
     # full-depth 1.5 kHz PWM: exempt from RP1 above 1250 Hz, fails NOEL (limit 49.95 %)
@@ -191,7 +191,8 @@ def test_folder_of_captures(tmp_path, capsys):
     assert main(["report", str(tmp_path), "-o", str(out), "--json", "-q"]) == 0
     data = json.loads(capsys.readouterr().out)
     assert sorted(r["level"] for r in data["records"]) == [20.0, 100.0]
-    # full-depth PWM at 4 kHz: above 3 kHz, no observable effect (brief §2.3)
+    # full-depth PWM at 4 kHz: above 3 kHz, no observable effect (IEEE Std 1789-2015 lines,
+    # recalled from memory)
     assert {v["status"] for v in data["verdicts"] if v["criterion"] == "ieee1789-noel"} == {
         "pass"}
 

@@ -15,14 +15,14 @@ from flickerkit.svm import svm_from_components, svm_of_spectrum
 
 #: Two double-precision evaluations of the same closed form.
 SERIES_TOL = 1e-12
-#: svm_of_spectrum on a whole-period sampled capture against the exact series: the issue-3
-#: tests hold it within 1 %; interval-averaged samples lower each harmonic by sinc(f/fs).
+#: svm_of_spectrum on a whole-period sampled capture against the exact series: the project
+#: tolerance of tests/test_svm.py, 1 %; interval-averaged samples lower each harmonic by sinc(f/fs).
 SVM_SAMPLED_RTOL = 0.01
 
 
 def test_series_is_the_drive_models_exact_series():
     for d in (0.001, 0.0153, 0.25, 0.5, 0.7, 0.999):
-        fs = Pwm(250.0, d).fourier_series(2000.0)  # issue-4 drive model, closed form per segment
+        fs = Pwm(250.0, d).fourier_series(2000.0)  # drive model, closed form per segment
         f, a = pwm_series(np.array([d]), 250.0, 2000.0)
         # the drive model leaves out components below 1e-14 (zeros of the sinc at k D = 1, 2..)
         listed = np.isin(f, fs.frequencies_hz)

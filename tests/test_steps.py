@@ -31,9 +31,9 @@ from flickerkit.steps import (
 REFERENCE = Path(__file__).resolve().parent.parent / "reference"
 LSTAR = tomllib.loads((REFERENCE / "lstar_64_steps.toml").read_text())
 
-#: The brief prints L* figures to 3 decimals (max error) or 2 (step range).
-BRIEF_3_DECIMALS = 5e-4
-BRIEF_2_DECIMALS = 5e-3
+#: reference/lstar_64_steps.toml prints L* figures to 3 decimals (max error) or 2 (step range).
+PRINTED_3_DECIMALS = 5e-4
+PRINTED_2_DECIMALS = 5e-3
 #: Besides the L* of one count (quantisation, computed in the test), a calibrated step may
 #: miss the even step by the fit's error at the dead-zone knee: PCHIP puts zero slope at the
 #: last dark point. With 40 geometric points on the invented product this is < 0.02 L*.
@@ -49,14 +49,14 @@ def table_ref(bits):
     return next(t for t in LSTAR["table"] if t["bits"] == bits)
 
 
-# ----------------------------------------------------------------------------- §7.1
+# ----------------------------------------------------------------------------- 64-step L* tables
 
 
 @pytest.mark.parametrize("bits", [8, 12])
-def test_64_step_lstar_counts_match_the_brief(bits):
+def test_64_step_lstar_counts_match_the_computed_table(bits):
     ref = table_ref(bits)
     t = build_table(64, "cie1976", bits=bits, rounding="nearest")
-    assert t.counts.tolist() == ref["counts"]  # methods brief §7.1 [C]
+    assert t.counts.tolist() == ref["counts"]  # computed: CIE 15:2004 inverse L*, round(Y TOP)
     s = t.summary()
     assert s["distinct_counts"] == ref["distinct_counts"]
     assert s["steps_lost"] == ref["steps_lost"]
@@ -65,37 +65,37 @@ def test_64_step_lstar_counts_match_the_brief(bits):
 
 
 @pytest.mark.parametrize("bits", [8, 10, 12, 14, 16])
-def test_64_step_lstar_figures_match_the_brief(bits):
+def test_64_step_lstar_figures_match_the_computed_table(bits):
     ref = table_ref(bits)
     t = build_table(64, "cie1976", bits=bits, rounding="nearest")
     s = t.summary()
     assert s["steps_lost"] == ref["steps_lost"]
     assert s["max_lightness_error"]["value"] == pytest.approx(ref["max_lightness_error"],
-                                                              abs=BRIEF_3_DECIMALS)
+                                                              abs=PRINTED_3_DECIMALS)
     d = t.delta_lightness[1:]
-    assert d.max() == pytest.approx(ref["max_delta_lightness"], abs=BRIEF_2_DECIMALS + (
-        0.006 if bits == 12 else 0))  # brief prints 1.77 where its own counts give 1.7647
+    assert d.max() == pytest.approx(ref["max_delta_lightness"], abs=PRINTED_2_DECIMALS + (
+        0.006 if bits == 12 else 0))  # the file keeps 1.77 where its own counts give 1.7647
     if "min_delta_lightness" in ref:
-        assert d.min() == pytest.approx(ref["min_delta_lightness"], abs=BRIEF_2_DECIMALS)
+        assert d.min() == pytest.approx(ref["min_delta_lightness"], abs=PRINTED_2_DECIMALS)
 
 
 def test_8_bit_lstar_table_reports_what_fails():
     s = build_table(64, bits=8, rounding="nearest").summary()
-    assert s["collapsed_steps"] == [1, 3, 5, 7, 10]   # read off the brief's §7.1 counts
-    assert s["lit_steps_dark"] == [1]                 # brief §7.1: step 1 -> off
+    assert s["collapsed_steps"] == [1, 3, 5, 7, 10]   # read off the computed 8-bit counts
+    assert s["lit_steps_dark"] == [1]                 # computed: step 1 -> count 0
     assert s["lowest_lit"]["step"] == 2 and s["lowest_lit"]["count"] == 1
-    # analytic: count 1 of 255 is 0.392 % of light, L* = 903.3 * 1/255 = 3.54 (brief §2)
+    # analytic: count 1 of 255 is 0.392 % of light, L* = 903.3 * 1/255 = 3.54 (CIE 15:2004)
     assert s["largest_jump"]["delta_lightness"] == pytest.approx(24389 / 27 / 255, rel=1e-12)
     assert s["largest_jump"]["step"] == 2
-    assert s["bits_needed"] == 10  # brief §7.1: 10 bits is the first without lost steps
+    assert s["bits_needed"] == 10  # computed: 10 bits is the first without lost steps
 
 
 @pytest.mark.parametrize("other", LSTAR["other"], ids=lambda o: f"{o['curve']}{o.get('gamma', '')}")
-def test_other_64_step_curves_lose_the_briefs_steps(other):
+def test_other_64_step_curves_lose_the_computed_steps(other):
     params = {"gamma": other["gamma"]} if "gamma" in other else {}
     lost = [build_table(64, other["curve"], bits=b, off_step=other["off_step"], rounding="nearest",
                         curve_params=params).summary()["steps_lost"] for b in (8, 10, 12, 16)]
-    assert lost == other["steps_lost"]  # methods brief §7.2 [C]
+    assert lost == other["steps_lost"]  # computed from each curve's formula
     if "lit_steps_dark_8bit" in other:
         s = build_table(64, other["curve"], bits=8, off_step=other["off_step"],
                         rounding="nearest", curve_params=params).summary()
@@ -106,14 +106,14 @@ def test_other_64_step_curves_lose_the_briefs_steps(other):
 def test_iec62386_levels_onto_counters(ref):
     t = build_table(255, "iec62386", off_step=True, bits=ref["bits"], rounding="nearest")
     levels = t.counts[1:]  # arc power levels 1..254
-    assert np.unique(levels).size == ref["distinct_counts"]  # methods brief §3 [C]
+    assert np.unique(levels).size == ref["distinct_counts"]  # computed: IEC 62386-102 curve
     assert int(np.sum(levels == 0)) == ref["levels_to_zero"]
     rising = np.flatnonzero(np.diff(levels) <= 0)
     first = int(rising[-1] + 2) if rising.size else 1  # level number
     assert first == ref["monotonic_from_level"]
 
 
-def test_unquantised_weber_ratios_of_the_brief():
+def test_unquantised_weber_ratios_match_the_computed_table():
     with open(REFERENCE / "weber_64_steps.csv", newline="") as fh:
         rows = list(csv.DictReader(fh))
     for row in rows:
@@ -121,7 +121,7 @@ def test_unquantised_weber_ratios_of_the_brief():
         t = build_table(64, row["curve"], off_step=row["off_step"] == "true", bits=16,
                         curve_params=params)
         _, w = step_changes(t.target_light, lightness(t.target_light))
-        k = int(row["step"])  # brief: step k -> k+1
+        k = int(row["step"])  # the file's step k -> k+1
         tol = 0.5 * 10.0 ** -int(row["decimals"])
         assert 100 * w[k + 1] == pytest.approx(float(row["weber_percent"]), abs=tol), row
 
@@ -129,7 +129,7 @@ def test_unquantised_weber_ratios_of_the_brief():
 def test_weber_in_the_linear_part_of_lstar_is_one_over_k():
     t = build_table(64, bits=16)
     _, w = step_changes(t.target_light, t.target_lightness)
-    k = np.arange(1, 5)  # L*_k = 100 k/63 < 8 for k <= 5: Y proportional to L* (brief §1.2)
+    k = np.arange(1, 5)  # L*_k = 100 k/63 < 8 for k <= 5: Y proportional to L* (CIE 15:2004)
     np.testing.assert_allclose(w[k + 1], 1 / k, rtol=1e-9)
 
 

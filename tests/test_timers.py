@@ -1,4 +1,4 @@
-"""Timer arithmetic against the tables of perception-and-dimming.md §3 (reference/timer_*.csv)."""
+"""Timer arithmetic against tables computed from the counter relations (reference/timer_*.csv)."""
 
 import math
 
@@ -11,7 +11,7 @@ from flickerkit.timers import (
 
 from .refdata import rows
 
-#: The brief prints 3-4 significant figures: half a unit of the 4th is 5e-4 relative.
+#: reference/timer_tables.csv prints 3-4 significant figures: half a unit of the 4th is 5e-4 relative.
 TABLE_RTOL = 5e-4
 
 
@@ -43,7 +43,7 @@ def test_needs(row):
 
 
 def test_ticks_eaten_by_one_microsecond():
-    # perception-and-dimming brief §3: a 1 us loss is 16, 48, 170 ticks at 16, 48, 170 MHz
+    # analytic: a 1 us loss is 1e-6 x f_clk = 16, 48, 170 ticks at 16, 48, 170 MHz
     for clk, ticks in ((16e6, 16), (48e6, 48), (170e6, 170)):
         assert 1e-6 / TimerSetting(clk, "edge", 1, 1000).tick_s == pytest.approx(ticks)
 

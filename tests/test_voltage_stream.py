@@ -65,7 +65,7 @@ def test_long_voltage_streams_without_the_option(tmp_path, capsys, mains, monkey
     path = tmp_path / "mains.npy"
     np.save(path, mains)
     in_memory = _measure(capsys, str(path), "-r", str(FS))
-    monkeypatch.setattr(readers, "STREAM_ABOVE_SAMPLES", 10_000)
+    monkeypatch.setattr("flickerkit.readers.options.STREAM_ABOVE_SAMPLES", 10_000)
     capture = readers.read_capture(path, readers.ReadOptions(sample_rate_hz=FS))
     assert isinstance(capture.samples, readers.FileSignal)  # the path under test
     _check(_measure(capsys, str(path), "-r", str(FS)), in_memory)

@@ -22,8 +22,10 @@ def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> 
     g.add_argument("--edges", choices=("ideal", "first-order", "linear"),
                    help="edge model: ideal, first-order (time constants) or linear (slew "
                         "time of a full swing)")
-    g.add_argument("--rise-us", type=float, metavar="US", help="rise time constant or slew time [us]")
-    g.add_argument("--fall-us", type=float, metavar="US", help="fall time constant or slew time [us]")
+    g.add_argument("--rise-us", type=float, metavar="US",
+                   help="rise time constant or slew time [us]")
+    g.add_argument("--fall-us", type=float, metavar="US",
+                   help="fall time constant or slew time [us]")
     g.add_argument("--delay-us", type=float, metavar="US", help="turn-on delay [us]")
     g.add_argument("--min-on-us", type=float, metavar="US",
                    help="shortest light pulse the driver makes [us]")
@@ -48,7 +50,7 @@ def add_drive_options(p: argparse.ArgumentParser, *, frequency: bool = True) -> 
                    help="timer counts per PWM period; duty rounds to whole counts (1 to 2^32)")
     g.add_argument("--dither-bits", type=int, metavar="M",
                    help="first-order sigma-delta dither bits across PWM periods (needs "
-                        "--counts; 0 to 16)")
+                        "--counts; 0 to 12)")
 
 
 def _us(v):
@@ -57,17 +59,12 @@ def _us(v):
 
 def drive_from_args(args: argparse.Namespace):
     """Build the Drive from --drive-file and the options."""
-    from ..drive import drive_from_mapping
+    from ..drivefile import drive_from_mapping, read_drive_file
     from ..errors import SettingsError
 
     data: dict = {}
     if getattr(args, "drive_file", None):
-        from ..sidefile import load_toml
-
-        data = load_toml(args.drive_file, "drive file")
-        if isinstance(data.get("drive"), dict):
-            data = dict(data["drive"])
-        data.pop("levels", None)
+        data = read_drive_file(args.drive_file).data
     edges = dict(data.pop("edges", {}) or {})
     ripple = data.pop("ripple", None)
     ripple = dict(ripple) if ripple else None
@@ -118,19 +115,16 @@ def drive_from_args(args: argparse.Namespace):
             raise SettingsError("--ripple-shape/--line-hz need --ripple PERCENT")
     if ripple:
         data["ripple"] = ripple
-    from ..validate import check_drive
-
-    check_drive(data, source=args.drive_file or "drive options")
     return drive_from_mapping(data, source=args.drive_file or "drive options")
 
 
 def file_levels(args: argparse.Namespace):
-    """Levels listed in the drive file (key ``levels``), or None."""
+    """Levels listed in the drive file (key ``levels``, beside or in ``[drive]``), or None."""
     if not getattr(args, "drive_file", None):
         return None
-    from ..sidefile import load_toml
+    from ..drivefile import read_drive_file
 
-    return load_toml(args.drive_file, "drive file").get("levels")
+    return read_drive_file(args.drive_file).levels
 
 
 def parse_levels(text: str):

@@ -82,13 +82,14 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
 def read_options(args: argparse.Namespace, quantity: str = "light"):
     from ..errors import SettingsError
     from ..readers import TIME_UNITS, build_read_options
+    from ..readers.units import OPTION_TIME_UNITS
     from ..validate import MAX_SAMPLE_RATE_HZ, check_count, check_number
 
     check_number(args.sample_rate, "--sample-rate", low=0, high=MAX_SAMPLE_RATE_HZ,
                  open_low=True)
     if args.time_unit is not None and args.time_unit.strip().lower() not in TIME_UNITS:
         raise SettingsError(f"--time-unit {args.time_unit!r} is not a unit of time; use one of "
-                            f"s, ms, us, µs, ns (any case: MS is milliseconds)")
+                            f"{', '.join(OPTION_TIME_UNITS)} (any case: MS is milliseconds)")
     if getattr(args, "raw_channels", None) is not None:
         check_count(args.raw_channels, 1024, "--raw-channels")
     return build_read_options(column=args.column, sample_rate_hz=args.sample_rate,
@@ -217,7 +218,17 @@ def run(args: argparse.Namespace) -> int:
 
         check_picture_folder(args.pictures)
     settings = assess_settings(args)
-    outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings)
+    encoded: dict[int, str] = {}  # --json: each record's text, written as it arrives
+    if args.json:
+        from ..export.jsonout import dumps_object_item
+        from . import CAUTION_TEXT
+
+        def encode(outcome) -> None:  # while the workers measure the next captures
+            if outcome.record is not None:
+                encoded[id(outcome)] = dumps_object_item({**outcome.record,
+                                                          "caution": CAUTION_TEXT})
+    outcomes = run_batch(args, args.captures, read_options(args, args.signal), settings,
+                         on_result=encode if args.json else None)
     records, label_notes = distinct_records(outcomes)
     if not args.quiet:
         for note in label_notes:
@@ -233,10 +244,14 @@ def run(args: argparse.Namespace) -> int:
     if not records:
         return 1
     if args.json:
-        from ..export.jsonout import dumps
+        from ..export.jsonout import dumps_list, dumps_object_item
         from . import CAUTION_TEXT
 
-        sys.stdout.write(dumps([{**r, "caution": CAUTION_TEXT} for r in records]))
+        done = [o for o in outcomes if o.record is not None]  # in the order of records
+        sys.stdout.write(dumps_list([
+            (encoded.get(id(o)) if r == o.record else None)  # a relabelled one is written again
+            or dumps_object_item({**r, "caution": CAUTION_TEXT})
+            for o, r in zip(done, records)]))
     elif args.signal == "voltage":
         sys.stdout.write(voltage_table(records))
     else:
@@ -369,8 +384,11 @@ def assess_settings(args: argparse.Namespace):
         detector_bandwidth_hz=getattr(args, "detector_bandwidth", None))
 
 
-def run_batch(args: argparse.Namespace, paths: list[str], options, settings):
-    """Measure ``paths`` with the batch options; report progress and interruption."""
+def run_batch(args: argparse.Namespace, paths: list[str], options, settings, *,
+              on_result=None):
+    """Measure ``paths`` with the batch options; report progress and interruption.
+
+    ``on_result`` is called with each outcome as it arrives, in input order."""
     from ..batch import measure_many
 
     bar = None
@@ -383,6 +401,8 @@ def run_batch(args: argparse.Namespace, paths: list[str], options, settings):
 
     def tick(outcome) -> None:
         done.append(outcome)
+        if on_result is not None:
+            on_result(outcome)
         if bar is not None:
             bar.update(1)
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 import math
-from typing import Any
+from typing import Any, Sequence
 
 
 def _clean(v: Any) -> Any:
@@ -73,3 +73,27 @@ def dumps(obj: Any) -> str:
     _write(_clean(obj), "", out)
     out.append("\n")
     return "".join(out)
+
+
+def dumps_object_item(obj: dict[str, Any]) -> str:
+    """One object of a top-level JSON list, as :func:`dumps` writes it inside the list.
+
+    ``dumps_list([dumps_object_item(o) for o in objs]) == dumps(objs)``, so the objects of
+    a long list can be written as they arrive (a batch's records while the workers run).
+    """
+    if not isinstance(obj, dict):
+        raise TypeError("dumps_object_item writes objects (dicts) only")
+    out: list[str] = []
+    v = _clean(obj)
+    if _flat(v):
+        out.append(_FLAT(v))
+    else:
+        _write(v, "  ", out)
+    return "".join(out)
+
+
+def dumps_list(items: Sequence[str]) -> str:
+    """The JSON text of a list from its objects' :func:`dumps_object_item` texts."""
+    if not items:
+        return "[]\n"
+    return "[\n  " + ",\n  ".join(items) + "\n]\n"

@@ -1,14 +1,14 @@
 """Time bases of captures: is a time column increasing and uniform, and at what rate.
 
-Shared by the text-table reader (:mod:`flickerkit.tables`) and the binary
-readers (:mod:`flickerkit.readers`).
+Shared by the text-table reader (:mod:`.table_read`) and the 2-D ``.npy``
+reader (:mod:`.npy`).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 #: A sample this far (in sample intervals) from a uniform grid makes the time non-uniform.
 UNIFORM_TOLERANCE = 0.5
@@ -18,6 +18,7 @@ SAMPLE_RATE_RANGE_HZ = (1e-6, 1e12)
 
 
 def check_rate(fs: float, name: str) -> float:
+    """``fs`` [Hz] if within :data:`SAMPLE_RATE_RANGE_HZ`; else refused (a wrong time unit)."""
     lo, hi = SAMPLE_RATE_RANGE_HZ
     if not np.isfinite(fs) or not lo <= fs <= hi:
         raise InputError(f"the time column gives a sample rate of {fs:.3g} Hz, outside "

@@ -1,5 +1,7 @@
-"""Reading side files (project, drive, criteria, calibration, curve and transfer files) with the
-care captures get: regular files only, a size bound before reading, the encoding detected.
+"""Reading side files (project, drive, criteria, calibration, curve and transfer files).
+
+They get the care captures get: regular files only, a size bound before
+reading, the encoding detected.
 
 A device (``/dev/zero``), a FIFO or a socket is refused at once without blocking: the file is
 opened with ``O_NONBLOCK`` and checked with ``fstat`` before a byte is read. Text is UTF-8 (with
@@ -14,9 +16,9 @@ import stat
 from pathlib import Path
 from typing import Any
 
-from .errors import SettingsError
-from .fileio import note_input
-from .validate import MAX_SIDE_FILE_BYTES
+from ..errors import SettingsError
+from ..fileio import note_input
+from ..validate import MAX_SIDE_FILE_BYTES
 
 _BOMS = (
     (b"\xef\xbb\xbf", "utf-8-sig"),
