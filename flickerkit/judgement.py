@@ -30,53 +30,20 @@ KIND_TITLES = {"regulation": "Regulations", "recommended practice": "Recommended
 _LEAD = {"regulation": "Regulation", "recommended practice": "Recommended practice",
          "guidance": "Guidance", "user": "Your own criterion"}
 
-#: Attribute names under which a verdict may carry the component or band that decided it.
-_DECIDED_BY_NAMES = ("decided_by", "deciding_component", "component", "band")
-
-
-def _from_record(verdict: Verdict, criterion: Criterion | None,
-                 record: dict[str, Any] | None) -> str:
-    """The component or band named by the assessment object itself ('' when none)."""
-    if criterion is None or record is None:
-        return ""
-    m = criterion.metric
-    if m == "svm":
-        comps = (record.get("svm_detail") or {}).get("components") or []
-        comps = [c for c in comps if isinstance(c.get("share"), (int, float))]
-        if comps:
-            top = max(comps, key=lambda c: c["share"])
-            return (f"component at {top['frequency_hz']:.5g} Hz "
-                    f"({100 * top['share']:.3g} % of the SVM sum)")
-    if m.startswith("filtered_percent_flicker."):
-        return f"band below {m.split('.', 1)[1]} Hz (JA10.6 filter)"
-    if m == "below_90hz_modulation" and isinstance(record.get("frequency_hz"), (int, float)):
-        return f"fundamental at {record['frequency_hz']:.5g} Hz"
-    if m == "pst_lm":
-        return "weighted flicker of all components (Pst LM)"
-    return ""
-
-
-def decided_by(verdict: Verdict, criterion: Criterion | None = None,
-               record: dict[str, Any] | None = None) -> str:
+def decided_by(verdict: Verdict) -> str:
     """The component or band that decided a verdict, as text ('' when not known).
 
-    Read defensively: verdicts from flickerkit versions that judge per component
-    carry it as an attribute and that is used first; otherwise the capture's
-    assessment object (``record``), then the verdict's reason (which names the
-    mode and frequency for IEEE 1789).
+    The one :func:`flickerkit.criteria.judge` named from the assessment
+    (:attr:`Verdict.decided_by`: the SVM's strongest component, the JA10.6
+    band, the fundamental below 90 Hz, Pst LM's weighting); otherwise, for a
+    pass or fail, the verdict's reason (which names the IEEE 1789 mode and
+    frequency, or the modulation that decided it).
     """
-    for name in _DECIDED_BY_NAMES:
-        value = getattr(verdict, name, None)
-        if value is None or value == "":
-            continue
-        if isinstance(value, dict):
-            return ", ".join(f"{k} {v}" for k, v in value.items())
-        if hasattr(value, "describe") and callable(value.describe):
-            return str(value.describe())
-        return str(value)
+    if verdict.decided_by:
+        return verdict.decided_by
     if verdict.status not in ("pass", "fail"):
         return ""
-    return _from_record(verdict, criterion, record) or verdict.reason
+    return verdict.reason
 
 
 @dataclass(frozen=True)
@@ -167,13 +134,9 @@ def _margin_key(v: Verdict) -> float:
 
 
 def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
-            levels: Sequence[float | None],
-            records: dict[str, dict[str, Any]] | None = None) -> CriterionOutcome:
-    """Sum up one criterion's verdicts (those with its id) over the captures' ``levels``.
-
-    ``records`` (capture label -> assessment object) lets the outcome name the
-    component or band that decided it.
-    """
+            levels: Sequence[float | None]) -> CriterionOutcome:
+    """Sum up one criterion's verdicts (those with its id) over the captures' ``levels``
+    [percent]."""
     mine = [v for v in verdicts if v.criterion == criterion.id]
     counts = {s: sum(v.status == s for v in mine) for s in _SEVERITY}
     missing = missing_levels(criterion, levels)
@@ -188,22 +151,17 @@ def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
             break
     if worst is None:
         worst = next((v for v in mine if v.status == "insufficient data"), None)
-    by = "" if worst is None else decided_by(worst, criterion,
-                                             (records or {}).get(worst.label))
+    by = "" if worst is None else decided_by(worst)
     return CriterionOutcome(criterion, status, worst, by, missing, counts, tuple(mine))
 
 
 def group(criteria: Sequence[Criterion], verdicts: Sequence[Verdict],
-          levels: Sequence[float | None],
-          records: Sequence[dict[str, Any]] = ()) -> tuple[GroupOutcome, ...]:
-    """Outcomes per kind of document, in :data:`KINDS` order (kinds with no criterion left out).
-
-    ``records`` are the captures' assessment objects (matched to verdicts by label).
-    """
-    by_label = {str(r.get("label", "")): r for r in records}
+          levels: Sequence[float | None]) -> tuple[GroupOutcome, ...]:
+    """Outcomes per kind of document, in :data:`KINDS` order (kinds with no criterion left
+    out); ``levels`` are the captures' dimming levels [percent]."""
     out = []
     for kind in KINDS:
-        mine = tuple(outcome(c, verdicts, levels, by_label) for c in criteria if c.kind == kind)
+        mine = tuple(outcome(c, verdicts, levels) for c in criteria if c.kind == kind)
         if mine:
             out.append(GroupOutcome(kind, worst_status([o.status for o in mine]), mine))
     return tuple(out)
