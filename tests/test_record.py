@@ -360,3 +360,20 @@ def test_summary_and_chart_headers_do_not_run_together(demo_record):
     ws = wb["IEEE 1789 chart"]
     for col in "FG":
         assert ws.column_dimensions[col].width >= len(ws[f"{col}1"].value)
+
+
+def test_verdict_grid_names_stand_upright_on_their_own_page(demo_record):
+    # seen on the printed pages (LibreOffice): the grid's capture names sat in the verdict
+    # tables' narrow columns and wrapped mid-name ("ardent12_l / evel010.tx / t"), and the
+    # grid's title was left alone at the foot of page 1
+    from openpyxl import load_workbook
+
+    ws = load_workbook(demo_record / "ardent12_record.xlsx")["Summary"]
+    title = next(c for row in ws.iter_rows() for c in row
+                 if c.value == "Verdict per criterion and capture")
+    heads = [c for c in ws[title.row + 1][1:] if isinstance(c.value, str)]
+    assert len(heads) == 5
+    assert all(c.alignment.text_rotation == 90 for c in heads)
+    longest = max(len(c.value) for c in heads)
+    assert ws.row_dimensions[title.row + 1].height >= 6 * longest  # points: the names fit
+    assert title.row - 1 in [b.id for b in ws.row_breaks.brk]
