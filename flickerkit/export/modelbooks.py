@@ -219,7 +219,7 @@ def sweep_pictures(out: dict[str, Any]) -> list[Any]:
 
 
 def sweep_limits() -> list[tuple[str, float, str]]:
-    """Return the limit lines of the sweep's threshold criteria (``svm<=0.9``...) to draw."""
+    """Return the limit lines (metric, limit, name) of the sweep's threshold criteria."""
     from ..sweep import CRITERIA
 
     out = []
