@@ -147,11 +147,11 @@ class Criterion:
 
     @property
     def effective_from(self) -> _dt.date | None:
-        """Date the first limit takes effect."""
+        """Return the date the first limit takes effect (``None``: in force from the start)."""
         return self.schedule[0][0]
 
     def limit_on(self, date: _dt.date) -> float | None:
-        """Limit in force on ``date``; ``None`` before the first date."""
+        """Return the limit in force on ``date`` in :attr:`unit`; ``None`` before the first date."""
         current = None
         for start, limit in self.schedule:
             if start is None or start <= date:
@@ -204,10 +204,11 @@ class Verdict:
 
     @property
     def depends_on_threshold_form(self) -> bool:
-        """Whether the SVM threshold form decides this verdict."""
+        """Tell whether the SVM threshold form decides this verdict."""
         return bool(self.threshold_form)
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the verdict (``threshold_form`` None if it did not decide)."""
         return {"criterion": self.criterion, "label": self.label, "level": self.level,
                 "status": self.status, "measured": self.measured, "limit": self.limit,
                 "margin": self.margin, "reason": self.reason,
@@ -366,7 +367,9 @@ DEFAULT_CRITERIA = ("ieee1789-low-risk", "ieee1789-noel", "eu-2019-2020-svm",
 
 def get(ids: Sequence[str] | None = None,
         extra: Mapping[str, Criterion] | None = None) -> list[Criterion]:
-    """Criteria by id (built-in, then ``extra``); default :data:`DEFAULT_CRITERIA`.
+    """Return the criteria named by ``ids``, looked up built-in first, then in ``extra``.
+
+    With no ``ids``, the criteria of :data:`DEFAULT_CRITERIA`.
 
     Raises
     ------
@@ -387,7 +390,7 @@ def get(ids: Sequence[str] | None = None,
 
 
 def _insufficient(a: Assessment, requires: Sequence[str]) -> str | None:
-    """Why the assessment cannot be judged, or None."""
+    """Say why the assessment cannot be judged under ``requires``, or return None."""
     from .assess import MIN_PERIODS, MIN_SAMPLES_PER_PERIOD
 
     if "periodic" in requires and _finite(a.frequency_hz) is not None:
@@ -410,7 +413,7 @@ def _insufficient(a: Assessment, requires: Sequence[str]) -> str | None:
 
 
 def _finite(v: float | None) -> float | None:
-    """``v`` as a float when it is a finite number, else None (as the JSON would hold it)."""
+    """Return ``v`` as a float when it is a finite number, else None (as the JSON holds it)."""
     return None if v is None or not math.isfinite(v) else float(v)
 
 
@@ -420,7 +423,7 @@ STEADY_PERCENT_FLICKER = 1e-6
 
 
 def _no_period_reason(a: Assessment) -> tuple[str, str]:
-    """Verdict status and reason when the assessment found no fundamental frequency.
+    """Return the verdict status and reason when the assessment found no fundamental frequency.
 
     Steady light (percent flicker within the noise) is ``not applicable``; light
     that clearly modulates but shows no whole period (a capture shorter than
@@ -564,7 +567,7 @@ _RULES = ("ieee1789.low_risk", "ieee1789.noel", "below_90hz_modulation")
 
 
 def _judge_ieee(a: Assessment, criterion: Criterion, verdict: Callable[..., Verdict]) -> Verdict:
-    """An IEEE 1789 line: the headline reading's region, limit and what decided it."""
+    """Judge an IEEE 1789 line: the headline reading's region, limit and what decided it."""
     ieee = a.ieee1789
     if _finite(a.frequency_hz) is None or ieee is None:
         status, reason = _no_period_reason(a)
@@ -594,8 +597,11 @@ def _judge_ieee(a: Assessment, criterion: Criterion, verdict: Callable[..., Verd
 
 
 def _decided_by(a: Assessment, metric: str) -> str:
-    """The component or band of the assessment that decides a verdict on ``metric`` ('' when
-    the assessment names none; the verdict's reason then says how it was decided)."""
+    """Name the component or band of the assessment that decides a verdict on ``metric``.
+
+    '' when the assessment names none; the verdict's reason then says how it
+    was decided.
+    """
     if metric == "svm" and a.svm is not None:
         comps = [c for c in a.svm.components if _finite(c.share) is not None]
         if comps:
@@ -612,7 +618,7 @@ def _decided_by(a: Assessment, metric: str) -> str:
 
 
 def _threshold_form(criterion: Criterion, result: SvmResult, ok: bool, limit: float) -> str:
-    """For an SVM criterion: a sentence when the other threshold form flips the verdict."""
+    """Write a sentence for an SVM verdict that the other threshold form flips (else '')."""
     other = _finite(result.other_value)
     name = result.other_threshold
     if other is None or not name:
@@ -628,7 +634,7 @@ def judge_all(assessments: Sequence[Assessment | None], criteria: Sequence[Crite
               levels: Sequence[float | None] | None = None,
               date: _dt.date | None = None,
               labels: Sequence[str | None] | None = None) -> list[Verdict]:
-    """Every assessment against every criterion (assessment-major order).
+    """Judge every assessment against every criterion (assessment-major order).
 
     ``levels`` [percent] and ``labels`` (default: the assessments' own) go with
     the assessments, one each.
@@ -641,8 +647,11 @@ def judge_all(assessments: Sequence[Assessment | None], criteria: Sequence[Crite
 
 
 def overall(verdicts: Sequence[Verdict]) -> str:
-    """``fail`` if any fails, else ``insufficient data`` if any is, else ``pass``
-    (``not applicable`` when nothing applied)."""
+    """Return the overall status of some verdicts.
+
+    ``fail`` if any fails, else ``insufficient data`` if any is, else
+    ``pass`` (``not applicable`` when nothing applied).
+    """
     statuses = {v.status for v in verdicts}
     for s in ("fail", "insufficient data", "pass"):
         if s in statuses:
@@ -655,12 +664,13 @@ def _levels(levels: Sequence[float]) -> str:
 
 
 def from_mapping(data: Mapping[str, Any], *, where: str = "") -> Criterion:
-    """A user criterion from a TOML table.
+    """Build a user criterion from a TOML table.
 
     Keys: ``id``, ``metric``, ``limit``, ``comparison`` (default ``<=``), and
-    optionally ``title``, ``source``, ``applies_to``, ``levels`` (list of
-    percent), ``effective_from`` (date), ``confidence`` (default
-    ``recalled`` unless ``sourced``/``secondary`` is given), ``note``.
+    optionally ``title``, ``source``, ``applies_to``, ``unit``, ``levels``
+    (list of percent), ``effective_from`` (date), ``confidence`` (default
+    ``recalled`` unless ``sourced``/``secondary`` is given), ``requires``,
+    ``note``.
     """
     from .validate import check_table
 
@@ -714,7 +724,7 @@ _USER_KEYS = _user_keys()
 
 
 def load_user_criteria(path: str | Path) -> dict[str, Criterion]:
-    """User criteria from a TOML file with ``[[criterion]]`` tables.
+    """Load user criteria from a TOML file with ``[[criterion]]`` tables.
 
     Raises
     ------

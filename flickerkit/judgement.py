@@ -31,7 +31,7 @@ _LEAD = {"regulation": "Regulation", "recommended practice": "Recommended practi
          "guidance": "Guidance", "user": "Your own criterion"}
 
 def decided_by(verdict: Verdict) -> str:
-    """The component or band that decided a verdict, as text ('' when not known).
+    """Name the component or band that decided a verdict ('' when not known).
 
     The one :func:`flickerkit.criteria.judge` named from the assessment
     (:attr:`Verdict.decided_by`: the SVM's strongest component, the JA10.6
@@ -79,6 +79,7 @@ class CriterionOutcome:
     verdicts: tuple[Verdict, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the outcome (the worst verdict's figures flattened)."""
         w = self.worst
         return {"criterion": self.criterion.id, "kind": self.criterion.kind,
                 "status": self.status,
@@ -103,15 +104,17 @@ class GroupOutcome:
 
     @property
     def title(self) -> str:
+        """Return the heading of the kind of document, for reports."""
         return KIND_TITLES.get(self.kind, self.kind)
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the group (its criteria's outcomes as a list)."""
         return {"kind": self.kind, "status": self.status,
                 "criteria": [c.to_dict() for c in self.criteria]}
 
 
 def worst_status(statuses: Sequence[str]) -> str:
-    """The worst of some statuses (``not applicable`` when there are none)."""
+    """Return the worst of some statuses (``not applicable`` when there are none)."""
     present = set(statuses)
     for s in _SEVERITY:
         if s in present:
@@ -120,7 +123,7 @@ def worst_status(statuses: Sequence[str]) -> str:
 
 
 def missing_levels(criterion: Criterion, levels: Sequence[float | None]) -> tuple[float, ...]:
-    """Levels ``criterion`` requires that none of ``levels`` matches [percent]."""
+    """Return the levels ``criterion`` requires that none of ``levels`` matches [percent]."""
     if criterion.levels is None:
         return ()
     have = [lv for lv in levels if isinstance(lv, (int, float))]
@@ -135,8 +138,12 @@ def _margin_key(v: Verdict) -> float:
 
 def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
             levels: Sequence[float | None]) -> CriterionOutcome:
-    """Sum up one criterion's verdicts (those with its id) over the captures' ``levels``
-    [percent]."""
+    """Sum up one criterion's verdicts (those with its id) over the captures.
+
+    ``levels`` are the captures' dimming levels [percent]; a level the
+    criterion requires that none of them matches turns a pass (or a criterion
+    with no verdict) into ``insufficient data``.
+    """
     mine = [v for v in verdicts if v.criterion == criterion.id]
     counts = {s: sum(v.status == s for v in mine) for s in _SEVERITY}
     missing = missing_levels(criterion, levels)
@@ -157,8 +164,11 @@ def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
 
 def group(criteria: Sequence[Criterion], verdicts: Sequence[Verdict],
           levels: Sequence[float | None]) -> tuple[GroupOutcome, ...]:
-    """Outcomes per kind of document, in :data:`KINDS` order (kinds with no criterion left
-    out); ``levels`` are the captures' dimming levels [percent]."""
+    """Sum up the verdicts per kind of document, in :data:`KINDS` order.
+
+    Kinds with no criterion are left out; ``levels`` are the captures'
+    dimming levels [percent].
+    """
     out = []
     for kind in KINDS:
         mine = tuple(outcome(c, verdicts, levels) for c in criteria if c.kind == kind)
@@ -168,7 +178,7 @@ def group(criteria: Sequence[Criterion], verdicts: Sequence[Verdict],
 
 
 def verdicts_of(o: CriterionOutcome) -> tuple[Verdict, ...]:
-    """The verdicts an outcome sums up."""
+    """Return the verdicts an outcome sums up."""
     return o.verdicts
 
 
@@ -179,7 +189,7 @@ _LINE_RIPPLE_RTOL = 0.01
 
 
 def _on_line_ripple(reason: str) -> bool:
-    """Whether a verdict's reason names a frequency at twice a line frequency."""
+    """Tell whether a verdict's reason names a frequency at twice a line frequency."""
     import re
 
     for m in re.finditer(r"at ([0-9]+(?:\.[0-9]+)?) Hz", reason or ""):
@@ -204,7 +214,7 @@ def _num(x: float | None, spec: str = ".3g") -> str:
 
 
 def limiting_text(groups: Sequence[GroupOutcome]) -> str:
-    """A short plain-language paragraph: what limits the product and what would change it.
+    """Write a short plain-language paragraph on what limits the product and what would change it.
 
     Worded as an engineering suggestion; it carries the caution that the
     applicable standards, local codes and an accredited laboratory decide.

@@ -31,7 +31,7 @@ class UnknownKey(SettingsError):
 
 
 def _attr(*names: str) -> Callable[[Assessment], float | None]:
-    """Getter of ``a.<n1>.<n2>...``; ``None`` where a part is ``None`` (not computed)."""
+    """Return a getter of ``a.<n1>.<n2>...``; it gives ``None`` where a part is not computed."""
     def get(a: Assessment) -> float | None:
         cur: Any = a
         for n in names:
@@ -92,7 +92,7 @@ def _cutoff(name: str) -> float | None:
 
 
 def check_name(name: str) -> str:
-    """``name`` if it names a figure a criterion can compare, else :class:`UnknownKey`.
+    """Return ``name`` if it names a figure a criterion can compare, else raise :class:`UnknownKey`.
 
     Raises
     ------
@@ -120,7 +120,7 @@ def check_name(name: str) -> str:
 
 
 def figure(a: Assessment, name: str) -> float | None:
-    """The figure ``name`` of an assessment.
+    """Return the figure ``name`` of an assessment.
 
     Parameters
     ----------
@@ -159,7 +159,7 @@ def figure(a: Assessment, name: str) -> float | None:
 
 
 def figure_or_none(record: Mapping[str, Any], path: str) -> Any:
-    """A cell of a record's JSON object at a dotted key path; ``None`` where there is none.
+    """Return the cell of a record's JSON object at a dotted key path, or ``None``.
 
     For the export edge only (fixed workbook columns over the JSON objects of
     records of several kinds: a voltage capture has no ``svm``, a blank cell).

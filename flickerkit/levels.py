@@ -17,7 +17,7 @@ _SNAP_ULPS = 4
 
 
 def percent(level: float | None) -> float | None:
-    """A dimming level as the edges give it: fraction of full output [0-1] -> percent [%].
+    """Turn a dimming level from a fraction of full output [0-1] into percent [%] for the edges.
 
     Undoes the last-bit error of a percent that was turned into a fraction
     (:func:`fraction`), so a level given as 7 % is shown as 7 %.
@@ -37,7 +37,7 @@ def percent(level: float | None) -> float | None:
 
 
 def fraction(level_percent: float) -> float:
-    """A dimming level from the edges: percent [%] -> fraction of full output [0-1]."""
+    """Turn a dimming level given at the edges in percent [%] into a fraction of full output."""
     return float(level_percent) / 100.0
 
 

@@ -80,6 +80,7 @@ class Target:
 
     @property
     def name(self) -> str:
+        """Return the target as ``--target`` spells it (``svm<=0.4``, ``ieee1789-noel``)."""
         return f"svm<={self.limit:g}" if self.kind == "svm" else self.kind
 
 
@@ -143,7 +144,7 @@ class LevelFigures:
     svm: float
 
     def meets(self, target: Target) -> bool:
-        """Whether the level meets a target."""
+        """Tell whether the level meets a target."""
         if target.kind == "svm":
             assert target.limit is not None  # parse_targets gives every SVM target a limit
             return self.svm <= target.limit * (1 + 1e-12)
@@ -154,7 +155,7 @@ class LevelFigures:
 
 
 def svm_of_series(fs) -> float:
-    """SVM of a model's Fourier series (shared SVM sum, default threshold)."""
+    """Return the SVM [unitless] of a model's Fourier series (shared SVM sum, default threshold)."""
     from . import svm
 
     if fs.frequencies_hz.size == 0:
@@ -164,8 +165,10 @@ def svm_of_series(fs) -> float:
 
 
 def with_unrelated_modulation(light, f0: float, res):
-    """The IEEE 1789 reading, or worse: the other modulation (PWM or ripple) at its own
-    frequency when it is not a harmonic of ``f0`` (as ``assess`` judges a capture).
+    """Judge the other modulation of a light beside its IEEE 1789 reading; keep the worse.
+
+    The other modulation (PWM or ripple) is judged at its own frequency when
+    it is not a harmonic of ``f0``, as ``assess`` judges a capture.
 
     Parameters
     ----------
@@ -196,7 +199,7 @@ def with_unrelated_modulation(light, f0: float, res):
 
 def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = True
             ) -> LevelFigures:
-    """Perception figures of a model (closed-form path).
+    """Compute the perception figures of a model (closed-form path).
 
     Parameters
     ----------
@@ -217,7 +220,7 @@ def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = 
 
 
 def default_levels(min_level: float, count: int = 25) -> np.ndarray:
-    """Levels from ``min_level`` to 1, log-spaced, with 0.5 added [unitless]."""
+    """Return levels from ``min_level`` to 1, log-spaced, with 0.5 added [unitless]."""
     if not (0 < min_level <= 1):
         raise SettingsError(f"smallest level must be in (0, 1], got {min_level:g}")
     lv = np.geomspace(min_level, 1.0, max(count, 2))
@@ -226,7 +229,7 @@ def default_levels(min_level: float, count: int = 25) -> np.ndarray:
 
 def _check_at(drive: Drive, f: float, levels: Sequence[float], targets: Sequence[Target]
               ) -> tuple[bool, float | None, str | None]:
-    """Whether all levels meet all targets at f; else the first failing level and target."""
+    """Tell whether all levels meet all targets at f [Hz]; else the first failing level, target."""
     need_svm = any(t.kind == "svm" for t in targets)
     d = drive.with_frequency(f)
     for lv in levels:  # lowest level first: usually the worst
@@ -238,7 +241,7 @@ def _check_at(drive: Drive, f: float, levels: Sequence[float], targets: Sequence
 
 
 def check_tolerance(tolerance: float) -> float:
-    """A valid frequency tolerance (fraction, 0 to :data:`MAX_TOLERANCE`), else SettingsError."""
+    """Return a valid frequency tolerance (fraction, 0 to :data:`MAX_TOLERANCE`); else raise."""
     try:
         t = float(tolerance)
     except (TypeError, ValueError):
@@ -268,7 +271,7 @@ class AbruptPoint:
     cause: str
 
     def to_dict(self) -> dict:
-        """JSON object."""
+        """Return the JSON object of the abrupt point."""
         return {"frequency_hz": self.frequency_hz, "target": self.target, "cause": self.cause}
 
 
@@ -294,7 +297,7 @@ class AbruptChange(AbruptPoint):
     offset_percent: float = 0.0
 
     def to_dict(self) -> dict:
-        """JSON object."""
+        """Return the JSON object of the abrupt change, with the figures around it."""
         return {**super().to_dict(), "figure_below": self.figure_below,
                 "figure_at": self.figure_at, "figure_above": self.figure_above,
                 "inside_band": self.inside_band, "offset_percent": self.offset_percent}
@@ -302,7 +305,7 @@ class AbruptChange(AbruptPoint):
 
 def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: float
                   ) -> list[AbruptPoint]:
-    """PWM frequencies in [f_lo, f_hi] at which a target's figure jumps.
+    """Find the PWM frequencies in [f_lo, f_hi] [Hz] at which a target's figure jumps.
 
     Parameters
     ----------
@@ -371,7 +374,7 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
 
 def band_frequencies(drive: Drive, targets: Sequence[Target], f_hz: float, tolerance: float
                      ) -> np.ndarray:
-    """Frequencies that stand for the band ``f (1 +- tolerance)`` [Hz].
+    """Return the frequencies that stand for the band ``f (1 +- tolerance)`` [Hz].
 
     Its ends, :data:`BAND_POINTS` log-spaced points between them, and each
     abrupt point inside (:func:`abrupt_points`) with its neighbours a relative
@@ -391,7 +394,7 @@ def band_frequencies(drive: Drive, targets: Sequence[Target], f_hz: float, toler
 
 def check_band(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[float],
                targets: Sequence[Target]) -> tuple[bool, float | None, float | None, str | None]:
-    """Whether every frequency of ``f (1 +- tolerance)`` meets the targets at every level.
+    """Check that every frequency of ``f (1 +- tolerance)`` meets the targets at every level.
 
     Returns
     -------
@@ -409,7 +412,7 @@ def check_band(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[flo
 
 def band_meets(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[float],
                targets: Sequence[Target]) -> dict[str, bool]:
-    """Per target: whether it is met at every level over ``f (1 +- tolerance)``.
+    """Tell, per target, whether it is met at every level over ``f (1 +- tolerance)``.
 
     Each frequency and level is modelled once for all targets (see
     :func:`band_frequencies` for the frequencies checked).
@@ -433,7 +436,7 @@ def band_meets(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[flo
 def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
               lowest_hz: float, tolerance: float, f_max_hz: float
               ) -> tuple[float | None, list[str]]:
-    """Lowest nominal frequency from ``lowest_hz`` up whose whole tolerance band meets the targets.
+    """Find the lowest frequency from ``lowest_hz`` up whose tolerance band meets the targets.
 
     Parameters
     ----------
@@ -469,7 +472,7 @@ def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
 
 def abrupt_changes(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
                    f_hz: float, tolerance: float) -> list[AbruptChange]:
-    """Abrupt changes of the targets near ``f_hz``, with the figures either side.
+    """Find the abrupt changes of the targets near ``f_hz``, with the figures either side.
 
     "Near" is within :data:`NEARBY_FRACTION` of ``f_hz`` or twice the
     tolerance, whichever is wider. Each entry gives the PWM frequency, the
@@ -544,7 +547,7 @@ class FrequencyResult:
     limiting_target: str | None
 
     def to_dict(self) -> dict:
-        """JSON object; the limiting level in percent."""
+        """Return the JSON object of the result; the limiting level in percent."""
         lv = percent(self.limiting_level)
         return {"targets": [t.name for t in self.targets], "frequency_hz": self.frequency_hz,
                 "holds_at_all_higher_frequencies_checked": self.holds_above,
@@ -560,7 +563,7 @@ def lowest_frequency(
     range_hz: tuple[float, float] = DEFAULT_RANGE_HZ,
     grid_points: int = GRID_POINTS,
 ) -> FrequencyResult:
-    """Lowest PWM frequency at which every level meets every target.
+    """Find the lowest PWM frequency at which every level meets every target.
 
     Parameters
     ----------
@@ -643,7 +646,7 @@ class Resolution:
 
     @property
     def light_step(self) -> float:
-        """Largest light step allowed at the bottom, relative to full output [unitless]."""
+        """Return the largest light step allowed at the bottom [fraction of full output]."""
         steps = []
         if self.bits is not None:
             steps.append(2.0 ** -self.bits)
@@ -653,11 +656,12 @@ class Resolution:
 
     @property
     def counts(self) -> int:
-        """Counts per period needed with plain PWM [counts]."""
+        """Return the counts per period needed with plain PWM [counts]."""
         s = self.light_step
         return 1 if math.isinf(s) else int(math.ceil(1.0 / s - 1e-9))
 
     def describe(self) -> str:
+        """Say in words what resolution is needed (``none`` when nothing is asked)."""
         parts = []
         if self.bits is not None:
             parts.append(f"{self.bits:g} bits")
@@ -695,7 +699,7 @@ class SettingCheck:
     meets_all: bool
 
     def to_dict(self) -> dict:
-        """JSON object: the setting's keys and the checks."""
+        """Return the JSON object of the check: the setting's keys and the checks."""
         return {**self.setting.to_dict(), "minimum_duty": self.minimum_duty,
                 "minimum_count": self.minimum_count,
                 "reaches_smallest_level": self.reaches_smallest_level,
@@ -741,7 +745,7 @@ class ClockOption:
     option: str = "faster clock or high-resolution timer"
 
     def to_dict(self) -> dict:
-        """JSON object."""
+        """Return the JSON object of the clock option."""
         return {"option": self.option, "clock_hz": self.clock_hz,
                 "high_resolution_step_s": self.high_resolution_step_s, "cost": self.cost}
 
@@ -775,7 +779,7 @@ class HybridOption:
     option: str = "hybrid dimming"
 
     def to_dict(self) -> dict:
-        """JSON object; the crossover level in percent."""
+        """Return the JSON object of the option; the crossover level in percent."""
         if not self.possible:
             return {"option": self.option, "possible": False, "cost": self.cost}
         return {"option": self.option, "possible": True,
@@ -832,7 +836,7 @@ class DitherOption:
     option: str = "dithering"
 
     def to_dict(self) -> dict:
-        """JSON object."""
+        """Return the JSON object of the dithering option (only ``cost`` if not possible)."""
         if not self.possible:
             return {"option": self.option, "extra_bits": self.extra_bits, "possible": False,
                     "cost": self.cost}
@@ -857,7 +861,7 @@ Option = ClockOption | HybridOption | DitherOption
 
 def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequence[Target]
                  ) -> DitherOption:
-    """Dithering option: bits needed and the dither's own flicker at the setting."""
+    """Cost the dithering option: bits needed and the dither's own flicker at the setting."""
     m = max(1, math.ceil(math.log2(res.counts / s.counts) - 1e-12))
     if m > MAX_DITHER_BITS:
         return DitherOption(False, m, f"{m} dither bits would be needed (more than "
@@ -959,18 +963,21 @@ class Plan:
 
     @property
     def lowest_frequency_hz(self) -> float | None:
-        """Lowest frequency meeting every target on an exact clock [Hz]."""
+        """Return the lowest frequency meeting every target on an exact clock [Hz]."""
         return self.frequency.frequency_hz
 
     @property
     def recommended_band_hz(self) -> tuple[float, float] | None:
-        """The recommended frequency's tolerance band [Hz]."""
+        """Return the recommended frequency's tolerance band [Hz]."""
         f = self.recommended_frequency_hz
         return None if f is None else (f * (1 - self.tolerance), f * (1 + self.tolerance))
 
     def to_dict(self) -> dict:
-        """The JSON object (keys as the ``plan`` command documents them; levels, the
-        tolerance and the crossover level in percent)."""
+        """Return the JSON object of the plan.
+
+        Keys as the ``plan`` command documents them; levels, the tolerance and
+        the crossover level are in percent.
+        """
         t = self.timer
         band = self.recommended_band_hz
         out = {

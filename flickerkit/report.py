@@ -50,16 +50,18 @@ class Report:
                         .strftime("%Y-%m-%d %H:%M:%S UTC"))
 
     def verdicts_for(self, criterion_id: str) -> list[Verdict]:
+        """Return the verdicts of one criterion, in the order of :attr:`verdicts`."""
         return [v for v in self.verdicts if v.criterion == criterion_id]
 
     @property
     def limiting(self) -> str:
-        """What limits the product, in plain words (:func:`flickerkit.judgement.limiting_text`)."""
+        """Say what limits the product, in plain words (see :func:`.judgement.limiting_text`)."""
         from .judgement import limiting_text
 
         return limiting_text(self.groups)
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the report (``--json``), with its cautions."""
         return {
             "product": self.project.product,
             "judged_on": self.project.judged_on.isoformat(),
@@ -74,7 +76,7 @@ class Report:
 
 
 def sha256(path: Path) -> str:
-    """SHA-256 of a file, read in 1 MiB blocks."""
+    """Return the SHA-256 of a file (hex), read in 1 MiB blocks."""
     h = hashlib.sha256()
     with open(path, "rb") as fh:
         for block in iter(lambda: fh.read(1 << 20), b""):
@@ -83,8 +85,11 @@ def sha256(path: Path) -> str:
 
 
 def _sha256_or_reason(path: Path) -> str:
-    """The file's SHA-256, or why it could not be read (the capture is then reported as not
-    measured by its own outcome; one unreadable file never stops the report)."""
+    """Return the file's SHA-256, or why it could not be read.
+
+    The capture is then reported as not measured by its own outcome; one
+    unreadable file never stops the report.
+    """
     try:
         return sha256(path)
     except OSError as exc:
@@ -228,7 +233,7 @@ def build_report(project: Project, *, workers: int | None = None,
 
 def judge_capture(assessment: Assessment, *, chosen: tuple[criteria.Criterion, ...],
                   level: float | None, label: str, date: _dt.date) -> tuple[Verdict, ...]:
-    """A capture's verdicts against the chosen criteria, from its typed assessment.
+    """Judge a capture against the chosen criteria, from its typed assessment.
 
     Run in the worker that measured it (:func:`flickerkit.batch.measure_many`'s
     ``then``); ``level`` [percent] and ``label`` are the project's. A report's
@@ -259,10 +264,11 @@ def _steps_table(project: Project):
 
 
 def capture_traces(report: Report, periods: int = 4) -> dict[str, Any]:
-    """A few periods of each measured capture's samples, read again from its file, by label.
+    """Return a few periods of each measured capture's samples, read again from its file.
 
-    For a drive project the modelled light of each level is used. Captures
-    that cannot be read again are left out (their pictures show the spectrum only).
+    The traces are keyed by label. For a drive project the modelled light of
+    each level is used. Captures that cannot be read again are left out (their
+    pictures show the spectrum only).
     """
     from .errors import FlickerkitError
     from .export.figures import trace_of
@@ -300,7 +306,7 @@ def capture_traces(report: Report, periods: int = 4) -> dict[str, Any]:
 
 
 def report_pictures(report: Report) -> list[Any]:
-    """Every picture of the record: per capture, then the IEEE 1789 chart and metrics by level."""
+    """Draw every picture of the record: per capture, then the IEEE 1789 chart, metrics by level."""
     from .export.figures import capture_pictures, ieee_figure, levels_figure, limit_lines, render
 
     pics = capture_pictures(report.records, capture_traces(report), sheet="Pictures")

@@ -40,7 +40,7 @@ SWEEP_MAX_SAMPLES = 2**15
 
 
 def _eu_limits() -> tuple[tuple[str, str, str, float], ...]:
-    """The EU 2019/2020 limits a sweep checks, read from :data:`criteria.REGISTRY`.
+    """Return the EU 2019/2020 limits a sweep checks, read from :data:`criteria.REGISTRY`.
 
     One row per step of each criterion's schedule: (name, title, metric, limit).
     The limits have one home, the registry; the names (``svm<=0.9``) are the
@@ -103,7 +103,7 @@ class CaptureFigures:
     n_samples: int
 
     def to_dict(self) -> dict[str, Any]:
-        """The JSON object (``capture_figures``)."""
+        """Return the JSON object of the figures (``capture_figures`` in a record)."""
         return {k: (float(v) if isinstance(v, float) else v) for k, v in
                 (("percent_flicker", self.percent_flicker),
                  ("flicker_index", self.flicker_index), ("svm", self.svm),
@@ -131,7 +131,7 @@ class ModelledLight:
     figures_source: str = FIGURES_SOURCE
 
     def to_dict(self) -> dict[str, Any]:
-        """The JSON object: the assessment's, plus ``capture_figures`` and ``figures_source``."""
+        """Return the assessment's JSON object plus ``capture_figures`` and ``figures_source``."""
         rec = self.assessment.to_dict()
         rec["capture_figures"] = self.capture_figures.to_dict()
         rec["figures_source"] = self.figures_source
@@ -140,7 +140,7 @@ class ModelledLight:
 
 def model_assessment(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = "",
                      settings=None) -> ModelledLight:
-    """The assessment of a model's light, with the model's exact figures at its head.
+    """Assess a model's light, with the model's exact figures at the head of the assessment.
 
     Parameters
     ----------
@@ -219,13 +219,13 @@ def model_assessment(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str 
 
 def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = "",
                  settings=None) -> dict[str, Any]:
-    """:func:`model_assessment` as its JSON object (for callers that print or tabulate it)."""
+    """Return :func:`model_assessment` as its JSON object (for callers that print or tabulate)."""
     return model_assessment(model, max_samples=max_samples, label=label,
                             settings=settings).to_dict()
 
 
 def _exact_harmonics(light, f0: float | None, count: int, t0_s: float):
-    """The first ``count`` harmonics of ``f0`` from the model's exact Fourier series.
+    """Return the first ``count`` harmonics of ``f0`` [Hz] from the model's exact Fourier series.
 
     Phases are taken at ``t0_s`` [s], the centre of the capture's first sample
     (its samples are interval averages), as ``measure`` reports them.
@@ -257,7 +257,7 @@ def _exact_harmonics(light, f0: float | None, count: int, t0_s: float):
 
 
 def _fails(row: LevelRow, name: str) -> bool | None:
-    """Whether a level fails a sweep criterion; None when its figure is not known there."""
+    """Tell whether a level fails a sweep criterion; None when its figure is not known there."""
     a = row.assessment
     if a is None:
         return None
@@ -308,12 +308,16 @@ class LevelRow:
 
     @property
     def assessment(self) -> Assessment | None:
-        """The level's assessment (None when it makes no light)."""
+        """Return the level's assessment (None when it makes no light)."""
         return None if self.light is None else self.light.assessment
 
     def to_dict(self) -> dict[str, Any]:
-        """The JSON object: the assessment's keys plus ``level`` [percent],
-        ``relative_light``, ``model_percent_flicker`` and ``model``."""
+        """Return the JSON object of the level.
+
+        The assessment's keys plus ``level`` [percent], ``relative_light``
+        [fraction of full output], ``model_percent_flicker`` [percent] and
+        ``model``.
+        """
         if self.light is not None:
             rec = self.light.to_dict()
         else:
@@ -350,8 +354,12 @@ class SweepResult:
     not_assessed: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
-        """The JSON object: dimming levels in percent (``level``, ``first_failing_level``),
-        as ``report`` gives them; ``relative_light`` stays a fraction of full output."""
+        """Return the JSON object of the sweep.
+
+        Dimming levels are in percent (``level``, ``first_failing_level``), as
+        ``report`` gives them; ``relative_light`` stays a fraction of full
+        output.
+        """
         return {"drive": self.drive,
                 "levels": [r.to_dict() for r in self.rows],
                 "first_failing_level": {k: percent(v) for k, v in self.first_failing.items()},

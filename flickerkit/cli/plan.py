@@ -44,6 +44,7 @@ examples:
 
 
 def add_parser(sub) -> None:
+    """Add the ``plan`` command and its options to the subcommand parsers ``sub``."""
     p = sub.add_parser("plan", help=HELP, description=DESCRIPTION,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("-t", "--target", required=True, metavar="TARGETS",
@@ -105,6 +106,16 @@ def _range(text: str):
 
 
 def run(args: argparse.Namespace) -> int:
+    """Plan the PWM frequency and timer setting the options ask for; return the exit status.
+
+    The plan is printed as text or JSON, and written to a workbook and
+    pictures when asked; a note on stderr says that it models the light.
+
+    Raises
+    ------
+    SettingsError
+        For an option out of range or timer options without ``--clock-mhz``.
+    """
     from ..errors import SettingsError
     from ..fileio import check_writable
     from ._driveopts import drive_from_args
@@ -162,7 +173,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def text(p: Plan) -> str:
-    """The plan for the terminal."""
+    """Write the plan as text for the terminal."""
     from ..export.table import fmt, render
     from ..levels import percent
 

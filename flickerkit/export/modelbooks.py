@@ -187,8 +187,11 @@ def write_plan_workbook(path: str | Path, plan: Plan, *, force: bool = False,
 
 def _finish(wb, settings_sheet, product: str, path: str | Path, force: bool,
             pictures: Sequence[Any] | None, titles: tuple[str, str, str]) -> Path:
-    """Wrap the settings sheet, add the pictures, set properties and page set-up, and write
-    the workbook atomically; ``titles`` are (title, subject, printed document name)."""
+    """Finish a model workbook and write it atomically.
+
+    Wraps the settings sheet, adds the pictures and sets the properties and
+    page set-up; ``titles`` are (title, subject, printed document name).
+    """
     from openpyxl.styles import Alignment
 
     wrap = Alignment(wrap_text=True, vertical="top")
@@ -204,7 +207,7 @@ def _finish(wb, settings_sheet, product: str, path: str | Path, force: bool,
 
 
 def sweep_pictures(out: dict[str, Any]) -> list[Any]:
-    """The sweep's IEEE 1789 chart and metrics against level (per product)."""
+    """Draw the sweep's IEEE 1789 chart and its metrics against level (per product)."""
     from .figures import ieee_figure, levels_figure, render
 
     recs = [{**r, "label": r.get("label") or f"level {r['level']:.4g} %"}
@@ -216,7 +219,7 @@ def sweep_pictures(out: dict[str, Any]) -> list[Any]:
 
 
 def sweep_limits() -> list[tuple[str, float, str]]:
-    """Limit lines of the sweep's threshold criteria (``svm<=0.9``...), as the sweep judges them."""
+    """Return the limit lines (metric, limit, name) of the sweep's threshold criteria."""
     from ..sweep import CRITERIA
 
     out = []
@@ -228,7 +231,7 @@ def sweep_limits() -> list[tuple[str, float, str]]:
 
 
 def plan_pictures(plan: Plan) -> list[Any]:
-    """The plan's timer settings against the lowest frequency and the resolution needed."""
+    """Draw the plan's timer settings against the lowest frequency and the resolution needed."""
     from .figures import plan_figure, render
 
     # the picture is drawn from the plan's JSON object, as the other pictures are
