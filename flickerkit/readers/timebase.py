@@ -18,7 +18,7 @@ SAMPLE_RATE_RANGE_HZ = (1e-6, 1e12)
 
 
 def check_rate(fs: float, name: str) -> float:
-    """Return ``fs`` [Hz] if in :data:`SAMPLE_RATE_RANGE_HZ`; refuse it otherwise (wrong time unit)."""
+    """Return ``fs`` [Hz] if in :data:`SAMPLE_RATE_RANGE_HZ`; else refuse it (wrong time unit)."""
     lo, hi = SAMPLE_RATE_RANGE_HZ
     if not np.isfinite(fs) or not lo <= fs <= hi:
         raise InputError(f"the time column gives a sample rate of {fs:.3g} Hz, outside "
