@@ -42,6 +42,11 @@ NOISE_MARGIN = 3.0
 #: flicker, the headline figures are taken from the period-averaged waveform (project
 #: choice: below it, noise moves the raw figure by less than 1 %).
 NOISE_HEADLINE_SHARE = 0.01
+#: The period-averaged waveform stands in for the raw figures only when the raw percent
+#: flicker exceeds it by no more than this many times what noise can add over the whole
+#: capture; a larger gap is modulation the average lost (an envelope or ripple not locked
+#: to the period, or a period estimate that smears the fold). Chosen here, no source.
+AVERAGE_LOSS_FACTOR = 1.5
 #: Filtered percent flicker (JA10.6) uses at most this many samples, or 1 s if that is
 #: more (JA10.5 asks for at least 1 s of data); five inverse FFTs of a whole long
 #: capture would cost more than the rest of the assessment.
@@ -482,7 +487,20 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
             and noise_pf > NOISE_HEADLINE_SHARE * pf_raw:
         used = int(min(n, metrics.NOISE_SAMPLES) // float(period.period_samples or n))
         rob = metrics.robust_flicker(template, noise, used)
-        if np.isfinite(rob.percent_flicker):
+        noise_whole = metrics.noise_percent_flicker(noise, mean, n)
+        lost = pf_raw - rob.percent_flicker
+        if np.isfinite(rob.percent_flicker) and \
+                lost > AVERAGE_LOSS_FACTOR * noise_whole + rob.noise_limit_percent:
+            # the average lost real modulation: the raw figure stands, with its noise
+            noise_limit = float(noise_whole)
+            warnings.warn(CaptureWarning(
+                f"the period-averaged waveform ({rob.percent_flicker:.3g} % percent flicker) "
+                f"lies {lost:.3g} points below the raw figure, more than noise explains "
+                f"(up to {noise_whole:.2g} %): the light holds modulation not locked to the "
+                f"{period.frequency_hz:.6g} Hz period, or the period is off; the headline is "
+                f"the raw min/max figure {pf_raw:.3g} %, which noise may raise by up to "
+                f"{noise_whole:.2g} percentage points"))
+        elif np.isfinite(rob.percent_flicker):
             pf, fi, headline, noise_limit = (rob.percent_flicker, rob.flicker_index, rob.method,
                                              rob.noise_limit_percent)
             warnings.warn(CaptureWarning(

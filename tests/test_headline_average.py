@@ -1,0 +1,71 @@
+"""The period-averaged headline never hides modulation the average lost.
+
+When noise would raise the raw (min/max) percent flicker, the headline is taken from
+the period-averaged waveform. That waveform holds only what is locked to the period
+found: an envelope or ripple not locked to it, or a period estimate a fraction off
+(which smears the fold over a long capture), vanishes from it. The raw figure then
+stands, with a warning, rather than a small figure that exits 0.
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+
+import flickerkit as fk
+
+
+def _assess(y: np.ndarray, fs: float):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return fk.assess_light(fk.make_capture(y, fs, label="invented"))
+
+
+def _noisy(y: np.ndarray, snr_db: float, seed: int) -> np.ndarray:
+    rng = np.random.default_rng(seed)
+    return y + rng.normal(0.0, np.std(y) * 10 ** (-snr_db / 20), y.size)
+
+
+def test_three_channels_with_gaps_are_not_read_as_steady():
+    # Three PWM channels at 1 kHz, duty 0.3, phased by a third, of unequal light (invented
+    # luminaire): the light drops to zero between the pulses, so percent flicker is 100 %
+    # (analytic: min 0), at a 1 kHz repetition, above the IEEE 1789 low-risk line there
+    # (0.08 x 1000 = 80 %, recalled). 16.9 samples per period, 30 dB SNR. Before the fix
+    # the period found was 995.9 Hz, the fold smeared and the headline read 0.96 %
+    # ("no-observable-effect").
+    fs = 16929.0
+    rng = np.random.default_rng(1)
+    t = rng.uniform(0, 1) + np.arange(int(1.32 * fs)) / fs
+    y = sum(a * (((t * 1000.0 + ph) % 1.0) < 0.3)
+            for a, ph in ((1.0, 0.0), (0.8, 1 / 3), (1.1, 2 / 3)))
+    r = _assess(_noisy(y, 30.0, 1), fs)
+    assert r.percent_flicker > 90.0
+    assert r.ieee1789.region == "above-low-risk"
+    if r.headline_estimate == "raw" and r.percent_flicker_averaged is not None \
+            and r.percent_flicker_averaged < 90.0:
+        assert any("not locked" in w for w in r.warnings)
+
+
+def test_envelope_not_locked_to_the_period_stays_in_the_headline():
+    # 1000.3 Hz ripple of 5 % times a 7.1 Hz envelope of 30 % (invented driver): percent
+    # flicker (analytic) = (1.05 * 1.3 - 0.95 * 0.7) / (1.05 * 1.3 + 0.95 * 0.7) = 34.48 %.
+    # The period found is the envelope's; averaging over it removes the ripple (30.3 %).
+    # At 45 dB SNR noise moves the raw figure by a few tenths only.
+    truth = (1.05 * 1.3 - 0.95 * 0.7) / (1.05 * 1.3 + 0.95 * 0.7) * 100
+    for fs in (8123.0, 47000.0):
+        t = np.arange(int(1.7 * fs)) / fs
+        y = (1 + 0.05 * np.sin(2 * np.pi * 1000.3 * t)) * (1 + 0.3 * np.sin(2 * np.pi * 7.1 * t))
+        r = _assess(_noisy(y, 45.0, 2), fs)
+        assert abs(r.percent_flicker - truth) < 1.0, (fs, r.percent_flicker)
+
+
+def test_locked_noisy_pwm_keeps_the_averaged_headline():
+    # The guard leaves the case it was made for alone: 1234.56 Hz PWM, duty 0.3, 3 %
+    # off-level, 20 dB SNR: 100 * 0.97 / 1.03 = 94.17 % (analytic), raw reads far above.
+    fs = 48000.0
+    t = np.arange(int(0.8 * fs)) / fs
+    y = 0.03 + 0.97 * (((t * 1234.56) % 1.0) < 0.3)
+    r = _assess(_noisy(y, 20.0, 3), fs)
+    assert r.headline_estimate.startswith("period-averaged")
+    assert abs(r.percent_flicker - 100 * 0.97 / 1.03) < 3.0
