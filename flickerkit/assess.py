@@ -454,7 +454,9 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
             warnings.warn(CaptureWarning(
                 f"sample rate {fs:.6g} Hz gives {spp:.3g} samples per period of the "
                 f"{period.frequency_hz:.4g} Hz modulation; at least {MIN_SAMPLES_PER_PERIOD} "
-                f"are needed, so percent flicker and flicker index may be off"))
+                f"are needed, so percent flicker and flicker index may be off, and harmonics "
+                f"above half the sample rate may fold down into components (and an IEEE 1789 "
+                f"region) the light does not have"))
     else:
         spp = None
         warnings.warn(CaptureWarning(

@@ -69,3 +69,16 @@ def test_locked_noisy_pwm_keeps_the_averaged_headline():
     r = _assess(_noisy(y, 20.0, 3), fs)
     assert r.headline_estimate.startswith("period-averaged")
     assert abs(r.percent_flicker - 100 * 0.97 / 1.03) < 3.0
+
+
+def test_few_samples_per_period_warns_that_the_region_may_come_from_folding():
+    # 1250 Hz PWM, duty 0.5, at 9846 Hz (7.9 samples per period), 30 dB SNR: the square
+    # wave's high harmonics fold to components below 90 Hz that the light does not have
+    # (analytic: k * 1250 Hz folds to |k * 1250 - m * 9846| Hz), which can decide the
+    # IEEE 1789 region; the warning must say so, not only that percent flicker may be off.
+    fs = 9846.0
+    t = 0.37 + np.arange(int(0.51 * fs)) / fs
+    y = 0.05 + (((t * 1250.0 + 0.3) % 1.0) < 0.5)
+    r = _assess(_noisy(y, 30.0, 0), fs)
+    spp = [w for w in r.warnings if "samples per period" in w]
+    assert spp and "IEEE 1789" in spp[0]
