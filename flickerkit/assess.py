@@ -476,6 +476,13 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     modul = modulation.analyse(spec, fs, template=template,
                                period_samples=period.period_samples,
                                detector_bandwidth_hz=settings.detector_bandwidth_hz)
+    sparse = sparse_component(modul, fs)
+    if sparse is not None and (spp is None or spp >= MIN_SAMPLES_PER_PERIOD):
+        warnings.warn(CaptureWarning(
+            f"sample rate {fs:.6g} Hz gives {fs / sparse.frequency_hz:.3g} samples per period "
+            f"of the strongest modulation, at {sparse.frequency_hz:.6g} Hz; at least "
+            f"{MIN_SAMPLES_PER_PERIOD} are needed: its harmonics above half the sample rate "
+            f"may fold down into components (and an IEEE 1789 region) the light does not have"))
     if modul.noise_std_relative is not None and mean > 0:
         # the fold's residual also holds modulation not locked to the period (an envelope,
         # ripple under PWM); the spectrum's median bin holds only the white noise
@@ -626,6 +633,33 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         edge_notes=edges,
         acquisition=acq,
     )
+
+
+def sparse_component(modul: modulation.ModulationAnalysis,
+                     sample_rate_hz: float) -> modulation.Component | None:
+    """The strongest judged component when it has too few samples per period, else None.
+
+    The samples-per-period check on the period found misses light whose strongest
+    modulation is faster than that period (PWM under ripple it is not locked to, or
+    several channels): sampled at fewer than :data:`MIN_SAMPLES_PER_PERIOD` samples per
+    period of it, its harmonics fold down as modulation that is not there.
+
+    Parameters
+    ----------
+    modul : ModulationAnalysis
+        The capture's components.
+    sample_rate_hz : float
+        [Hz].
+
+    Returns
+    -------
+    Component or None
+    """
+    judged = [c for c in modul.judged() if c.frequency_hz > 0]
+    if not judged:
+        return None
+    c = max(judged, key=lambda c: c.amplitude)
+    return c if sample_rate_hz / c.frequency_hz < MIN_SAMPLES_PER_PERIOD else None
 
 
 def _warn_unjudged_aliases(modul: modulation.ModulationAnalysis,

@@ -396,6 +396,13 @@ def _insufficient(a: Assessment, requires: Sequence[str]) -> str | None:
         spp = _finite(a.samples_per_period)
         if spp is not None and spp < MIN_SAMPLES_PER_PERIOD:
             return f"fewer than {MIN_SAMPLES_PER_PERIOD} samples per period"
+    if "periodic" in requires and a.modulation is not None:
+        from .assess import sparse_component
+
+        c = sparse_component(a.modulation, a.sample_rate_hz)
+        if c is not None:
+            return (f"fewer than {MIN_SAMPLES_PER_PERIOD} samples per period of the "
+                    f"strongest modulation ({c.frequency_hz:.6g} Hz)")
     if "pst-duration" in requires and a.pst_lm is not None and a.pst_lm.short:
         return (f"Pst LM over {a.pst_lm.observation_s:.3g} s, shorter than the "
                 f"method's {a.pst_lm.method_observation_s:.3g} s observation")

@@ -82,3 +82,25 @@ def test_few_samples_per_period_warns_that_the_region_may_come_from_folding():
     r = _assess(_noisy(y, 30.0, 0), fs)
     spp = [w for w in r.warnings if "samples per period" in w]
     assert spp and "IEEE 1789" in spp[0]
+
+
+def test_strongest_modulation_with_few_samples_is_insufficient_data():
+    # 3123.4 Hz PWM (duty 0.5, 30 % floor) times 60 % ripple at 1250 Hz (invented hybrid
+    # driver), sampled at 21852 Hz: 7.0 samples per period of the PWM, the strongest
+    # modulation, though the period found (about 625 Hz, the near-common period) has 35.
+    # The PWM's 7th harmonic, 21863.8 Hz, folds to |21863.8 - 21852| = 11.8 Hz (analytic),
+    # which the light does not have; before, it decided IEEE 1789 "above-low-risk" at
+    # 11.8 Hz with no word on sampling, and the criterion failed.
+    from flickerkit.criteria import REGISTRY, judge
+
+    fs = 21852.0
+    rng = np.random.default_rng(1)
+    t = rng.uniform(0, 1) + np.arange(int(1.38 * fs)) / fs
+    y = 0.3 + 0.7 * (((t * 3123.4 + rng.uniform()) % 1.0) < 0.5) \
+        * (1 + 0.6 * np.sin(2 * np.pi * 1250.0 * t))
+    r = _assess(_noisy(y, 40.0, 1), fs)
+    assert any("strongest modulation, at 3123" in w for w in r.warnings)
+    for cid in ("ieee1789-low-risk", "ieee1789-noel", "seizure-screen-below-90hz"):
+        v = judge(r, REGISTRY[cid], level=100.0)
+        assert v.status == "insufficient data", (cid, v.status, v.reason)
+        assert "strongest modulation" in v.reason
