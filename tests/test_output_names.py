@@ -92,3 +92,17 @@ def test_column_option_with_a_project_file_is_refused(tmp_path, capsys):
                     f'file = "{cap.name}"\ncolumn = "CH1"\n')
     _one_line_error(capsys, ["report", proj, "-o", tmp_path / "r.xlsx", "--column", "CH2"],
                     "[read]")
+
+
+@pytest.mark.parametrize("argv", [
+    ["measure", "{cap}", "--column", "CH1"],
+    ["drive", "-f", "1234.56", "--levels", "100,20"],
+])
+def test_pictures_inside_a_missing_folder_are_refused(tmp_path, capsys, argv):
+    # --pictures a/b/pics with no a/ made the whole tree (while --xlsx a/b/x.xlsx is
+    # refused); now refused before any work, and nothing is created
+    cap = _two_channel(tmp_path / "cap.csv")
+    pics = tmp_path / "missing" / "deeper" / "pics"
+    _one_line_error(capsys, [*(a.format(cap=cap) for a in argv), "--pictures", pics, "-q"],
+                    "does not exist")
+    assert not (tmp_path / "missing").exists()

@@ -78,7 +78,9 @@ def run(args: argparse.Namespace) -> int:
     from ..project import load_project
     from ..report import build_report
 
-    project = load_project(args.project, column=getattr(args, "column", None))
+    column = getattr(args, "column", None)
+    project = (load_project(args.project) if column is None
+               else load_project(args.project, column=column))
     # the project names its captures, dark captures and criteria file: none may be the output
     check_writable(args.output, force=args.force, inputs=project_inputs(project),
                    suffix=".xlsx")
