@@ -595,9 +595,32 @@ def _judge_ieee(a: Assessment, criterion: Criterion, verdict: Callable[..., Verd
                + (f", decided by {decided}" if decided not in (ieee.mode, "") else ""))
     how = (how
            + (f"; {ieee.edge}" if ieee.edge else "")
-           + ("" if limit is not None else "; exempt above the upper frequency"))
+           + ("" if limit is not None else "; exempt above the upper frequency")
+           + _near_line(a, measured, margin, decided, ieee.mode))
     return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
                    margin=margin, reason=how)
+
+
+#: A headline modulation within this fraction of itself of an IEEE 1789 line is called on
+#: the line whatever the noise: sampling the peak between samples and the period estimate
+#: move it by about this much (computed: a sine sampled at 150 samples per period reads
+#: 1 - cos(pi / 150) = 2e-4 low). Chosen here, no source.
+NEAR_LINE_RTOL = 1e-3
+
+
+def _near_line(a: Assessment, measured: float | None, margin: float | None, decided: str,
+               mode: str) -> str:
+    """A sentence when the standard's reading lies within its uncertainty of the line."""
+    if measured is None or margin is None or decided not in (mode, "fundamental", ""):
+        return ""
+    noise = _finite(a.noise_limit_percent if a.headline_estimate != "raw"
+                    else a.noise_percent_flicker) or 0.0
+    u = max(noise, NEAR_LINE_RTOL * abs(measured))
+    if abs(margin) > u:
+        return ""
+    return (f"; on the line within the measurement's uncertainty (margin {margin:+.3g} "
+            f"points, uncertainty about {u:.2g}): another capture of the same light may "
+            f"land on the other side")
 
 
 def _decided_by(a: Assessment, metric: str) -> str:

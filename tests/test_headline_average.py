@@ -104,3 +104,24 @@ def test_strongest_modulation_with_few_samples_is_insufficient_data():
         v = judge(r, REGISTRY[cid], level=100.0)
         assert v.status == "insufficient data", (cid, v.status, v.reason)
         assert "strongest modulation" in v.reason
+
+
+def test_a_reading_on_the_ieee1789_line_says_so():
+    # A 200 Hz sine of exactly 16 % modulation sits on the low-risk line, 0.08 x 200 Hz =
+    # 16 % (IEEE 1789-2015 RP1, recalled). Captures of it land either side (before: pass
+    # or fail with nothing said); every verdict must now say it lies on the line.
+    from flickerkit.criteria import REGISTRY, judge
+
+    statuses = set()
+    for i, fs in enumerate((22571.0, 30629.0, 40980.0, 91893.0)):
+        t = np.arange(int((0.5 + 0.3 * i) * fs)) / fs
+        y = 1 + 0.16 * np.sin(2 * np.pi * 200.0 * t + i)
+        r = _assess(_noisy(y, 40.0, 10 + i), fs)
+        v = judge(r, REGISTRY["ieee1789-low-risk"])
+        statuses.add(v.status)
+        assert "on the line within the measurement's uncertainty" in v.reason, v.reason
+    # and a reading well clear of the line says nothing of the kind (8 %, analytic margin 8)
+    t = np.arange(20000) / 20000.0
+    r = _assess(_noisy(1 + 0.08 * np.sin(2 * np.pi * 200.0 * t), 40.0, 5), 20000.0)
+    v = judge(r, REGISTRY["ieee1789-low-risk"])
+    assert v.status == "pass" and "on the line" not in v.reason
