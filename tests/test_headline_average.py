@@ -125,3 +125,21 @@ def test_a_reading_on_the_ieee1789_line_says_so():
     r = _assess(_noisy(1 + 0.08 * np.sin(2 * np.pi * 200.0 * t), 40.0, 5), 20000.0)
     v = judge(r, REGISTRY["ieee1789-low-risk"])
     assert v.status == "pass" and "on the line" not in v.reason
+
+
+def test_folded_square_wave_harmonic_is_not_judged_as_light_below_90hz():
+    # 1250 Hz PWM, duty 0.5, 2 % floor, at 54353 Hz (43 samples per period), 40 dB SNR.
+    # Harmonic 87 (108750 Hz) folds to |108750 - 2 x 54353| = 44 Hz (analytic) with
+    # amplitude 2 / (pi 87) / 0.52 = 0.01407 of the mean -- exactly the bound V / (pi h)
+    # that marks a possible alias, so noise put it above the bound on some captures and
+    # it decided IEEE 1789 "above-low-risk" at 44 Hz. The light is on the 1250 Hz line
+    # at 96 % (low-risk, recalled lines): every capture must say so.
+    regions = set()
+    for seed in (4, 6, 10, 0):
+        rng = np.random.default_rng(seed)
+        fs = 54353.0
+        t = rng.uniform(0, 1) + np.arange(int(rng.uniform(0.5, 1.5) * fs)) / fs
+        y = 0.02 + (((t * 1250.0 + rng.uniform()) % 1.0) < 0.5)
+        r = _assess(y + rng.normal(0.0, np.std(y) * 0.01, y.size), fs)
+        regions.add((r.ieee1789.region, r.ieee1789.decided_by))
+    assert regions == {("low-risk", "fundamental")}, regions
