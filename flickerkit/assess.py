@@ -47,6 +47,12 @@ NOISE_HEADLINE_SHARE = 0.01
 #: capture; a larger gap is modulation the average lost (an envelope or ripple not locked
 #: to the period, or a period estimate that smears the fold). Chosen here, no source.
 AVERAGE_LOSS_FACTOR = 1.5
+#: Slowest modulation a measured capture must be able to show [Hz]: a component needs
+#: ``modulation.MIN_CYCLES`` cycles in the capture to be told from drift, so a capture shorter
+#: than their ratio (1 s) hides slower flicker and cannot pass the lines below 90 Hz. 3 Hz is
+#: the low end of the range the caution names (light modulated at roughly 3-70 Hz can trigger
+#: seizures); common practice, no source.
+SLOWEST_JUDGED_HZ = 3.0
 #: Filtered percent flicker (JA10.6) uses at most this many samples, or 1 s if that is
 #: more (JA10.5 asks for at least 1 s of data); five inverse FFTs of a whole long
 #: capture would cost more than the rest of the assessment.
@@ -476,6 +482,14 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     modul = modulation.analyse(spec, fs, template=template,
                                period_samples=period.period_samples,
                                detector_bandwidth_hz=settings.detector_bandwidth_hz)
+    span_s = n / fs
+    if "model" not in capture.meta and span_s < modulation.MIN_CYCLES / SLOWEST_JUDGED_HZ:
+        warnings.warn(CaptureWarning(
+            f"capture of {span_s:.3g} s cannot show modulation slower than "
+            f"{modulation.MIN_CYCLES / span_s:.3g} Hz ({modulation.MIN_CYCLES:g} cycles): slow "
+            f"flicker, the kind that can trigger seizures, goes unseen; IEEE 1789 and the "
+            f"seizure screen cannot pass it (capture at least "
+            f"{modulation.MIN_CYCLES / SLOWEST_JUDGED_HZ:g} s)"))
     sparse = sparse_component(modul, fs)
     if sparse is not None and (spp is None or spp >= MIN_SAMPLES_PER_PERIOD):
         warnings.warn(CaptureWarning(

@@ -516,7 +516,7 @@ def judge(assessment: Assessment | None, criterion: Criterion, *, level: float |
                        reason=why)
 
     if criterion.metric in ("ieee1789.low_risk", "ieee1789.noel"):
-        return _judge_ieee(a, criterion, verdict)
+        return _slow_unseen(a, _judge_ieee(a, criterion, verdict))
     if criterion.metric == "below_90hz_modulation":
         low = a.below_90hz
         f = _finite(a.frequency_hz)
@@ -528,19 +528,20 @@ def judge(assessment: Assessment | None, criterion: Criterion, *, level: float |
             # the light low-passed below 90 Hz, whatever carrier rides above it
             low_pf = _finite(low.modulation_percent)
             if low_pf is None:
-                return verdict(status="not applicable", measured=None, limit=limit,
-                               margin=None,
-                               reason="nothing below 90 Hz stands above the noise")
+                return _slow_unseen(a, verdict(
+                    status="not applicable", measured=None, limit=limit, margin=None,
+                    reason="nothing below 90 Hz stands above the noise"))
             ok = low_pf <= limit
-            return verdict(status="pass" if ok else "fail", measured=low_pf,
-                           limit=limit, margin=limit - low_pf,
-                           reason=f"modulation depth below 90 Hz (low-passed, strongest "
-                                  f"component {low.frequency_hz:.4g} Hz) <= {limit:g} %",
-                           decided_by=_decided_by(a, criterion.metric))
+            return _slow_unseen(a, verdict(
+                status="pass" if ok else "fail", measured=low_pf, limit=limit,
+                margin=limit - low_pf,
+                reason=f"modulation depth below 90 Hz (low-passed, strongest "
+                       f"component {low.frequency_hz:.4g} Hz) <= {limit:g} %",
+                decided_by=_decided_by(a, criterion.metric)))
         assert f is not None  # an assessment without a period has a low-passed figure
         if f >= 90.0:
-            return verdict(status="not applicable", measured=None, limit=limit, margin=None,
-                           reason="no modulation below 90 Hz")
+            return _slow_unseen(a, verdict(status="not applicable", measured=None, limit=limit,
+                                           margin=None, reason="no modulation below 90 Hz"))
         measured = _finite(a.percent_flicker)
     else:
         measured = _finite(figure(a, criterion.metric))
@@ -568,6 +569,31 @@ def judge(assessment: Assessment | None, criterion: Criterion, *, level: float |
 
 
 _RULES = ("ieee1789.low_risk", "ieee1789.noel", "below_90hz_modulation")
+
+def _slow_unseen(a: Assessment, v: Verdict) -> Verdict:
+    """Say so on a pass (or "nothing below 90 Hz") of a capture too short for slow flicker.
+
+    A component slower than ``MIN_CYCLES`` cycles in the capture is drift to the
+    modulation analysis, so a short capture hides a slow envelope: 20 % at 7.3 Hz under
+    PWM passed IEEE 1789 on 0.3 s with nothing said. A fail stands (what it found is
+    there); modelled light (exact, repeating) is not concerned. The status is kept (the
+    capture's warning says the same); the reason carries the limit.
+    """
+    from dataclasses import replace
+
+    from .assess import SLOWEST_JUDGED_HZ
+    from .modulation import MIN_CYCLES
+
+    if v.status not in ("pass", "not applicable") or "model" in (a.meta or {}):
+        return v
+    need = MIN_CYCLES / SLOWEST_JUDGED_HZ
+    dur = _finite(a.duration_s)
+    if dur is None or dur >= need * (1 - 1e-9):
+        return v
+    return replace(v, reason=f"{v.reason}; capture of {dur:.3g} s cannot show modulation "
+                             f"slower than {MIN_CYCLES / dur:.3g} Hz ({MIN_CYCLES:g} cycles): "
+                             f"slower flicker would go unseen (flicker down to "
+                             f"{SLOWEST_JUDGED_HZ:g} Hz needs {need:.3g} s)")
 
 
 def _judge_ieee(a: Assessment, criterion: Criterion, verdict: Callable[..., Verdict]) -> Verdict:

@@ -143,3 +143,27 @@ def test_folded_square_wave_harmonic_is_not_judged_as_light_below_90hz():
         r = _assess(y + rng.normal(0.0, np.std(y) * 0.01, y.size), fs)
         regions.add((r.ieee1789.region, r.ieee1789.decided_by))
     assert regions == {("low-risk", "fundamental")}, regions
+
+
+def test_a_short_capture_says_it_cannot_see_slow_flicker():
+    # 1234.56 Hz PWM (duty 0.3) times a 20 % envelope at 7.3 Hz (invented dimmer fault),
+    # 35 dB SNR. On 1.5 s the envelope is seen: the seizure screen fails (20 % > 5 %,
+    # Lehman and Wilkins 2014). On 0.3 s (2.2 cycles of it, below the 3 a component needs)
+    # it is drift, and the verdicts read pass / not applicable: before, with nothing said.
+    from flickerkit.criteria import REGISTRY, judge
+
+    fs = 15476.0
+
+    def capture(seconds):
+        rng = np.random.default_rng(1)
+        t = rng.uniform(0, 1) + np.arange(int(seconds * fs)) / fs
+        y = (((t * 1234.56) % 1.0) < 0.3) * (1 + 0.2 * np.sin(2 * np.pi * 7.3 * t)) + 0.02
+        return _assess(y + rng.normal(0.0, np.std(y) * 10 ** (-35 / 20), y.size), fs)
+
+    long = capture(1.5)
+    assert judge(long, REGISTRY["seizure-screen-below-90hz"], level=100.0).status == "fail"
+    short = capture(0.3)
+    assert any("cannot show modulation slower than 10 Hz" in w for w in short.warnings)
+    for cid in ("ieee1789-low-risk", "seizure-screen-below-90hz"):
+        v = judge(short, REGISTRY[cid], level=100.0)
+        assert v.status == "fail" or "slower flicker would go unseen" in v.reason, (cid, v)
