@@ -42,6 +42,17 @@ NOISE_MARGIN = 3.0
 #: flicker, the headline figures are taken from the period-averaged waveform (project
 #: choice: below it, noise moves the raw figure by less than 1 %).
 NOISE_HEADLINE_SHARE = 0.01
+#: The period-averaged waveform stands in for the raw figures only when the raw percent
+#: flicker exceeds it by no more than this many times what noise can add over the whole
+#: capture; a larger gap is modulation the average lost (an envelope or ripple not locked
+#: to the period, or a period estimate that smears the fold). Chosen here, no source.
+AVERAGE_LOSS_FACTOR = 1.5
+#: Slowest modulation a measured capture must be able to show [Hz]: a component needs
+#: ``modulation.MIN_CYCLES`` cycles in the capture to be told from drift, so a capture shorter
+#: than their ratio (1 s) hides slower flicker and cannot pass the lines below 90 Hz. 3 Hz is
+#: the low end of the range the caution names (light modulated at roughly 3-70 Hz can trigger
+#: seizures); common practice, no source.
+SLOWEST_JUDGED_HZ = 3.0
 #: Filtered percent flicker (JA10.6) uses at most this many samples, or 1 s if that is
 #: more (JA10.5 asks for at least 1 s of data); five inverse FFTs of a whole long
 #: capture would cost more than the rest of the assessment.
@@ -449,7 +460,9 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
             warnings.warn(CaptureWarning(
                 f"sample rate {fs:.6g} Hz gives {spp:.3g} samples per period of the "
                 f"{period.frequency_hz:.4g} Hz modulation; at least {MIN_SAMPLES_PER_PERIOD} "
-                f"are needed, so percent flicker and flicker index may be off"))
+                f"are needed, so percent flicker and flicker index may be off, and harmonics "
+                f"above half the sample rate may fold down into components (and an IEEE 1789 "
+                f"region) the light does not have"))
     else:
         spp = None
         warnings.warn(CaptureWarning(
@@ -469,6 +482,21 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     modul = modulation.analyse(spec, fs, template=template,
                                period_samples=period.period_samples,
                                detector_bandwidth_hz=settings.detector_bandwidth_hz)
+    span_s = n / fs
+    if "model" not in capture.meta and span_s < modulation.MIN_CYCLES / SLOWEST_JUDGED_HZ:
+        warnings.warn(CaptureWarning(
+            f"capture of {span_s:.3g} s cannot show modulation slower than "
+            f"{modulation.MIN_CYCLES / span_s:.3g} Hz ({modulation.MIN_CYCLES:g} cycles): slow "
+            f"flicker, the kind that can trigger seizures, goes unseen; IEEE 1789 and the "
+            f"seizure screen cannot pass it (capture at least "
+            f"{modulation.MIN_CYCLES / SLOWEST_JUDGED_HZ:g} s)"))
+    sparse = sparse_component(modul, fs)
+    if sparse is not None and (spp is None or spp >= MIN_SAMPLES_PER_PERIOD):
+        warnings.warn(CaptureWarning(
+            f"sample rate {fs:.6g} Hz gives {fs / sparse.frequency_hz:.3g} samples per period "
+            f"of the strongest modulation, at {sparse.frequency_hz:.6g} Hz; at least "
+            f"{MIN_SAMPLES_PER_PERIOD} are needed: its harmonics above half the sample rate "
+            f"may fold down into components (and an IEEE 1789 region) the light does not have"))
     if modul.noise_std_relative is not None and mean > 0:
         # the fold's residual also holds modulation not locked to the period (an envelope,
         # ripple under PWM); the spectrum's median bin holds only the white noise
@@ -482,7 +510,20 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
             and noise_pf > NOISE_HEADLINE_SHARE * pf_raw:
         used = int(min(n, metrics.NOISE_SAMPLES) // float(period.period_samples or n))
         rob = metrics.robust_flicker(template, noise, used)
-        if np.isfinite(rob.percent_flicker):
+        noise_whole = metrics.noise_percent_flicker(noise, mean, n)
+        lost = pf_raw - rob.percent_flicker
+        if np.isfinite(rob.percent_flicker) and \
+                lost > AVERAGE_LOSS_FACTOR * noise_whole + rob.noise_limit_percent:
+            # the average lost real modulation: the raw figure stands, with its noise
+            noise_limit = float(noise_whole)
+            warnings.warn(CaptureWarning(
+                f"the period-averaged waveform ({rob.percent_flicker:.3g} % percent flicker) "
+                f"lies {lost:.3g} points below the raw figure, more than noise explains "
+                f"(up to {noise_whole:.2g} %): the light holds modulation not locked to the "
+                f"{period.frequency_hz:.6g} Hz period, or the period is off; the headline is "
+                f"the raw min/max figure {pf_raw:.3g} %, which noise may raise by up to "
+                f"{noise_whole:.2g} percentage points"))
+        elif np.isfinite(rob.percent_flicker):
             pf, fi, headline, noise_limit = (rob.percent_flicker, rob.flicker_index, rob.method,
                                              rob.noise_limit_percent)
             warnings.warn(CaptureWarning(
@@ -606,6 +647,33 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         edge_notes=edges,
         acquisition=acq,
     )
+
+
+def sparse_component(modul: modulation.ModulationAnalysis,
+                     sample_rate_hz: float) -> modulation.Component | None:
+    """The strongest judged component when it has too few samples per period, else None.
+
+    The samples-per-period check on the period found misses light whose strongest
+    modulation is faster than that period (PWM under ripple it is not locked to, or
+    several channels): sampled at fewer than :data:`MIN_SAMPLES_PER_PERIOD` samples per
+    period of it, its harmonics fold down as modulation that is not there.
+
+    Parameters
+    ----------
+    modul : ModulationAnalysis
+        The capture's components.
+    sample_rate_hz : float
+        [Hz].
+
+    Returns
+    -------
+    Component or None
+    """
+    judged = [c for c in modul.judged() if c.frequency_hz > 0]
+    if not judged:
+        return None
+    c = max(judged, key=lambda c: c.amplitude)
+    return c if sample_rate_hz / c.frequency_hz < MIN_SAMPLES_PER_PERIOD else None
 
 
 def _warn_unjudged_aliases(modul: modulation.ModulationAnalysis,

@@ -399,6 +399,13 @@ def _insufficient(a: Assessment, requires: Sequence[str]) -> str | None:
         spp = _finite(a.samples_per_period)
         if spp is not None and spp < MIN_SAMPLES_PER_PERIOD:
             return f"fewer than {MIN_SAMPLES_PER_PERIOD} samples per period"
+    if "periodic" in requires and a.modulation is not None:
+        from .assess import sparse_component
+
+        c = sparse_component(a.modulation, a.sample_rate_hz)
+        if c is not None:
+            return (f"fewer than {MIN_SAMPLES_PER_PERIOD} samples per period of the "
+                    f"strongest modulation ({c.frequency_hz:.6g} Hz)")
     if "pst-duration" in requires and a.pst_lm is not None and a.pst_lm.short:
         return (f"Pst LM over {a.pst_lm.observation_s:.3g} s, shorter than the "
                 f"method's {a.pst_lm.method_observation_s:.3g} s observation")
@@ -512,7 +519,7 @@ def judge(assessment: Assessment | None, criterion: Criterion, *, level: float |
                        reason=why)
 
     if criterion.metric in ("ieee1789.low_risk", "ieee1789.noel"):
-        return _judge_ieee(a, criterion, verdict)
+        return _slow_unseen(a, _judge_ieee(a, criterion, verdict))
     if criterion.metric == "below_90hz_modulation":
         low = a.below_90hz
         f = _finite(a.frequency_hz)
@@ -524,19 +531,20 @@ def judge(assessment: Assessment | None, criterion: Criterion, *, level: float |
             # the light low-passed below 90 Hz, whatever carrier rides above it
             low_pf = _finite(low.modulation_percent)
             if low_pf is None:
-                return verdict(status="not applicable", measured=None, limit=limit,
-                               margin=None,
-                               reason="nothing below 90 Hz stands above the noise")
+                return _slow_unseen(a, verdict(
+                    status="not applicable", measured=None, limit=limit, margin=None,
+                    reason="nothing below 90 Hz stands above the noise"))
             ok = low_pf <= limit
-            return verdict(status="pass" if ok else "fail", measured=low_pf,
-                           limit=limit, margin=limit - low_pf,
-                           reason=f"modulation depth below 90 Hz (low-passed, strongest "
-                                  f"component {low.frequency_hz:.4g} Hz) <= {limit:g} %",
-                           decided_by=_decided_by(a, criterion.metric))
+            return _slow_unseen(a, verdict(
+                status="pass" if ok else "fail", measured=low_pf, limit=limit,
+                margin=limit - low_pf,
+                reason=f"modulation depth below 90 Hz (low-passed, strongest "
+                       f"component {low.frequency_hz:.4g} Hz) <= {limit:g} %",
+                decided_by=_decided_by(a, criterion.metric)))
         assert f is not None  # an assessment without a period has a low-passed figure
         if f >= 90.0:
-            return verdict(status="not applicable", measured=None, limit=limit, margin=None,
-                           reason="no modulation below 90 Hz")
+            return _slow_unseen(a, verdict(status="not applicable", measured=None, limit=limit,
+                                           margin=None, reason="no modulation below 90 Hz"))
         measured = _finite(a.percent_flicker)
     else:
         measured = _finite(figure(a, criterion.metric))
@@ -565,6 +573,31 @@ def judge(assessment: Assessment | None, criterion: Criterion, *, level: float |
 
 _RULES = ("ieee1789.low_risk", "ieee1789.noel", "below_90hz_modulation")
 
+def _slow_unseen(a: Assessment, v: Verdict) -> Verdict:
+    """Say so on a pass (or "nothing below 90 Hz") of a capture too short for slow flicker.
+
+    A component slower than ``MIN_CYCLES`` cycles in the capture is drift to the
+    modulation analysis, so a short capture hides a slow envelope: 20 % at 7.3 Hz under
+    PWM passed IEEE 1789 on 0.3 s with nothing said. A fail stands (what it found is
+    there); modelled light (exact, repeating) is not concerned. The status is kept (the
+    capture's warning says the same); the reason carries the limit.
+    """
+    from dataclasses import replace
+
+    from .assess import SLOWEST_JUDGED_HZ
+    from .modulation import MIN_CYCLES
+
+    if v.status not in ("pass", "not applicable") or "model" in (a.meta or {}):
+        return v
+    need = MIN_CYCLES / SLOWEST_JUDGED_HZ
+    dur = _finite(a.duration_s)
+    if dur is None or dur >= need * (1 - 1e-9):
+        return v
+    return replace(v, reason=f"{v.reason}; capture of {dur:.3g} s cannot show modulation "
+                             f"slower than {MIN_CYCLES / dur:.3g} Hz ({MIN_CYCLES:g} cycles): "
+                             f"slower flicker would go unseen (flicker down to "
+                             f"{SLOWEST_JUDGED_HZ:g} Hz needs {need:.3g} s)")
+
 
 def _judge_ieee(a: Assessment, criterion: Criterion, verdict: Callable[..., Verdict]) -> Verdict:
     """Judge an IEEE 1789 line: the headline reading's region, limit and what decided it."""
@@ -591,9 +624,32 @@ def _judge_ieee(a: Assessment, criterion: Criterion, verdict: Callable[..., Verd
                + (f", decided by {decided}" if decided not in (ieee.mode, "") else ""))
     how = (how
            + (f"; {ieee.edge}" if ieee.edge else "")
-           + ("" if limit is not None else "; exempt above the upper frequency"))
+           + ("" if limit is not None else "; exempt above the upper frequency")
+           + _near_line(a, measured, margin, decided, ieee.mode))
     return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
                    margin=margin, reason=how)
+
+
+#: A headline modulation within this fraction of itself of an IEEE 1789 line is called on
+#: the line whatever the noise: sampling the peak between samples and the period estimate
+#: move it by about this much (computed: a sine sampled at 150 samples per period reads
+#: 1 - cos(pi / 150) = 2e-4 low). Chosen here, no source.
+NEAR_LINE_RTOL = 1e-3
+
+
+def _near_line(a: Assessment, measured: float | None, margin: float | None, decided: str,
+               mode: str) -> str:
+    """A sentence when the standard's reading lies within its uncertainty of the line."""
+    if measured is None or margin is None or decided not in (mode, "fundamental", ""):
+        return ""
+    noise = _finite(a.noise_limit_percent if a.headline_estimate != "raw"
+                    else a.noise_percent_flicker) or 0.0
+    u = max(noise, NEAR_LINE_RTOL * abs(measured))
+    if abs(margin) > u:
+        return ""
+    return (f"; on the line within the measurement's uncertainty (margin {margin:+.3g} "
+            f"points, uncertainty about {u:.2g}): another capture of the same light may "
+            f"land on the other side")
 
 
 def _decided_by(a: Assessment, metric: str) -> str:

@@ -51,7 +51,9 @@ class InputError(FlickerkitError, ValueError):
         if self.line is not None:
             where.append(f"line {self.line}")
         if self.column is not None:
-            where.append(f"column {self.column}")
+            col = str(self.column)
+            # a column without a name is labelled "column N" already
+            where.append(col if col.startswith("column ") else f"column {col}")
         return (": ".join([", ".join(where), self.message]) if where else self.message)
 
 

@@ -81,7 +81,8 @@ def _refuse_input(p: Path, inputs=()) -> None:
 
 
 def check_writable(path: str | os.PathLike[str], *, force: bool = False,
-                   inputs: Iterable[str | os.PathLike[str]] = ()) -> Path:
+                   inputs: Iterable[str | os.PathLike[str]] = (),
+                   suffix: str | None = None) -> Path:
     """Check, before any work is done, that ``path`` can be created.
 
     Parameters
@@ -92,6 +93,9 @@ def check_writable(path: str | os.PathLike[str], *, force: bool = False,
         Allow replacing an existing file (never an input: see :func:`note_input`).
     inputs : iterable of paths
         Further inputs of the run, recorded before the check.
+    suffix : str, optional
+        The suffix the file must have (``".xlsx"``, ``".pdf"``), any case: a
+        workbook named ``out.txt`` would open as neither.
 
     Returns
     -------
@@ -102,7 +106,8 @@ def check_writable(path: str | os.PathLike[str], *, force: bool = False,
     OutputError
         If the folder does not exist or is not writable, the path is a folder,
         the file exists and ``force`` is false, or the file is an input of
-        the run (whatever the spelling, with or without ``force``).
+        the run (whatever the spelling, with or without ``force``), or its
+        suffix is not ``suffix``.
     """
     p = Path(path)
     _refuse_input(p, inputs)
@@ -111,6 +116,9 @@ def check_writable(path: str | os.PathLike[str], *, force: bool = False,
         raise OutputError(f"{p}: is a folder; give a file name")
     if p.exists() and not p.is_file():
         raise OutputError(f"{p}: is not a regular file; give a file name to write")
+    if suffix is not None and p.suffix.lower() != suffix:
+        raise OutputError(f"{p}: the file written is {suffix[1:].upper()}; give a name "
+                          f"ending in {suffix}")
     if p.exists() and not force:
         raise OutputError(f"{p}: exists; use --force to replace it")
     if not folder.is_dir():

@@ -175,8 +175,16 @@ def _level(value: Any, where: str) -> float:
                           outside="{what}: level {v:g} % is outside 0-100 %")
 
 
-def load_project(path: str | Path) -> Project:
+def load_project(path: str | Path, *, column: str | int | None = None) -> Project:
     """Read and validate a project file.
+
+    Parameters
+    ----------
+    path : str or path-like
+        Project file (TOML), or a folder of captures.
+    column : str or int, optional
+        The light's column in every capture of a folder (name or 1-based number); a
+        project file names it in its ``[read]`` table instead.
 
     Raises
     ------
@@ -188,7 +196,10 @@ def load_project(path: str | Path) -> Project:
     p = Path(path)
     where = str(p)
     if p.is_dir():
-        return project_from_folder(p)
+        return project_from_folder(p, column=column)
+    if column is not None:
+        raise SettingsError(f"{where}: --column is for a folder of captures; a project file "
+                            f"names the column in its [read] table or a [[capture]]")
     data = load_toml(p, "project file")
     _unknown(data, _TOP_KEYS, where)
     base = p.parent
@@ -315,8 +326,11 @@ def _distinct(entries: list[CaptureEntry], where: str = "") -> list[CaptureEntry
             for e, lab, note in zip(entries, labels, notes)]
 
 
-def project_from_folder(folder: Path) -> Project:
-    """Make a project of every capture file in a folder (levels from the file names)."""
+def project_from_folder(folder: Path, *, column: str | int | None = None) -> Project:
+    """Make a project of every capture file in a folder (levels from the file names).
+
+    ``column`` (name or 1-based number) is the light's column in every capture.
+    """
     files = sorted(x for x in folder.iterdir()
                    if x.suffix.lower() in CAPTURE_SUFFIXES and x.is_file()
                    and "dark" not in x.name.lower())
@@ -324,7 +338,9 @@ def project_from_folder(folder: Path) -> Project:
         raise SettingsError(f"{folder}: holds no capture files ({', '.join(CAPTURE_SUFFIXES)})")
     return Project(
         path=folder, product={"name": folder.resolve().name}, setup={},
-        captures=tuple(CaptureEntry(x, level_from_name(x.name), x.name, {}) for x in files),
+        captures=tuple(CaptureEntry(x, level_from_name(x.name), x.name,
+                                    {} if column is None else {"column": column})
+                       for x in files),
         drive=None, drive_levels=(), criteria_ids=None, criteria_file=None, analysis={},
         steps=None, judged_on=_dt.date.today(),
     )

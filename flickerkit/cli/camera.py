@@ -82,7 +82,7 @@ def run(args: argparse.Namespace) -> int:
     from ._driveopts import drive_from_args
 
     if args.xlsx:
-        check_writable(args.xlsx, force=args.force)
+        check_writable(args.xlsx, force=args.force, suffix=".xlsx")
     drive = drive_from_args(args)
     if not (0 < args.level <= 100):
         raise SettingsError(f"--level must lie in (0, 100] %, got {args.level:g}")

@@ -78,7 +78,7 @@ def run(args: argparse.Namespace) -> int:
     from ._driveopts import drive_from_args
 
     if args.xlsx:
-        check_writable(args.xlsx, force=args.force)
+        check_writable(args.xlsx, force=args.force, suffix=".xlsx")
     drive = drive_from_args(args)
     levels = _levels(args)
     for lv in levels:

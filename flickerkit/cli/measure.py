@@ -228,7 +228,7 @@ def run(args: argparse.Namespace) -> int:
             raise SettingsError(f"--peek only shows what would be read and measures nothing; "
                                 f"it cannot be combined with {', '.join(given)}")
     if args.xlsx:
-        check_writable(args.xlsx, force=args.force)
+        check_writable(args.xlsx, force=args.force, suffix=".xlsx")
     if getattr(args, "peek", False):
         return peek(args.captures, read_options(args, args.signal))
     if args.pictures:

@@ -121,7 +121,7 @@ def run(args: argparse.Namespace) -> int:
     from ._driveopts import drive_from_args
 
     if args.xlsx:
-        check_writable(args.xlsx, force=args.force)
+        check_writable(args.xlsx, force=args.force, suffix=".xlsx")
     from ..levels import fraction
     from ..planner import Resolution, default_levels, parse_targets, plan
     from ..timers import Timer

@@ -50,6 +50,9 @@ def add_parser(sub) -> None:
                    help="replace an existing workbook (and pictures, PDF)")
     p.add_argument("--json", action="store_true",
                    help="print the verdicts and figures as JSON instead of the table")
+    p.add_argument("-c", "--column", metavar="NAME|N",
+                   help="the light's column (name or 1-based number) in every capture of a "
+                        "folder; a project file names it in [read] column = ...")
     p.add_argument("-q", "--quiet", action="store_true",
                    help="no progress bar or read summary on stderr")
     add_picture_option(p)
@@ -83,13 +86,16 @@ def run(args: argparse.Namespace) -> int:
 
         check_picture_folder(args.pictures)
     if args.pdf:
-        check_writable(args.pdf, force=args.force)
+        check_writable(args.pdf, force=args.force, suffix=".pdf")
     from ..project import load_project
     from ..report import build_report
 
-    project = load_project(args.project)
+    column = getattr(args, "column", None)
+    project = (load_project(args.project) if column is None
+               else load_project(args.project, column=column))
     # the project names its captures, dark captures and criteria file: none may be the output
-    check_writable(args.output, force=args.force, inputs=project_inputs(project))
+    check_writable(args.output, force=args.force, inputs=project_inputs(project),
+                   suffix=".xlsx")
     bar = None
     if not args.quiet:
         from tqdm import tqdm

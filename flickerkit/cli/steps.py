@@ -139,11 +139,12 @@ def run(args: argparse.Namespace) -> int:
     from ..errors import SettingsError
     from ..fileio import check_writable, write_text
 
-    for path in (args.output, args.xlsx):
-        if path:
-            check_writable(path, force=args.force)
     if args.output and args.xlsx and _same_path(args.output, args.xlsx):
         raise SettingsError("--output and --xlsx name the same file")
+    if args.output:
+        check_writable(args.output, force=args.force)
+    if args.xlsx:
+        check_writable(args.xlsx, force=args.force, suffix=".xlsx")
     from ..validate import MAX_FREQUENCY_HZ, check_number
 
     check_number(args.pwm_frequency, "--pwm-frequency", high=MAX_FREQUENCY_HZ)

@@ -360,12 +360,24 @@ def render(fig, name: str, sheet: str, caption: str) -> Picture:
 
 
 def check_picture_folder(folder: str | Path) -> None:
-    """Refuse, before any work, a picture folder that is an existing file."""
+    """Refuse, before any work, a picture folder that is a file or has no parent folder.
+
+    The folder itself is created; the folder it stands in must exist and be
+    writable, as for every output file (a mistyped path made a whole tree).
+    """
+    import os
+
     from ..errors import OutputError
 
     p = Path(folder)
     if p.exists() and not p.is_dir():
         raise OutputError(f"{p}: exists and is not a folder (--pictures needs a folder)")
+    parent = p.parent if str(p.parent) else Path(".")
+    if not p.exists() and not parent.is_dir():
+        raise OutputError(f"{p}: folder {parent} does not exist (--pictures creates only "
+                          f"the last folder of the path)")
+    if not os.access(p if p.exists() else parent, os.W_OK):
+        raise OutputError(f"{p}: folder {p if p.exists() else parent} is not writable")
 
 
 def check_picture_names(folder: str | Path, names: Sequence[str], *, force: bool = False) -> None:

@@ -37,7 +37,8 @@ def unnamed_choice(count: int, options: ReadOptions, name: str, what: str) -> li
         return []
     if options.require_column:
         raise InputError(f"the {what} holds {count} channels that could be the light and none "
-                         f"is named: choose one with column = N in the project file",
+                         f"is named: choose one with column = N in the project file (for a folder "
+                         f"of captures, report --column N)",
                          source=name)
     return [f"the {what} holds {count} channels that could be the light; measured the first: "
             f"name it with --column N to be sure"]

@@ -102,7 +102,8 @@ def choose_signal(names: list[str], units: list[str | None], channels: list[int]
     shown = ", ".join(repr(label(c)) for c in pool)
     if options.require_column:
         raise InputError(f"{len(pool)} columns could be {what} ({shown}) and none is named: "
-                         f"choose one with column = \"NAME\" or a number in the project file",
+                         f"choose one with column = \"NAME\" or a number in the project "
+                         f"file (for a folder of captures, report --column NAME)",
                          source=name)
     warns.append(f"{len(pool)} columns could be {what} ({shown}); measured "
                  f"{label(pool[0])!r}, the first: name it with --column to be sure")

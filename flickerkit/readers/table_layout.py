@@ -116,7 +116,10 @@ class TableLayout:
         sep = {"\t": "tab", " ": "space", ",": "comma", ";": "semicolon"}.get(
             self.separator, repr(self.separator))
         mark = "comma" if self.decimal == "," else "point"
-        parts = [f"{sep}-separated text table", f"decimal {mark}",
+        # one column has no separator to name (the sniffer's tab is a placeholder)
+        table = (f"{sep}-separated text table" if self.width > 1 or self.lead
+                 else "one-column text table")
+        parts = [table, f"decimal {mark}",
                  {"none": "no header"}.get(self.header, self.header)]
         if self.lead:
             parts.append(f"{self.lead} side column(s) of metadata before the table")
@@ -179,7 +182,7 @@ def table_layout(p: Path, options: ReadOptions) -> TableLayout:
     meta_items = metadata_items(lines[:top])
     if lead:  # metadata in the side columns of the first rows: key, value[, unit]
         for ln in lines[top : first + 50]:
-            side = [f.strip().strip('"') for f in ln.strip(" \r\n").split(sep)[:lead]]
+            side = [f.strip().strip('"') for f in split_line(ln.strip(" \r\n"), sep)[:lead]]
             if side and side[0] and len(side) > 1 and side[1]:
                 meta_items.append((side[0], " ".join(x for x in side[1:] if x)))
     metadata = {key: value for key, value in meta_items}

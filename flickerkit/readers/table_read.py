@@ -21,7 +21,7 @@ from .linebounds import LineBounded
 from .result import RATE_GIVEN, FormatRead
 from .streamfolder import stream_folder
 from .table_layout import TableLayout, table_layout
-from .table_sniff import to_float
+from .table_sniff import grouped_cell, to_float
 from .table_time import MIN_UNITLESS_RATE_HZ, PLAUSIBLE_RATE_HZ, SLOW_UNITLESS_RATE_HZ
 from .timebase import uniform, uniform_blocks
 
@@ -267,8 +267,7 @@ def _locate_bad_cell(p: Path, lay: TableLayout, cols: list[int], exc: Exception)
     name = str(p)
     skip = lay.first
     try:
-        frame = pd.read_csv(p, **_parser_args(lay), skiprows=skip,
-                            usecols=[c + lay.lead for c in cols], dtype=str,
+        frame = pd.read_csv(p, **_parser_args(lay), skiprows=skip, dtype=str,
                             keep_default_na=False, skip_blank_lines=False)
     except (ValueError, pd.errors.ParserError) as exc2:
         msg = str(exc2).splitlines()[0]
@@ -276,15 +275,22 @@ def _locate_bad_cell(p: Path, lay: TableLayout, cols: list[int], exc: Exception)
         line = skip + int(m.group(1)) if m else None
         return InputError(f"rows do not all have the same number of fields ({msg})",
                           source=name, line=line)
-    for c in cols:
+    # the columns read first, then the rest (a small table is parsed whole)
+    rest = [c for c in range(lay.width - lay.lead) if c not in cols]
+    for c in cols + rest:
+        if c + lay.lead not in frame:
+            continue
         col = frame[c + lay.lead].to_numpy()
         for i, v in enumerate(col):
             v = str(v)
             if v.strip() == "" or v.strip().lower() in ("nan", "na", "n/a", "null"):
                 continue
             if to_float(v, lay.decimal) is None:
-                return InputError(f"cell {v.strip()!r} is not a number", source=name,
-                                  line=skip + i + 1, column=lay.label(c))
+                why = (": it has a thousands separator (digit grouping); export the numbers "
+                       "without it" if grouped_cell(v) else "")
+                where = lay.label(c) if c < len(lay.names) else f"column {c + 1}"
+                return InputError(f"cell {v.strip()!r} is not a number{why}", source=name,
+                                  line=skip + i + 1, column=where)
     return InputError(f"cannot read the table ({str(exc).splitlines()[0]})", source=name)
 
 

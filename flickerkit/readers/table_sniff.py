@@ -60,8 +60,19 @@ def to_float(field: str, decimal: str) -> float | None:
 
 
 def split_line(line: str, sep: str) -> list[str]:
-    """Split a line into its raw fields (runs of spaces for ``sep == " "``)."""
-    return line.split() if sep == " " else line.split(sep)
+    """Split a line into its raw fields (runs of spaces for ``sep == " "``).
+
+    A separator inside double quotes belongs to the field (``"0,25","1,5"`` is two
+    fields), as in the CSV rules pandas reads the rows by.
+    """
+    if sep == " ":
+        return line.split()
+    if '"' not in line:
+        return line.split(sep)
+    import csv
+
+    row = next(csv.reader([line.rstrip("\r\n")], delimiter=sep, quotechar='"'), [])
+    return row if row else [""]
 
 
 def cells(line: str, sep: str, lead: int = 0) -> list[str]:
@@ -69,7 +80,7 @@ def cells(line: str, sep: str, lead: int = 0) -> list[str]:
 
     Trailing empty cells are dropped.
     """
-    raw = line.split() if sep == " " else line.strip(" \r\n").split(sep)
+    raw = split_line(line if sep == " " else line.strip(" \r\n"), sep)
     out = [f.strip().strip('"').strip("'").strip() for f in raw[lead:]]
     while out and out[-1] == "":
         out.pop()
@@ -99,7 +110,7 @@ def row_fits(line: str, sep: str, decimal: str, k: int, lead: int = 0) -> bool:
 
 
 def _leading_empty(line: str, sep: str) -> int:
-    raw = line.strip(" \r\n").split(sep)
+    raw = split_line(line.strip(" \r\n"), sep)
     n = 0
     while n < len(raw) and not raw[n].strip():
         n += 1
@@ -143,8 +154,9 @@ def sniff(lines: list[str], name: str) -> Sniffed:
         raise InputError("file holds no table", source=name)
     tail = body[-min(len(body), 20):]
     best: tuple[int, int, str, str, int] | None = None
+    quoted = any('"' in ln for ln in tail)
     for sep, dec in (("\t", "."), ("\t", ","), (";", "."), (";", ","), (",", "."),
-                     (" ", "."), (" ", ",")):
+                     *((( ",", ","),) if quoted else ()), (" ", "."), (" ", ",")):
         leads = [0]
         if sep != " ":
             empties = [_leading_empty(ln, sep) for ln in tail]
@@ -166,6 +178,11 @@ def sniff(lines: list[str], name: str) -> Sniffed:
                              "time base; export the time as seconds (or ms, us) from the start, "
                              "or delete the date/time column(s) and give --sample-rate HZ",
                              source=name)
+        grouped = first_grouped(lines)
+        if grouped is not None:
+            raise InputError(f"cell {grouped[1]!r} is not a number: it has a thousands "
+                             f"separator (digit grouping); export the numbers without it",
+                             source=name, line=grouped[0] + 1)
         raise InputError("no numeric table found: the last lines are not rows of numbers "
                          "with a common separator (comma, semicolon, tab or space)",
                          source=name)
@@ -175,8 +192,60 @@ def sniff(lines: list[str], name: str) -> Sniffed:
     for i, ln in enumerate(lines):
         if row_fits(ln, sep, dec, k, lead) and (_numeric_fields(ln, sep, dec, lead) == k or any(
                 _numeric_fields(x, sep, dec, lead) == k for x in lines[i + 1 : i + 3])):
+            _refuse_grouped_rows(lines, sep, dec, k, lead, name)
             return Sniffed(sep, dec, i, k, lead)
     raise InputError("no numeric table found", source=name)
+
+
+#: A number written with digit grouping: 1,020.02 / 1.020,02 / 12'345.6 / 1 020,5 (quoted).
+GROUPED_NUMBER = re.compile(r"[-+]?\d{1,3}(?:([,.'\u00a0\u202f])\d{3})(?:\1\d{3})*"
+                            r"(?:[.,]\d*)?")
+
+
+def grouped_cell(field: str) -> bool:
+    """Return whether a cell is a number with a thousands separator (``"1,020.02"``).
+
+    A cell such as ``1,020`` with no second mark reads as a decimal comma, not as
+    grouping, and is not matched unless it is one of a grouping run (``1,020,300``)
+    or carries the other mark as its decimal (``1,020.5``).
+    """
+    f = field.strip().strip('"').strip("'").strip()
+    m = GROUPED_NUMBER.fullmatch(f)
+    if m is None:
+        return False
+    mark = m.group(1)
+    rest = f[f.rfind(mark) + 4:] if mark else ""
+    return f.count(mark) > 1 or (bool(rest) and rest[0] in ".," and rest[0] != mark)
+
+
+def _refuse_grouped_rows(lines: list[str], sep: str, dec: str, k: int, lead: int,
+                        name: str) -> None:
+    """Refuse a data row with a quoted number in digit grouping, at its line.
+
+    Such a row does not read as numbers, so above the first row that does it would
+    pass for a header line and its samples would be lost without a word.
+    """
+    for i, ln in enumerate(lines):
+        if '"' not in ln:
+            continue
+        fields = cells(ln, sep, lead)
+        bad = [f for f in fields if grouped_cell(f)]
+        if bad and row_fits(sep.join("0" if grouped_cell(f) else f for f in fields),
+                            sep, dec, k):
+            raise InputError(f"cell {bad[0]!r} is not a number: it has a thousands separator "
+                             f"(digit grouping); export the numbers without it",
+                             source=name, line=i + 1)
+
+
+def first_grouped(lines: list[str]) -> tuple[int, str] | None:
+    """(0-based line, cell) of the first quoted cell written with digit grouping, or None."""
+    for i, ln in enumerate(lines):
+        if '"' not in ln:
+            continue
+        for m in re.finditer(r'"([^"]*)"', ln):
+            if grouped_cell(m.group(1)):
+                return i, m.group(1)
+    return None
 
 
 def _one_decimal_comma_column(lines: list[str], tail: list[str]) -> bool:
