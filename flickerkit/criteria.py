@@ -639,7 +639,7 @@ NEAR_LINE_RTOL = 1e-3
 
 def _near_line(a: Assessment, measured: float | None, margin: float | None, decided: str,
                mode: str) -> str:
-    """A sentence when the standard's reading lies within its uncertainty of the line."""
+    """Say so in a sentence when the standard's reading lies within its uncertainty of the line."""
     if measured is None or margin is None or decided not in (mode, "fundamental", ""):
         return ""
     noise = _finite(a.noise_limit_percent if a.headline_estimate != "raw"
