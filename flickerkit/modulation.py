@@ -353,12 +353,17 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     with np.errstate(invalid="ignore", divide="ignore"):
         corr = np.where(np.abs(delta) > 1e-12,
                         np.pi * delta * (1 - delta**2) / np.sin(np.pi * delta), 1.0)
-    amp = aa * corr
-    pos = kk + delta
+    amp_a = aa * corr
+    pos_a = kk + delta
+    order = np.argsort(amp_a)[::-1]
+    # Python floats from here: the loops below run over up to 512 peaks, where numpy's
+    # scalar overhead would cost a millisecond a capture (the same double arithmetic)
+    amp: list[float] = amp_a.tolist()
+    pos: list[float] = pos_a.tolist()
+    bins: list[int] = kk.tolist()
     # drop sidelobes of stronger peaks
-    order = np.argsort(amp)[::-1]
     keep: list[int] = []
-    for i in order:
+    for i in order.tolist():
         ok = True
         for j in keep:
             d = abs(pos[i] - pos[j])
@@ -366,7 +371,7 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
                 ok = False
                 break
         if ok:
-            keep.append(int(i))
+            keep.append(i)
             if len(keep) >= MAX_COMPONENTS:
                 break
     # classify
@@ -379,28 +384,31 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     comps: list[Component] = []
     fit: list[float] = []
     for i in keep:
-        f = float(pos[i] * df)
+        f = pos[i] * df
         u = max(EDGE_RTOL * f, df * (0.02 + (noise / amp[i] if amp[i] > 0 else 1.0)))
         kind, h = "unrelated", None
         if f0:
             hh = int(round(f / f0))
             # a whole-period spectrum puts harmonic h on bin h P exactly
             on_bin = (spectrum.whole_periods >= 1 and hh >= 1
-                      and abs(kk[i] - hh * spectrum.whole_periods) <= 1)
+                      and abs(bins[i] - hh * spectrum.whole_periods) <= 1)
             if hh >= 1 and (on_bin or abs(f - hh * f0) <= u + EDGE_RTOL * hh * f0):
                 kind, h, f, u = "harmonic", hh, hh * f0, EDGE_RTOL * hh * f0
-        comps.append(Component(f, float(amp[i]), float(u), kind, h, order=None))
-        fit.append(float(pos[i] * df))
+        comps.append(Component(float(f), amp[i], float(u), kind, h, order=None))
+        fit.append(pos[i] * df)
     # the period estimate's own error shows as the fundamental's offset from h = 1
     u0 = EDGE_RTOL * f0 if f0 else 0.0
     for comp, f_fit in zip(comps, fit):
         if comp.harmonic == 1:
             u0 = max(u0, 2.0 * abs(f_fit - comp.frequency_hz))
     if f0:
-        comps = [replace(c, uncertainty_hz=c.harmonic * u0) if c.harmonic else c for c in comps]
+        # Component(...) rather than dataclasses.replace: a tenth of the cost, same fields
+        comps = [Component(c.frequency_hz, c.amplitude, c.harmonic * u0, c.kind, c.harmonic,
+                           c.order) if c.harmonic else c for c in comps]
         tv = (alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1)
               if alias_bound and period_samples else 0.0)
-        comps = [replace(c, kind="possible alias")
+        comps = [Component(c.frequency_hz, c.amplitude, c.uncertainty_hz, "possible alias",
+                           c.harmonic, c.order)
                  if c.kind == "unrelated" and c.amplitude <= alias_bound
                  and _alias_of_harmonic(c, f0, u0, sample_rate_hz, tv) else c for c in comps]
     out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
@@ -459,7 +467,8 @@ def _result(comps: list[Component], threshold: float, alias_bound: float, df: fl
     if unrelated:
         rep = _common_frequency(f0, unrelated, MIN_CYCLES / span_s if span_s > 0 else 0.0)
     if rep:
-        comps = [replace(c, order=_order(c, rep)) for c in comps]
+        comps = [Component(c.frequency_hz, c.amplitude, c.uncertainty_hz, c.kind, c.harmonic,
+                           _order(c, rep)) for c in comps]
     comps.sort(key=lambda c: -c.amplitude)
     uf = tuple(c.frequency_hz for c in comps if c.kind == "unrelated")
     if not comps:

@@ -290,9 +290,16 @@ def _one_blas_thread():
     every BLAS thread they take 100x longer when the machine is busy (threads
     wait for each other) and gain nothing when it is idle.
     """
-    from threadpoolctl import threadpool_limits  # type: ignore[import-untyped]  # no stubs
+    global _CONTROLLER
+    if _CONTROLLER is None:  # finding the loaded libraries costs ~0.3 ms: once per process
+        from threadpoolctl import ThreadpoolController  # type: ignore[import-untyped]  # no stubs
 
-    return threadpool_limits(limits=1, user_api="blas")
+        _CONTROLLER = ThreadpoolController()
+    return _CONTROLLER.limit(limits=1, user_api="blas")
+
+
+#: The process's thread-pool controller, made on first use (numpy's BLAS is loaded by then).
+_CONTROLLER = None
 
 
 def _minimise_bounded(f, a: float, b: float, xatol: float,
