@@ -407,29 +407,58 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
                            c.order) if c.harmonic else c for c in comps]
         tv = (alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1)
               if alias_bound and period_samples else 0.0)
-        comps = [Component(c.frequency_hz, c.amplitude, c.uncertainty_hz, "possible alias",
-                           c.harmonic, c.order)
-                 if c.kind == "unrelated" and c.amplitude <= alias_bound
-                 and _alias_of_harmonic(c, f0, u0, sample_rate_hz, tv) else c for c in comps]
+        suspects = [i for i, c in enumerate(comps)
+                    if c.kind == "unrelated" and c.amplitude <= alias_bound]
+        for i, folds in zip(suspects, _aliases_of_harmonics(
+                [comps[i] for i in suspects], f0, u0, sample_rate_hz, tv)):
+            if folds:
+                c = comps[i]
+                comps[i] = Component(c.frequency_hz, c.amplitude, c.uncertainty_hz,
+                                     "possible alias", c.harmonic, c.order)
     out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
     return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
 
 
-def _alias_of_harmonic(c: Component, f0: float, u0: float, fs: float, tv: float) -> bool:
-    """Whether a harmonic above Nyquist large enough to give ``c`` folds onto its frequency.
+#: Elements of the component x harmonic table formed at a time in
+#: :func:`_aliases_of_harmonics` (8 MiB of float64).
+_ALIAS_TABLE = 2**20
+
+
+def _aliases_of_harmonics(comps: list[Component], f0: float, u0: float, fs: float,
+                          tv: float) -> list[bool]:
+    """Return, per component, whether a large enough harmonic above Nyquist folds onto it.
 
     Harmonic h of a period with total variation V has at most ``V / (pi h)``; it lands at
-    ``|h f0 - m fs|`` (m the nearest whole number), known within ``h u0``.
+    ``|h f0 - m fs|`` (m the nearest whole number), known within ``h u0``. The harmonics
+    tried for a component of amplitude C run from the first above Nyquist to
+    ``floor(V / (pi C))`` (at most 200,000 of them). Their folded frequencies are formed
+    once for all components and compared as a table of components x harmonics, a few rows
+    at a time.
     """
+    if not comps:
+        return []
     h_min = int(np.floor(fs / (2.0 * f0))) + 1
-    h_max = int(min(np.floor(tv / (np.pi * c.amplitude)) if c.amplitude > 0 else h_min,
-                    h_min + 200_000))
-    if h_max < h_min:
-        return False
-    h = np.arange(h_min, h_max + 1, dtype=np.float64)
+    tops = [int(min(np.floor(tv / (np.pi * c.amplitude)) if c.amplitude > 0 else h_min,
+                    h_min + 200_000)) for c in comps]
+    top = max(tops)
+    if top < h_min:
+        return [False] * len(comps)
+    h = np.arange(h_min, top + 1, dtype=np.float64)
     fh = h * f0
     folded = np.abs(fh - np.round(fh / fs) * fs)
-    return bool(np.any(np.abs(folded - c.frequency_hz) <= c.uncertainty_hz + h * u0))
+    reach = h * u0
+    out = [False] * len(comps)
+    live = [i for i, t in enumerate(tops) if t >= h_min]
+    rows = max(1, _ALIAS_TABLE // h.size)
+    for a in range(0, len(live), rows):
+        sel = live[a: a + rows]
+        f = np.array([comps[i].frequency_hz for i in sel])[:, None]
+        u = np.array([comps[i].uncertainty_hz for i in sel])[:, None]
+        last = np.array([tops[i] - h_min for i in sel])[:, None]  # each its own h_max
+        hit = (np.abs(folded - f) <= u + reach) & (np.arange(h.size) <= last)
+        for i, any_hit in zip(sel, hit.any(axis=1).tolist()):
+            out[i] = bool(any_hit)
+    return out
 
 
 def _noise_std(spectrum: Spectrum, sigma2: float) -> float | None:
