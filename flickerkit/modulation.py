@@ -217,9 +217,17 @@ def _hann_block(c: np.ndarray, lo: int, hi: int) -> np.ndarray:
     seg = np.array(c[a:b], dtype=np.complex128)
     if a == 0:
         seg[0] = 0.0
-    left = np.concatenate(([0.0], seg[:-1]))
-    right = np.concatenate((seg[1:], [0.0]))
-    y = np.abs(seg - 0.5 * (left + right))
+    # left + right neighbours, zero beyond the ends (0 + x is x exactly)
+    both = np.empty_like(seg)
+    if seg.shape[0] > 1:
+        np.add(seg[:-2], seg[2:], out=both[1:-1])
+        both[0] = seg[1]
+        both[-1] = seg[-2]
+    else:
+        both[:] = 0.0
+    both *= 0.5
+    np.subtract(seg, both, out=both)
+    y = np.abs(both)
     return y[lo - a: lo - a + (hi - lo)]
 
 
@@ -287,14 +295,14 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
         first = max(first, 4)
     # noise per bin from a strided median (no full-length copy)
     step = max(1, (K - first) // _NOISE_BINS)
-    idx = np.arange(first, K - 1, step)
     c = spectrum.coefficients
     dc = float(c[0].real)
     scale = 2.0 / abs(dc) if dc else 0.0
+    # bins first, first + step, ... below K - 1 (strided slices: no index arrays)
     if spectrum.window == "hann":
-        sample = np.asarray(spectrum.amplitudes[idx])
+        sample = np.asarray(spectrum.amplitudes[first: K - 1: step])
     else:
-        cc = c[idx] - 0.5 * (c[idx - 1] + c[idx + 1])
+        cc = c[first: K - 1: step] - 0.5 * (c[first - 1: K - 2: step] + c[first + 1: K: step])
         sample = np.abs(cc) * scale
     sigma2 = float(np.median(sample**2)) / np.log(2.0) if sample.size else 0.0
     threshold = max(MIN_COMPONENT, float(np.sqrt(sigma2 * np.log(max(K, 2) / FALSE_ALARM))))
