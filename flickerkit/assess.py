@@ -515,7 +515,10 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
                                     max_samples=cap,
                                     bands_hz=tuple((lo, hi) for lo, hi, _ in
-                                                   ieee1789.SEGMENTS_HZ))
+                                                   ieee1789.SEGMENTS_HZ),
+                                    transform=((spec.n_samples, spec.coefficients)
+                                               if spec.window == "rectangular"
+                                               and spec.start == 0 else None))
     fund = per_h = head_ieee = None
     if period.frequency_hz is not None:
         fund = ieee1789.classify(period.frequency_hz, pf,
