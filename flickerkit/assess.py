@@ -318,6 +318,17 @@ def _pst_detail(r: PstResult | None) -> dict[str, Any] | None:
     return d
 
 
+def _check_arguments(capture: Any, settings: Any, name: str) -> None:
+    """Refuse, in one line, arguments that are not a Capture and AssessSettings."""
+    if not isinstance(capture, Capture):
+        raise TypeError(f"{name}() takes a Capture, got {type(capture).__name__}; build one "
+                        f"with flickerkit.make_capture(samples, sample_rate_hz)")
+    if settings is not None and not isinstance(settings, AssessSettings):
+        raise TypeError(f"{name}() takes AssessSettings as its second argument, got "
+                        f"{type(settings).__name__} (the sample rate belongs to the Capture: "
+                        f"flickerkit.make_capture(samples, sample_rate_hz))")
+
+
 def assess(capture: Capture, settings: AssessSettings | None = None, *,
            block: int = reduce.BLOCK) -> Assessment:
     """Compute every figure of a light capture.
@@ -344,6 +355,10 @@ def assess(capture: Capture, settings: AssessSettings | None = None, *,
     InputError
         If the capture is dark (all zero), holds a non-finite sample, or its
         mean light is not positive.
+    TypeError
+        If ``capture`` is not a :class:`~flickerkit.capture.Capture` (a bare
+        array: wrap it with :func:`~flickerkit.capture.make_capture`) or
+        ``settings`` is not an :class:`AssessSettings`.
 
     Notes
     -----
@@ -354,6 +369,7 @@ def assess(capture: Capture, settings: AssessSettings | None = None, *,
     :data:`~flickerkit.spectrum.SINGLE_FFT_MAX_SAMPLES` are transformed in one
     piece; longer ones use averaged whole-period windows.
     """
+    _check_arguments(capture, settings, "assess")
     settings = settings or AssessSettings()
     where = capture.source or capture.label or None
     if capture.n_samples < MIN_SAMPLES:
@@ -831,6 +847,7 @@ def assess_voltage(capture: Capture, settings: AssessSettings | None = None) -> 
     IEC 61000-4-15:2010 (flickermeter; constants from memory, not read in the
     standard).
     """
+    _check_arguments(capture, settings, "assess_voltage")
     settings = settings or AssessSettings()
     x = capture.samples  # an array or a streamed signal: read in slices only
     n = capture.n_samples

@@ -31,18 +31,25 @@ class Outcome:
         ``Assessment.to_dict()`` when it was measured.
     error : str or None
         The error line when it was not.
+    then : Any
+        What the ``then`` callable of :func:`measure_one` made of the typed
+        assessment in the worker (``report`` judges there), else None.
     """
 
     path: str
     record: dict[str, Any] | None
     error: str | None = None
+    then: Any = None
 
 
-def measure_one(path: str, options: ReadOptions, settings: AssessSettings) -> Outcome:
+def measure_one(path: str, options: ReadOptions, settings: AssessSettings,
+                then: Callable[[Any], Any] | None = None) -> Outcome:
     """Read and assess one capture; project errors become ``Outcome.error``.
 
     Pure apart from reading the file: the same inputs give the same outcome
-    in any process.
+    in any process. ``then`` (picklable) is called with the typed assessment
+    in the worker, so what needs the typed result (judging) is done where it
+    is, and only plain results cross the process boundary.
     """
     from .assess import assess, assess_voltage
     from .errors import FlickerkitError
@@ -50,8 +57,8 @@ def measure_one(path: str, options: ReadOptions, settings: AssessSettings) -> Ou
 
     try:
         capture = read_capture(path, options)
-        judge = assess_voltage if capture.quantity == "voltage" else assess
-        return Outcome(path, judge(capture, settings).to_dict())
+        result = (assess_voltage if capture.quantity == "voltage" else assess)(capture, settings)
+        return Outcome(path, result.to_dict(), then=None if then is None else then(result))
     except FlickerkitError as exc:
         return Outcome(path, None, str(exc))
     except MemoryError:
@@ -166,7 +173,7 @@ def limit_threads(workers: int) -> int:
     return threads
 
 
-def _star(job: tuple[str, ReadOptions, AssessSettings]) -> Outcome:
+def _star(job: tuple[str, ReadOptions, AssessSettings, Any]) -> Outcome:
     return measure_one(*job)
 
 
@@ -186,6 +193,7 @@ def measure_many(
     workers: int | None = None,
     scheduler: str | None = None,
     on_result: Callable[[Outcome], None] | None = None,
+    then: Sequence[Callable[[Any], Any] | None] | None = None,
 ) -> list[Outcome]:
     """Measure captures, in parallel, returning outcomes in input order.
 
@@ -205,6 +213,9 @@ def measure_many(
         the map on instead of local processes. Needs the ``distributed`` extra.
     on_result : callable, optional
         Called with each outcome as it arrives, in input order (for progress).
+    then : sequence of callable, optional
+        One per path: called in the worker with the typed assessment
+        (:func:`measure_one`); its result is ``Outcome.then``.
 
     Returns
     -------
@@ -220,7 +231,10 @@ def measure_many(
     per_path = [options] * len(paths) if isinstance(options, ReadOptions) else list(options)
     if len(per_path) != len(paths):
         raise ValueError("give one ReadOptions, or one per path")
-    jobs = [(str(p), o, settings) for p, o in zip(paths, per_path)]
+    after = list(then) if then is not None else [None] * len(paths)
+    if len(after) != len(paths):
+        raise ValueError("give one 'then' per path")
+    jobs = [(str(p), o, settings, t) for p, o, t in zip(paths, per_path, after)]
     _note_inputs(jobs)
     if scheduler:
         return _on_dask(jobs, scheduler, on_result)
@@ -250,7 +264,7 @@ def _note_inputs(jobs) -> None:
     """Record the captures and dark captures (read by workers) as inputs of this run."""
     from .fileio import note_input
 
-    for path, opt, _ in jobs:
+    for path, opt, *_ in jobs:
         note_input(path)
         if isinstance(opt.dark, str):
             note_input(opt.dark)

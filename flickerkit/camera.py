@@ -138,7 +138,7 @@ class Banding:
 
 
 def running_mean_extremes(light: Light, window_s: float) -> tuple[float, float, float]:
-    """Smallest and largest running mean of the light over a window, and the mean.
+    """Return the smallest and largest running mean of the light over a window, and the mean.
 
     Parameters
     ----------

@@ -65,7 +65,7 @@ class ReadRecord:
 
 
 def describe_read(read: Mapping[str, Any]) -> str:
-    """One line saying what was read, from a :class:`ReadRecord` or its ``to_dict()``."""
+    """Say in one line what was read, from a :class:`ReadRecord` or its ``to_dict()``."""
     d = read.to_dict() if isinstance(read, ReadRecord) else dict(read)
     unit = f" [{d['unit']}]" if d.get("unit") else ""
     why = f" ({d['channel_choice']})" if d.get("channel_choice") else ""

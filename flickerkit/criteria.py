@@ -2,8 +2,9 @@
 
 Each :class:`Criterion` names its source document and clause, where it
 applies, when it takes effect and how sure we are of its figures. Verdicts
-read the public JSON object of an assessment (``Assessment.to_dict()``, the
-same for measured and modelled light) plus the dimming level.
+read the typed :class:`flickerkit.assess.Assessment` (the same for measured
+and modelled light) plus the dimming level; a criterion's ``metric`` names its
+figure (:data:`flickerkit.keypath.FIGURES`), checked when the criterion is made.
 
 A verdict is ``pass``, ``fail``, ``not applicable`` (with why) or
 ``insufficient data`` -- never ``pass`` when the capture does not meet the
@@ -32,9 +33,14 @@ import math
 import operator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Callable, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 
 from .errors import SettingsError
+from .keypath import UnknownKey, check_name, figure
+
+if TYPE_CHECKING:  # pragma: no cover - types only
+    from .assess import Assessment
+    from .svm import SvmResult
 
 STATUSES = ("pass", "fail", "not applicable", "insufficient data")
 CONFIDENCES = ("sourced", "secondary", "recalled")
@@ -64,9 +70,11 @@ class Criterion:
     applies_to : str
         Scope (products, applications) as the document states it.
     metric : str
-        Key path in the assessment object (``svm``, ``pst_lm``,
-        ``percent_flicker``, ``filtered_percent_flicker.200``, or
-        ``ieee1789.low_risk`` / ``ieee1789.noel`` for the IEEE lines).
+        Figure name (:data:`flickerkit.keypath.FIGURES`: ``svm``, ``pst_lm``,
+        ``percent_flicker``, ``filtered_percent_flicker.200``, ...), or
+        ``ieee1789.low_risk`` / ``ieee1789.noel`` for the IEEE lines and
+        ``below_90hz_modulation`` (:data:`flickerkit.keypath.RULES`); an
+        unknown name is refused.
     comparison : str
         ``<``, ``<=``, ``>``, ``>=``: how the measured value must relate to the limit.
     schedule : tuple of (datetime.date or None, float)
@@ -132,14 +140,18 @@ class Criterion:
         if self.kind not in KINDS:
             raise SettingsError(f"criterion {self.id}: kind must be one of {', '.join(KINDS)}, "
                                 f"got {self.kind!r}")
+        try:
+            check_name(self.metric)
+        except UnknownKey as exc:
+            raise SettingsError(f"criterion {self.id!r}: metric: {exc}") from None
 
     @property
     def effective_from(self) -> _dt.date | None:
-        """Date the first limit takes effect."""
+        """Return the date the first limit takes effect (``None``: in force from the start)."""
         return self.schedule[0][0]
 
     def limit_on(self, date: _dt.date) -> float | None:
-        """Limit in force on ``date``; ``None`` before the first date."""
+        """Return the limit in force on ``date`` in :attr:`unit`; ``None`` before the first date."""
         current = None
         for start, limit in self.schedule:
             if start is None or start <= date:
@@ -173,6 +185,10 @@ class Verdict:
         SVM criteria only: non-empty when the other threshold form
         (:data:`flickerkit.svm.OTHER_FORM`) gives the other verdict; it says
         which form gives what (the reason ends with the same sentence).
+    decided_by : str
+        The component or band of the assessment that decided a pass or fail
+        ('' when the assessment names none; the reason says how). Reports show
+        it (:func:`flickerkit.judgement.decided_by`); not in :meth:`to_dict`.
     """
 
     criterion: str
@@ -184,13 +200,15 @@ class Verdict:
     margin: float | None
     reason: str = ""
     threshold_form: str = ""
+    decided_by: str = ""
 
     @property
     def depends_on_threshold_form(self) -> bool:
-        """Whether the SVM threshold form decides this verdict."""
+        """Tell whether the SVM threshold form decides this verdict."""
         return bool(self.threshold_form)
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the verdict (``threshold_form`` None if it did not decide)."""
         return {"criterion": self.criterion, "label": self.label, "level": self.level,
                 "status": self.status, "measured": self.measured, "limit": self.limit,
                 "margin": self.margin, "reason": self.reason,
@@ -349,7 +367,9 @@ DEFAULT_CRITERIA = ("ieee1789-low-risk", "ieee1789-noel", "eu-2019-2020-svm",
 
 def get(ids: Sequence[str] | None = None,
         extra: Mapping[str, Criterion] | None = None) -> list[Criterion]:
-    """Criteria by id (built-in, then ``extra``); default :data:`DEFAULT_CRITERIA`.
+    """Return the criteria named by ``ids``, looked up built-in first, then in ``extra``.
+
+    With no ``ids``, the criteria of :data:`DEFAULT_CRITERIA`.
 
     Raises
     ------
@@ -369,24 +389,22 @@ def get(ids: Sequence[str] | None = None,
     return out
 
 
-def _insufficient(record: Mapping[str, Any], requires: Sequence[str]) -> str | None:
-    """Why the record cannot be judged, or None."""
+def _insufficient(a: Assessment, requires: Sequence[str]) -> str | None:
+    """Say why the assessment cannot be judged under ``requires``, or return None."""
     from .assess import MIN_PERIODS, MIN_SAMPLES_PER_PERIOD
 
-    if "periodic" in requires and record.get("frequency_hz") is not None:
-        if (record.get("periods") or 0) < MIN_PERIODS:
+    if "periodic" in requires and _finite(a.frequency_hz) is not None:
+        if (a.periods or 0) < MIN_PERIODS:
             return f"fewer than {MIN_PERIODS} whole periods of the modulation"
-        spp = record.get("samples_per_period")
+        spp = _finite(a.samples_per_period)
         if spp is not None and spp < MIN_SAMPLES_PER_PERIOD:
             return f"fewer than {MIN_SAMPLES_PER_PERIOD} samples per period"
-    if "pst-duration" in requires:
-        detail = record.get("pst_lm_detail") or {}
-        if detail.get("short"):
-            return (f"Pst LM over {detail.get('observation_s', 0):.3g} s, shorter than the "
-                    f"method's {detail.get('method_observation_s', 0):.3g} s observation")
+    if "pst-duration" in requires and a.pst_lm is not None and a.pst_lm.short:
+        return (f"Pst LM over {a.pst_lm.observation_s:.3g} s, shorter than the "
+                f"method's {a.pst_lm.method_observation_s:.3g} s observation")
     if "ja10-sampling" in requires:
-        fs = record.get("sample_rate_hz") or 0.0
-        dur = record.get("duration_s") or 0.0
+        fs = _finite(a.sample_rate_hz) or 0.0
+        dur = _finite(a.duration_s) or 0.0
         if fs < 20_000.0 * (1 - 1e-9):
             return f"sample rate {fs:g} Hz is below JA10.5's 20 kHz (sample interval <= 50 us)"
         if dur < 1.0 - 1e-9:
@@ -394,13 +412,18 @@ def _insufficient(record: Mapping[str, Any], requires: Sequence[str]) -> str | N
     return None
 
 
+def _finite(v: float | None) -> float | None:
+    """Return ``v`` as a float when it is a finite number, else None (as the JSON holds it)."""
+    return None if v is None or not math.isfinite(v) else float(v)
+
+
 #: Percent flicker below this is taken as steady light whatever the noise (numerical
 #: residue of modelled steady light is about 1e-10 %) [%].
 STEADY_PERCENT_FLICKER = 1e-6
 
 
-def _no_period_reason(record: Mapping[str, Any]) -> tuple[str, str]:
-    """Verdict status and reason when the record found no fundamental frequency.
+def _no_period_reason(a: Assessment) -> tuple[str, str]:
+    """Return the verdict status and reason when the assessment found no fundamental frequency.
 
     Steady light (percent flicker within the noise) is ``not applicable``; light
     that clearly modulates but shows no whole period (a capture shorter than
@@ -409,11 +432,9 @@ def _no_period_reason(record: Mapping[str, Any]) -> tuple[str, str]:
     """
     from .assess import NOISE_MARGIN
 
-    pf = record.get("percent_flicker")
-    floor = (record.get("noise") or {}).get("percent_flicker_floor")
-    floor = float(floor) if isinstance(floor, (int, float)) and math.isfinite(floor) else 0.0
-    if (isinstance(pf, (int, float)) and math.isfinite(pf)
-            and pf > max(NOISE_MARGIN * floor, STEADY_PERCENT_FLICKER)):
+    pf = _finite(a.percent_flicker)
+    floor = _finite(a.noise_percent_flicker) or 0.0
+    if pf is not None and pf > max(NOISE_MARGIN * floor, STEADY_PERCENT_FLICKER):
         return ("insufficient data",
                 f"the light modulates ({pf:.3g} % percent flicker, above the noise) but no "
                 f"period was found: the capture may be shorter than two periods, or the "
@@ -421,26 +442,44 @@ def _no_period_reason(record: Mapping[str, Any]) -> tuple[str, str]:
     return "not applicable", "no periodic modulation found (steady light within the noise)"
 
 
-def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | None = None,
-          date: _dt.date | None = None) -> Verdict:
-    """Judge one assessment object against one criterion.
+def judge(assessment: Assessment | None, criterion: Criterion, *, level: float | None = None,
+          date: _dt.date | None = None, label: str | None = None) -> Verdict:
+    """Judge one assessment against one criterion.
 
     Parameters
     ----------
-    record : Mapping
-        ``Assessment.to_dict()`` (or a drive-sweep row with the same keys).
+    assessment : flickerkit.assess.Assessment or None
+        The assessment of a capture, measured or modelled (a drive level's
+        :attr:`flickerkit.sweep.LevelRow.assessment`). ``None`` for a level
+        that makes no light (a drive that skips its pulse): the criteria of the
+        light's modulation are then ``not applicable``, the others
+        ``insufficient data``.
     criterion : Criterion
     level : float, optional
         Dimming level of the capture [percent]; needed for level-bound criteria.
     date : datetime.date, optional
         Date the product is judged at (placing on the market); default today.
+    label : str, optional
+        Label of the verdict; default the assessment's.
 
     Returns
     -------
     Verdict
+        With ``decided_by``, the component or band that decided a pass or fail
+        when the assessment names one.
+
+    Examples
+    --------
+    >>> import numpy as np, flickerkit as fk
+    >>> t = np.arange(20_000) / 20_000.0      # 1 s at 20 kHz [s]
+    >>> a = fk.assess_light(fk.make_capture(1 + 0.05 * np.sin(2 * np.pi * 123.4 * t), 20_000.0))
+    >>> v = judge(a, REGISTRY["ieee1789-low-risk"])
+    >>> v.status, round(v.measured, 2), round(v.limit, 2)
+    ('pass', 5.0, 9.87)
     """
     date = date or _dt.date.today()
-    label = str(record.get("label", ""))
+    if label is None:
+        label = "" if assessment is None else str(assessment.label)
     # the fields every verdict of this call shares
     verdict = functools.partial(Verdict, criterion=criterion.id, label=label, level=level)
     if criterion.levels is not None:
@@ -457,142 +496,162 @@ def judge(record: Mapping[str, Any], criterion: Criterion, *, level: float | Non
         since = f" (from {start.isoformat()})" if start is not None else ""
         return verdict(status="not applicable", measured=None, limit=None, margin=None,
                        reason=f"not in force on {date.isoformat()}{since}")
-    why = _insufficient(record, criterion.requires)
-    acq = record.get("acquisition")
-    if not why and isinstance(acq, Mapping) and acq.get("folding_suspected"):
-        why = f"content above half the sample rate may have folded down: {acq.get('reason')}"
+    if assessment is None:
+        if criterion.metric in _RULES:  # the IEEE lines' limits depend on a frequency
+            return verdict(status="not applicable", measured=None,
+                           limit=limit if criterion.metric == "below_90hz_modulation" else None,
+                           margin=None, reason="no light at this level: no modulation to judge")
+        return verdict(status="insufficient data", measured=None, limit=limit, margin=None,
+                       reason=f"no {criterion.metric} value: no light at this level")
+    a = assessment
+    why = _insufficient(a, criterion.requires)
+    if not why and a.acquisition is not None and a.acquisition.folding_suspected:
+        why = f"content above half the sample rate may have folded down: {a.acquisition.reason}"
     if why:
         return verdict(status="insufficient data", measured=None, limit=None, margin=None,
                        reason=why)
 
     if criterion.metric in ("ieee1789.low_risk", "ieee1789.noel"):
-        ieee = record.get("ieee1789")
-        if record.get("frequency_hz") is None or not ieee:
-            status, reason = _no_period_reason(record)
-            return verdict(status=status, measured=None, limit=None, margin=None,
-                           reason=reason)
-        which = "low_risk" if criterion.metric.endswith("low_risk") else "noel"
-        measured = ieee["modulation_percent"]
-        limit = ieee[f"{which}_limit_percent"]
-        ok = ieee["region"] in (("low-risk", "no-observable-effect") if which == "low_risk"
-                                else ("no-observable-effect",))
-        margin = None if limit is None else limit - measured
-        decided = ieee.get("decided_by") or ieee["mode"]
-        std = ieee.get("per_harmonic" if ieee["mode"] == "per-harmonic" else "fundamental")
-        if decided.startswith(("component", "band")) and std and std.get("frequency_hz"):
-            # another modulation decided: name it, and the standard's reading beside it
-            how = (f"decided by {decided}; the standard's reading ({ieee['mode']} mode at "
-                   f"{std['frequency_hz']:.5g} Hz) is {std.get('region')}")
-        else:
-            how = (f"{ieee['mode']} mode at {ieee['frequency_hz']:.5g} Hz"
-                   + (f", decided by {decided}" if decided not in (ieee["mode"], "") else ""))
-        how = (how
-               + (f"; {ieee['edge']}" if ieee.get("edge") else "")
-               + ("" if limit is not None else "; exempt above the upper frequency"))
-        return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
-                       margin=margin, reason=how)
-
+        return _judge_ieee(a, criterion, verdict)
     if criterion.metric == "below_90hz_modulation":
-        f = record.get("frequency_hz")
-        low = record.get("below_90hz")
-        if f is None and not (low and low.get("modulation_percent") is not None):
-            status, reason = _no_period_reason(record)
+        low = a.below_90hz
+        f = _finite(a.frequency_hz)
+        if f is None and not (low and _finite(low.modulation_percent) is not None):
+            status, reason = _no_period_reason(a)
             return verdict(status=status, measured=None, limit=limit, margin=None,
                            reason=reason)
-        if isinstance(low, Mapping):
+        if low is not None:
             # the light low-passed below 90 Hz, whatever carrier rides above it
-            if low.get("modulation_percent") is None:
+            low_pf = _finite(low.modulation_percent)
+            if low_pf is None:
                 return verdict(status="not applicable", measured=None, limit=limit,
                                margin=None,
                                reason="nothing below 90 Hz stands above the noise")
-            measured = float(low["modulation_percent"])
-            ok = measured <= limit
-            return verdict(status="pass" if ok else "fail", measured=measured,
-                           limit=limit, margin=limit - measured,
+            ok = low_pf <= limit
+            return verdict(status="pass" if ok else "fail", measured=low_pf,
+                           limit=limit, margin=limit - low_pf,
                            reason=f"modulation depth below 90 Hz (low-passed, strongest "
-                                  f"component {low['frequency_hz']:.4g} Hz) <= {limit:g} %")
-        assert f is not None  # a record without a period has a low-passed figure or left above
+                                  f"component {low.frequency_hz:.4g} Hz) <= {limit:g} %",
+                           decided_by=_decided_by(a, criterion.metric))
+        assert f is not None  # an assessment without a period has a low-passed figure
         if f >= 90.0:
             return verdict(status="not applicable", measured=None, limit=limit, margin=None,
                            reason="no modulation below 90 Hz")
-        measured = record.get("percent_flicker")
+        measured = _finite(a.percent_flicker)
     else:
-        measured = _measured(record, criterion)
-    if isinstance(measured, Mapping):
-        if "value" not in measured:
-            raise SettingsError(f"criterion {criterion.id!r}: metric {criterion.metric!r} is a "
-                                f"table, not a number; name one of its figures as "
-                                f"'{criterion.metric}.KEY'")
-        measured = measured.get("value")
-    if measured is None or (isinstance(measured, float) and not math.isfinite(measured)):
+        measured = _finite(figure(a, criterion.metric))
+    if measured is None:
         return verdict(status="insufficient data", measured=None, limit=limit, margin=None,
                        reason=f"no {criterion.metric} value (capture too short or the "
                               f"method's requirements not met; see the capture's warnings)")
-    if isinstance(measured, bool) or not isinstance(measured, (int, float)):
-        kind = "a list" if isinstance(measured, (list, tuple)) else "text"
-        raise SettingsError(f"criterion {criterion.id!r}: metric {criterion.metric!r} is {kind}, "
-                            f"not a number; a criterion compares a number with its limit")
-    measured = float(measured)
     ok = _COMPARE[criterion.comparison](measured, limit)
     margin = limit - measured if criterion.comparison in ("<", "<=") else measured - limit
     unit = f" {criterion.unit}" if criterion.unit else ""
     how = f"{criterion.metric} {criterion.comparison} {limit:g}{unit}"
-    detail = record.get(f"{criterion.metric}_detail")
-    if isinstance(detail, Mapping) and detail.get("calibration_status") == "provisional":
-        how += f" (provisional calibration {detail.get('calibration')})"
-    if isinstance(detail, Mapping) and detail.get("threshold_status") not in (None, "sourced"):
-        how += f" (threshold model {detail.get('threshold')}: {detail.get('threshold_status')})"
-    form = _threshold_form(criterion, detail, ok, limit)
+    form = ""
+    if criterion.metric == "pst_lm" and a.pst_lm is not None \
+            and a.pst_lm.calibration_status == "provisional":
+        how += f" (provisional calibration {a.pst_lm.calibration})"
+    if criterion.metric == "svm" and a.svm is not None:
+        if a.svm.threshold_status not in (None, "sourced"):
+            how += f" (threshold model {a.svm.threshold}: {a.svm.threshold_status})"
+        form = _threshold_form(criterion, a.svm, ok, limit)
     if form:
         how += f"; {form}"
     return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
-                   margin=margin, reason=how, threshold_form=form)
+                   margin=margin, reason=how, threshold_form=form,
+                   decided_by=_decided_by(a, criterion.metric))
 
 
-def _measured(record: Mapping[str, Any], criterion: Criterion) -> Any:
-    """The criterion's figure in the record (:func:`flickerkit.keypath.figure`).
+_RULES = ("ieee1789.low_risk", "ieee1789.noel", "below_90hz_modulation")
 
-    In a record that holds an assessment (it has ``n_samples``) a metric that
-    names no key is an error naming the criterion: a misspelt metric must
-    not read as "no value". A row that was never assessed (a drive level
-    without light) has no figures at all: every metric is missing there.
+
+def _judge_ieee(a: Assessment, criterion: Criterion, verdict: Callable[..., Verdict]) -> Verdict:
+    """Judge an IEEE 1789 line: the headline reading's region, limit and what decided it."""
+    ieee = a.ieee1789
+    if _finite(a.frequency_hz) is None or ieee is None:
+        status, reason = _no_period_reason(a)
+        return verdict(status=status, measured=None, limit=None, margin=None, reason=reason)
+    which = "low_risk" if criterion.metric.endswith("low_risk") else "noel"
+    measured = _finite(ieee.modulation_percent)
+    limit = _finite(ieee.low_risk_limit_percent if which == "low_risk"
+                    else ieee.noel_limit_percent)
+    ok = ieee.region in (("low-risk", "no-observable-effect") if which == "low_risk"
+                         else ("no-observable-effect",))
+    margin = None if limit is None or measured is None else limit - measured
+    decided = ieee.decided_by or ieee.mode
+    std = a.ieee1789_per_harmonic if ieee.mode == "per-harmonic" else a.ieee1789_fundamental
+    std_f = None if std is None else _finite(std.frequency_hz)
+    if decided.startswith(("component", "band")) and std is not None and std_f:
+        # another modulation decided: name it, and the standard's reading beside it
+        how = (f"decided by {decided}; the standard's reading ({ieee.mode} mode at "
+               f"{std_f:.5g} Hz) is {std.region}")
+    else:
+        how = (f"{ieee.mode} mode at {ieee.frequency_hz:.5g} Hz"
+               + (f", decided by {decided}" if decided not in (ieee.mode, "") else ""))
+    how = (how
+           + (f"; {ieee.edge}" if ieee.edge else "")
+           + ("" if limit is not None else "; exempt above the upper frequency"))
+    return verdict(status="pass" if ok else "fail", measured=measured, limit=limit,
+                   margin=margin, reason=how)
+
+
+def _decided_by(a: Assessment, metric: str) -> str:
+    """Name the component or band of the assessment that decides a verdict on ``metric``.
+
+    '' when the assessment names none; the verdict's reason then says how it
+    was decided.
     """
-    from .keypath import UnknownKey, figure
+    if metric == "svm" and a.svm is not None:
+        comps = [c for c in a.svm.components if _finite(c.share) is not None]
+        if comps:
+            top = max(comps, key=lambda c: c.share)
+            return (f"component at {top.frequency_hz:.5g} Hz "
+                    f"({100 * top.share:.3g} % of the SVM sum)")
+    if metric.startswith("filtered_percent_flicker."):
+        return f"band below {metric.split('.', 1)[1]} Hz (JA10.6 filter)"
+    if metric == "below_90hz_modulation" and _finite(a.frequency_hz) is not None:
+        return f"fundamental at {a.frequency_hz:.5g} Hz"
+    if metric == "pst_lm":
+        return "weighted flicker of all components (Pst LM)"
+    return ""
 
-    try:
-        return figure(record, criterion.metric)
-    except UnknownKey as exc:
-        if "n_samples" not in record:
-            return None
-        raise SettingsError(f"criterion {criterion.id!r}: {exc}") from None
 
-
-def _threshold_form(criterion: Criterion, detail: Any, ok: bool, limit: float) -> str:
-    """For an SVM criterion: a sentence when the other threshold form flips the verdict."""
-    if criterion.metric != "svm" or not isinstance(detail, Mapping):
+def _threshold_form(criterion: Criterion, result: SvmResult, ok: bool, limit: float) -> str:
+    """Write a sentence for an SVM verdict that the other threshold form flips (else '')."""
+    other = _finite(result.other_value)
+    name = result.other_threshold
+    if other is None or not name:
         return ""
-    other = detail.get("other_threshold_value")
-    name = detail.get("other_threshold")
-    if not isinstance(other, (int, float)) or not math.isfinite(other) or not name:
+    if _COMPARE[criterion.comparison](other, limit) == ok:
         return ""
-    if _COMPARE[criterion.comparison](float(other), limit) == ok:
-        return ""
-    return (f"depends on the threshold form: the {detail.get('threshold')} form gives "
-            f"{'pass' if ok else 'fail'}, the {name} form SVM {float(other):.3g} "
+    return (f"depends on the threshold form: the {result.threshold} form gives "
+            f"{'pass' if ok else 'fail'}, the {name} form SVM {other:.3g} "
             f"({'fail' if ok else 'pass'})")
 
 
-def judge_all(records: Sequence[Mapping[str, Any]], criteria: Sequence[Criterion], *,
+def judge_all(assessments: Sequence[Assessment | None], criteria: Sequence[Criterion], *,
               levels: Sequence[float | None] | None = None,
-              date: _dt.date | None = None) -> list[Verdict]:
-    """Every record against every criterion (record-major order)."""
-    levels = list(levels) if levels is not None else [None] * len(records)
-    return [judge(r, c, level=lv, date=date) for r, lv in zip(records, levels) for c in criteria]
+              date: _dt.date | None = None,
+              labels: Sequence[str | None] | None = None) -> list[Verdict]:
+    """Judge every assessment against every criterion (assessment-major order).
+
+    ``levels`` [percent] and ``labels`` (default: the assessments' own) go with
+    the assessments, one each.
+    """
+    n = len(assessments)
+    levels = list(levels) if levels is not None else [None] * n
+    labels = list(labels) if labels is not None else [None] * n
+    return [judge(a, c, level=lv, date=date, label=lb)
+            for a, lv, lb in zip(assessments, levels, labels) for c in criteria]
 
 
 def overall(verdicts: Sequence[Verdict]) -> str:
-    """``fail`` if any fails, else ``insufficient data`` if any is, else ``pass``
-    (``not applicable`` when nothing applied)."""
+    """Return the overall status of some verdicts.
+
+    ``fail`` if any fails, else ``insufficient data`` if any is, else
+    ``pass`` (``not applicable`` when nothing applied).
+    """
     statuses = {v.status for v in verdicts}
     for s in ("fail", "insufficient data", "pass"):
         if s in statuses:
@@ -605,12 +664,13 @@ def _levels(levels: Sequence[float]) -> str:
 
 
 def from_mapping(data: Mapping[str, Any], *, where: str = "") -> Criterion:
-    """A user criterion from a TOML table.
+    """Build a user criterion from a TOML table.
 
     Keys: ``id``, ``metric``, ``limit``, ``comparison`` (default ``<=``), and
-    optionally ``title``, ``source``, ``applies_to``, ``levels`` (list of
-    percent), ``effective_from`` (date), ``confidence`` (default
-    ``recalled`` unless ``sourced``/``secondary`` is given), ``note``.
+    optionally ``title``, ``source``, ``applies_to``, ``unit``, ``levels``
+    (list of percent), ``effective_from`` (date), ``confidence`` (default
+    ``recalled`` unless ``sourced``/``secondary`` is given), ``requires``,
+    ``note``.
     """
     from .validate import check_table
 
@@ -619,6 +679,11 @@ def from_mapping(data: Mapping[str, Any], *, where: str = "") -> Criterion:
     data = check_table(data, _USER_KEYS, source=source or "criteria",
                        name=f"criterion {name}" if name else "criterion",
                        required=("id", "metric", "limit"))
+    try:
+        check_name(str(data["metric"]))
+    except UnknownKey as exc:
+        table = f"{source or 'criteria'} [{f'criterion {name}' if name else 'criterion'}]"
+        raise SettingsError(f"{table}: criterion {data['id']!r}: metric: {exc}") from None
     if data["id"] in REGISTRY:
         raise SettingsError(f"{here}id {data['id']!r} is a built-in criterion, which a user "
                             f"file cannot redefine; use your own id")
@@ -659,7 +724,7 @@ _USER_KEYS = _user_keys()
 
 
 def load_user_criteria(path: str | Path) -> dict[str, Criterion]:
-    """User criteria from a TOML file with ``[[criterion]]`` tables.
+    """Load user criteria from a TOML file with ``[[criterion]]`` tables.
 
     Raises
     ------

@@ -321,7 +321,7 @@ def user_curve(inputs: np.ndarray, outputs: np.ndarray, *, source: str = "") -> 
 
 
 def first_not_rising(v: np.ndarray) -> int | None:
-    """Index ``i`` of the first point that the next one does not rise above, or None.
+    """Return the index ``i`` of the first point the next one does not rise above, or None.
 
     The one strictly-increasing check of user points (curves, calibrations).
 
@@ -554,7 +554,7 @@ def curve_levels(
 
 
 def whole_number(value, name: str) -> int:
-    """``value`` as an int, or SettingsError naming ``name`` if it is not a whole number."""
+    """Return ``value`` as an int; raise SettingsError naming ``name`` if it is not whole."""
     try:
         n = int(value)
     except (TypeError, ValueError):

@@ -128,7 +128,8 @@ PROJECT_TOML = """\
 name = "Ardent 12 downlight (invented)"
 maker = "Fenlight Works (invented)"
 model = "AR12-830-H (invented)"
-description = "INVENTED demo product: 12 W LED downlight, hybrid driver, analogue dimming with 100 Hz ripple down to 25 %, 1.2 kHz PWM below"
+description = "INVENTED demo product: 12 W LED downlight, hybrid driver, analogue dimming \
+with 100 Hz ripple down to 25 %, 1.2 kHz PWM below"
 
 [setup]
 detector = "silicon photodiode with transimpedance amplifier (invented bench)"

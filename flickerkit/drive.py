@@ -115,7 +115,7 @@ class LightModel:
         return self.light().fourier_series(f_max_hz)
 
     def modulation_percent(self) -> float:
-        """Percent flicker of the modelled light [percent]."""
+        """Return the percent flicker of the modelled light [percent]."""
         return self.light().modulation_percent()
 
     def capture(self, sample_rate_hz: float | None = None, duration_s: float | None = None,
@@ -330,7 +330,7 @@ class MultiChannel(LightModel):
 
 
 def sigma_delta_counts(target_counts: float, extra_bits: int) -> np.ndarray:
-    """Per-frame counts of first-order sigma-delta dithering over one pattern.
+    """Return the per-frame counts of first-order sigma-delta dithering over one pattern.
 
     Parameters
     ----------
@@ -511,7 +511,7 @@ class Drive:
         return replace(self, frequency_hz=frequency_hz)
 
     def describe(self, *, frequency: bool = True) -> str:
-        """One line naming the drive; ``frequency=False`` when a plan chooses it."""
+        """Name the drive in one line; ``frequency=False`` when a plan chooses it."""
         parts = [self.method]
         if self.method != "analogue":
             parts.append(f"{self.frequency_hz:g} Hz" if frequency else "frequency from the plan")

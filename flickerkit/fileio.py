@@ -152,7 +152,7 @@ def atomic_path(path: str | os.PathLike[str], *, force: bool = False) -> Iterato
 
 
 def _replaced_mode(p: Path) -> int:
-    """Permission bits for a new output: the existing file's, else 0666 less the umask."""
+    """Return a new output's permission bits: the existing file's, else 0666 less the umask."""
     try:
         return p.stat().st_mode & 0o7777
     except OSError:

@@ -56,7 +56,7 @@ SEGMENTS_HZ = ((0.0, LOW_FREQUENCY_BREAK_HZ, "below 90 Hz"),
 
 
 def snap_to_break(f_hz: float, tolerance_hz: float) -> tuple[float, str]:
-    """A frequency within ``tolerance_hz`` of a break, moved onto it.
+    """Snap a frequency within ``tolerance_hz`` of a break onto the break.
 
     Parameters
     ----------
@@ -94,7 +94,7 @@ def _limit(f_hz, slopes, exempt_above_hz) -> np.ndarray | float:
 
 
 def low_risk_limit_percent(f_hz):
-    """Largest modulation that is low-risk at a frequency (IEEE 1789 RP1).
+    """Return the largest modulation [percent] that is low-risk at a frequency (IEEE 1789 RP1).
 
     Parameters
     ----------
@@ -121,7 +121,7 @@ def low_risk_limit_percent(f_hz):
 
 
 def noel_limit_percent(f_hz):
-    """Largest modulation with no observable effect (IEEE 1789 RP2).
+    """Return the largest modulation [percent] with no observable effect (IEEE 1789 RP2).
 
     Parameters
     ----------
@@ -142,7 +142,7 @@ def noel_limit_percent(f_hz):
 
 
 def region_of(f_hz, modulation_percent) -> np.ndarray | str:
-    """IEEE 1789 region of (frequency, modulation) points.
+    """Return the IEEE 1789 region of (frequency, modulation) points.
 
     Parameters
     ----------
@@ -259,7 +259,7 @@ def classify(frequency_hz: float, modulation_percent: float, *, mode: str = "fun
 
 
 def _badness(r: Ieee1789Result) -> tuple[int, float]:
-    """Sort key: worse region first, then the smaller relative margin to the NOEL line."""
+    """Rank a result for sorting: worse region first, then smaller relative margin to NOEL."""
     rank = REGIONS.index(r.region)
     noel = r.noel_limit_percent
     rel = np.inf if not np.isfinite(noel) else (noel - r.modulation_percent) / (noel or 1.0)
@@ -269,7 +269,7 @@ def _badness(r: Ieee1789Result) -> tuple[int, float]:
 def judge_modulation(reading: Ieee1789Result,
                      components: list[tuple[float, float, float]],
                      bands: list[tuple[str, float, float, float]]) -> Ieee1789Result:
-    """The worst of the standard's reading, unlocked components and band-limited depths.
+    """Return the worst of the standard's reading, unlocked components and band-limited depths.
 
     Parameters
     ----------
@@ -311,7 +311,7 @@ def judge_modulation(reading: Ieee1789Result,
 
 def classify_components(frequencies_hz: np.ndarray, amplitudes: np.ndarray, *,
                         edge_tolerance_hz: np.ndarray | float = 0.0) -> Ieee1789Result:
-    """Per-harmonic mode: judge each Fourier component at its own frequency.
+    """Judge each Fourier component at its own frequency (the per-harmonic mode).
 
     Parameters
     ----------

@@ -30,53 +30,20 @@ KIND_TITLES = {"regulation": "Regulations", "recommended practice": "Recommended
 _LEAD = {"regulation": "Regulation", "recommended practice": "Recommended practice",
          "guidance": "Guidance", "user": "Your own criterion"}
 
-#: Attribute names under which a verdict may carry the component or band that decided it.
-_DECIDED_BY_NAMES = ("decided_by", "deciding_component", "component", "band")
+def decided_by(verdict: Verdict) -> str:
+    """Name the component or band that decided a verdict ('' when not known).
 
-
-def _from_record(verdict: Verdict, criterion: Criterion | None,
-                 record: dict[str, Any] | None) -> str:
-    """The component or band named by the assessment object itself ('' when none)."""
-    if criterion is None or record is None:
-        return ""
-    m = criterion.metric
-    if m == "svm":
-        comps = (record.get("svm_detail") or {}).get("components") or []
-        comps = [c for c in comps if isinstance(c.get("share"), (int, float))]
-        if comps:
-            top = max(comps, key=lambda c: c["share"])
-            return (f"component at {top['frequency_hz']:.5g} Hz "
-                    f"({100 * top['share']:.3g} % of the SVM sum)")
-    if m.startswith("filtered_percent_flicker."):
-        return f"band below {m.split('.', 1)[1]} Hz (JA10.6 filter)"
-    if m == "below_90hz_modulation" and isinstance(record.get("frequency_hz"), (int, float)):
-        return f"fundamental at {record['frequency_hz']:.5g} Hz"
-    if m == "pst_lm":
-        return "weighted flicker of all components (Pst LM)"
-    return ""
-
-
-def decided_by(verdict: Verdict, criterion: Criterion | None = None,
-               record: dict[str, Any] | None = None) -> str:
-    """The component or band that decided a verdict, as text ('' when not known).
-
-    Read defensively: verdicts from flickerkit versions that judge per component
-    carry it as an attribute and that is used first; otherwise the capture's
-    assessment object (``record``), then the verdict's reason (which names the
-    mode and frequency for IEEE 1789).
+    The one :func:`flickerkit.criteria.judge` named from the assessment
+    (:attr:`Verdict.decided_by`: the SVM's strongest component, the JA10.6
+    band, the fundamental below 90 Hz, Pst LM's weighting); otherwise, for a
+    pass or fail, the verdict's reason (which names the IEEE 1789 mode and
+    frequency, or the modulation that decided it).
     """
-    for name in _DECIDED_BY_NAMES:
-        value = getattr(verdict, name, None)
-        if value is None or value == "":
-            continue
-        if isinstance(value, dict):
-            return ", ".join(f"{k} {v}" for k, v in value.items())
-        if hasattr(value, "describe") and callable(value.describe):
-            return str(value.describe())
-        return str(value)
+    if verdict.decided_by:
+        return verdict.decided_by
     if verdict.status not in ("pass", "fail"):
         return ""
-    return _from_record(verdict, criterion, record) or verdict.reason
+    return verdict.reason
 
 
 @dataclass(frozen=True)
@@ -112,6 +79,7 @@ class CriterionOutcome:
     verdicts: tuple[Verdict, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the outcome (the worst verdict's figures flattened)."""
         w = self.worst
         return {"criterion": self.criterion.id, "kind": self.criterion.kind,
                 "status": self.status,
@@ -136,15 +104,17 @@ class GroupOutcome:
 
     @property
     def title(self) -> str:
+        """Return the heading of the kind of document, for reports."""
         return KIND_TITLES.get(self.kind, self.kind)
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the group (its criteria's outcomes as a list)."""
         return {"kind": self.kind, "status": self.status,
                 "criteria": [c.to_dict() for c in self.criteria]}
 
 
 def worst_status(statuses: Sequence[str]) -> str:
-    """The worst of some statuses (``not applicable`` when there are none)."""
+    """Return the worst of some statuses (``not applicable`` when there are none)."""
     present = set(statuses)
     for s in _SEVERITY:
         if s in present:
@@ -153,7 +123,7 @@ def worst_status(statuses: Sequence[str]) -> str:
 
 
 def missing_levels(criterion: Criterion, levels: Sequence[float | None]) -> tuple[float, ...]:
-    """Levels ``criterion`` requires that none of ``levels`` matches [percent]."""
+    """Return the levels ``criterion`` requires that none of ``levels`` matches [percent]."""
     if criterion.levels is None:
         return ()
     have = [lv for lv in levels if isinstance(lv, (int, float))]
@@ -167,12 +137,12 @@ def _margin_key(v: Verdict) -> float:
 
 
 def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
-            levels: Sequence[float | None],
-            records: dict[str, dict[str, Any]] | None = None) -> CriterionOutcome:
-    """Sum up one criterion's verdicts (those with its id) over the captures' ``levels``.
+            levels: Sequence[float | None]) -> CriterionOutcome:
+    """Sum up one criterion's verdicts (those with its id) over the captures.
 
-    ``records`` (capture label -> assessment object) lets the outcome name the
-    component or band that decided it.
+    ``levels`` are the captures' dimming levels [percent]; a level the
+    criterion requires that none of them matches turns a pass (or a criterion
+    with no verdict) into ``insufficient data``.
     """
     mine = [v for v in verdicts if v.criterion == criterion.id]
     counts = {s: sum(v.status == s for v in mine) for s in _SEVERITY}
@@ -188,29 +158,27 @@ def outcome(criterion: Criterion, verdicts: Sequence[Verdict],
             break
     if worst is None:
         worst = next((v for v in mine if v.status == "insufficient data"), None)
-    by = "" if worst is None else decided_by(worst, criterion,
-                                             (records or {}).get(worst.label))
+    by = "" if worst is None else decided_by(worst)
     return CriterionOutcome(criterion, status, worst, by, missing, counts, tuple(mine))
 
 
 def group(criteria: Sequence[Criterion], verdicts: Sequence[Verdict],
-          levels: Sequence[float | None],
-          records: Sequence[dict[str, Any]] = ()) -> tuple[GroupOutcome, ...]:
-    """Outcomes per kind of document, in :data:`KINDS` order (kinds with no criterion left out).
+          levels: Sequence[float | None]) -> tuple[GroupOutcome, ...]:
+    """Sum up the verdicts per kind of document, in :data:`KINDS` order.
 
-    ``records`` are the captures' assessment objects (matched to verdicts by label).
+    Kinds with no criterion are left out; ``levels`` are the captures'
+    dimming levels [percent].
     """
-    by_label = {str(r.get("label", "")): r for r in records}
     out = []
     for kind in KINDS:
-        mine = tuple(outcome(c, verdicts, levels, by_label) for c in criteria if c.kind == kind)
+        mine = tuple(outcome(c, verdicts, levels) for c in criteria if c.kind == kind)
         if mine:
             out.append(GroupOutcome(kind, worst_status([o.status for o in mine]), mine))
     return tuple(out)
 
 
 def verdicts_of(o: CriterionOutcome) -> tuple[Verdict, ...]:
-    """The verdicts an outcome sums up."""
+    """Return the verdicts an outcome sums up."""
     return o.verdicts
 
 
@@ -221,7 +189,7 @@ _LINE_RIPPLE_RTOL = 0.01
 
 
 def _on_line_ripple(reason: str) -> bool:
-    """Whether a verdict's reason names a frequency at twice a line frequency."""
+    """Tell whether a verdict's reason names a frequency at twice a line frequency."""
     import re
 
     for m in re.finditer(r"at ([0-9]+(?:\.[0-9]+)?) Hz", reason or ""):
@@ -246,7 +214,7 @@ def _num(x: float | None, spec: str = ".3g") -> str:
 
 
 def limiting_text(groups: Sequence[GroupOutcome]) -> str:
-    """A short plain-language paragraph: what limits the product and what would change it.
+    """Write a short plain-language paragraph on what limits the product and what would change it.
 
     Worded as an engineering suggestion; it carries the caution that the
     applicable standards, local codes and an accredited laboratory decide.

@@ -151,7 +151,7 @@ class FourierSeries:
     f_max_hz: float
 
     def interval_averaged(self, sample_rate_hz: float) -> np.ndarray:
-        """Amplitudes after averaging over sample intervals of 1/fs [unitless].
+        """Return the amplitudes after averaging over sample intervals of 1/fs [unitless].
 
         Averaging over an interval Delta scales a component at f by
         ``|sinc(f Delta)|`` (numpy's normalised sinc); aliasing is not included.
@@ -316,7 +316,7 @@ class Light:
         return fs.mean
 
     def extremes(self, grid: int = 4096) -> tuple[float, float]:
-        """Largest and smallest light (min, max) over the repetition period.
+        """Return the smallest and largest light (min, max) over the repetition period.
 
         Exact for a single train without ripple (its segments are monotone, so
         extremes lie at segment boundaries); otherwise the boundaries plus a
@@ -347,7 +347,7 @@ class Light:
         return float(v.min()), float(v.max())
 
     def modulation_percent(self) -> float:
-        """Percent flicker of the modelled light [percent].
+        """Return the percent flicker of the modelled light [percent].
 
         From the exact extremes through :func:`~flickerkit.metrics.percent_flicker_of_extremes`.
 

@@ -16,6 +16,7 @@ light.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from dataclasses import dataclass, replace
@@ -26,6 +27,7 @@ import numpy as np
 from . import ieee1789, metrics
 from .drive import Drive, DitheredPwm, LightModel
 from .errors import SettingsError
+from .levels import percent
 from .timers import Timer, TimerSetting, clock_needed, minimum_duty
 from .validate import MAX_DITHER_BITS
 
@@ -78,6 +80,7 @@ class Target:
 
     @property
     def name(self) -> str:
+        """Return the target as ``--target`` spells it (``svm<=0.4``, ``ieee1789-noel``)."""
         return f"svm<={self.limit:g}" if self.kind == "svm" else self.kind
 
 
@@ -141,7 +144,7 @@ class LevelFigures:
     svm: float
 
     def meets(self, target: Target) -> bool:
-        """Whether the level meets a target."""
+        """Tell whether the level meets a target."""
         if target.kind == "svm":
             assert target.limit is not None  # parse_targets gives every SVM target a limit
             return self.svm <= target.limit * (1 + 1e-12)
@@ -152,7 +155,7 @@ class LevelFigures:
 
 
 def svm_of_series(fs) -> float:
-    """SVM of a model's Fourier series (shared SVM sum, default threshold)."""
+    """Return the SVM [unitless] of a model's Fourier series (shared SVM sum, default threshold)."""
     from . import svm
 
     if fs.frequencies_hz.size == 0:
@@ -162,8 +165,10 @@ def svm_of_series(fs) -> float:
 
 
 def with_unrelated_modulation(light, f0: float, res):
-    """The IEEE 1789 reading, or worse: the other modulation (PWM or ripple) at its own
-    frequency when it is not a harmonic of ``f0`` (as ``assess`` judges a capture).
+    """Judge the other modulation of a light beside its IEEE 1789 reading; keep the worse.
+
+    The other modulation (PWM or ripple) is judged at its own frequency when
+    it is not a harmonic of ``f0``, as ``assess`` judges a capture.
 
     Parameters
     ----------
@@ -194,7 +199,7 @@ def with_unrelated_modulation(light, f0: float, res):
 
 def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = True
             ) -> LevelFigures:
-    """Perception figures of a model (closed-form path).
+    """Compute the perception figures of a model (closed-form path).
 
     Parameters
     ----------
@@ -215,7 +220,7 @@ def figures(model: LightModel, level: float = float("nan"), *, need_svm: bool = 
 
 
 def default_levels(min_level: float, count: int = 25) -> np.ndarray:
-    """Levels from ``min_level`` to 1, log-spaced, with 0.5 added [unitless]."""
+    """Return levels from ``min_level`` to 1, log-spaced, with 0.5 added [unitless]."""
     if not (0 < min_level <= 1):
         raise SettingsError(f"smallest level must be in (0, 1], got {min_level:g}")
     lv = np.geomspace(min_level, 1.0, max(count, 2))
@@ -224,7 +229,7 @@ def default_levels(min_level: float, count: int = 25) -> np.ndarray:
 
 def _check_at(drive: Drive, f: float, levels: Sequence[float], targets: Sequence[Target]
               ) -> tuple[bool, float | None, str | None]:
-    """Whether all levels meet all targets at f; else the first failing level and target."""
+    """Tell whether all levels meet all targets at f [Hz]; else the first failing level, target."""
     need_svm = any(t.kind == "svm" for t in targets)
     d = drive.with_frequency(f)
     for lv in levels:  # lowest level first: usually the worst
@@ -236,7 +241,7 @@ def _check_at(drive: Drive, f: float, levels: Sequence[float], targets: Sequence
 
 
 def check_tolerance(tolerance: float) -> float:
-    """A valid frequency tolerance (fraction, 0 to :data:`MAX_TOLERANCE`), else SettingsError."""
+    """Return a valid frequency tolerance (fraction, 0 to :data:`MAX_TOLERANCE`); else raise."""
     try:
         t = float(tolerance)
     except (TypeError, ValueError):
@@ -247,9 +252,60 @@ def check_tolerance(tolerance: float) -> float:
     return t
 
 
+@dataclass(frozen=True)
+class AbruptPoint:
+    """A PWM frequency at which a target's figure may jump.
+
+    Attributes
+    ----------
+    frequency_hz : float
+        The PWM frequency [Hz].
+    target : str
+        ``svm`` or ``ieee1789``.
+    cause : str
+        What reaches which band end or break there.
+    """
+
+    frequency_hz: float
+    target: str
+    cause: str
+
+    def to_dict(self) -> dict:
+        """Return the JSON object of the abrupt point."""
+        return {"frequency_hz": self.frequency_hz, "target": self.target, "cause": self.cause}
+
+
+@dataclass(frozen=True)
+class AbruptChange(AbruptPoint):
+    """An abrupt point near the recommended frequency, with the worst level's figure around it.
+
+    Attributes
+    ----------
+    figure_below, figure_at, figure_above : float or str
+        The worst level's SVM [unitless] (or IEEE 1789 region) just below, at
+        and just above ``frequency_hz``.
+    inside_band : bool
+        Whether the recommended tolerance band contains it.
+    offset_percent : float
+        Its offset from the recommended frequency [%].
+    """
+
+    figure_below: float | str = ""
+    figure_at: float | str = ""
+    figure_above: float | str = ""
+    inside_band: bool = False
+    offset_percent: float = 0.0
+
+    def to_dict(self) -> dict:
+        """Return the JSON object of the abrupt change, with the figures around it."""
+        return {**super().to_dict(), "figure_below": self.figure_below,
+                "figure_at": self.figure_at, "figure_above": self.figure_above,
+                "inside_band": self.inside_band, "offset_percent": self.offset_percent}
+
+
 def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: float
-                  ) -> list[dict]:
-    """PWM frequencies in [f_lo, f_hi] at which a target's figure jumps.
+                  ) -> list[AbruptPoint]:
+    """Find the PWM frequencies in [f_lo, f_hi] [Hz] at which a target's figure jumps.
 
     Parameters
     ----------
@@ -261,8 +317,8 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
 
     Returns
     -------
-    list of dict
-        ``frequency_hz`` (the PWM frequency) [Hz], ``target``, ``cause``; sorted.
+    list of AbruptPoint
+        Sorted by frequency.
 
     Notes
     -----
@@ -280,7 +336,7 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
     """
     from . import svm
 
-    out: list[dict] = []
+    out: list[AbruptPoint] = []
     if any(t.kind == "svm" for t in targets):
         P = 2 ** int(drive.dither_bits) if drive.dither_bits else 1
         rip = drive.ripple if drive.ripple is not None and drive.ripple.percent > 0 else None
@@ -297,9 +353,8 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
                     what = (f"harmonic {k}" if P == 1 else f"line {k}/{P}") + " of the PWM"
                     if n:
                         what += f" {'+' if n > 0 else '-'} {abs(n)} x the ripple frequency"
-                    out.append({"frequency_hz": top / k, "target": "svm",
-                                "cause": f"{what} reaches the {F:g} Hz {end} end of SVM's "
-                                         f"band"})
+                    out.append(AbruptPoint(top / k, "svm", f"{what} reaches the {F:g} Hz "
+                                                           f"{end} end of SVM's band"))
     if any(t.kind.startswith("ieee1789") for t in targets):
         mult = drive.channels if drive.channels > 1 else 1
         breaks = ((ieee1789.LOW_FREQUENCY_BREAK_HZ, "IEEE 1789's low-risk line steps"),
@@ -310,16 +365,16 @@ def abrupt_points(drive: Drive, targets: Sequence[Target], f_lo: float, f_hi: fl
             for fb, what in breaks:
                 f = fb / c
                 if f_lo <= f <= f_hi:
-                    out.append({"frequency_hz": f, "target": "ieee1789",
-                                "cause": f"the light's repetition frequency reaches {fb:g} Hz, "
-                                         f"where {what}"})
-    out.sort(key=lambda d: d["frequency_hz"])
+                    out.append(AbruptPoint(f, "ieee1789",
+                                           f"the light's repetition frequency reaches "
+                                           f"{fb:g} Hz, where {what}"))
+    out.sort(key=lambda d: d.frequency_hz)
     return out[:400]
 
 
 def band_frequencies(drive: Drive, targets: Sequence[Target], f_hz: float, tolerance: float
                      ) -> np.ndarray:
-    """Frequencies that stand for the band ``f (1 +- tolerance)`` [Hz].
+    """Return the frequencies that stand for the band ``f (1 +- tolerance)`` [Hz].
 
     Its ends, :data:`BAND_POINTS` log-spaced points between them, and each
     abrupt point inside (:func:`abrupt_points`) with its neighbours a relative
@@ -331,7 +386,7 @@ def band_frequencies(drive: Drive, targets: Sequence[Target], f_hz: float, toler
         return np.array([f_hz])
     pts = [np.geomspace(lo, hi, BAND_POINTS + 2)]
     for a in abrupt_points(drive, targets, lo, hi):
-        c = a["frequency_hz"]
+        c = a.frequency_hz
         pts.append(np.array([c * (1 - _EDGE_STEP), c, c * (1 + _EDGE_STEP)]))
     f = np.unique(np.concatenate(pts))
     return f[(f >= lo) & (f <= hi)]
@@ -339,7 +394,7 @@ def band_frequencies(drive: Drive, targets: Sequence[Target], f_hz: float, toler
 
 def check_band(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[float],
                targets: Sequence[Target]) -> tuple[bool, float | None, float | None, str | None]:
-    """Whether every frequency of ``f (1 +- tolerance)`` meets the targets at every level.
+    """Check that every frequency of ``f (1 +- tolerance)`` meets the targets at every level.
 
     Returns
     -------
@@ -357,7 +412,7 @@ def check_band(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[flo
 
 def band_meets(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[float],
                targets: Sequence[Target]) -> dict[str, bool]:
-    """Per target: whether it is met at every level over ``f (1 +- tolerance)``.
+    """Tell, per target, whether it is met at every level over ``f (1 +- tolerance)``.
 
     Each frequency and level is modelled once for all targets (see
     :func:`band_frequencies` for the frequencies checked).
@@ -381,7 +436,7 @@ def band_meets(drive: Drive, f_hz: float, tolerance: float, levels: Sequence[flo
 def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
               lowest_hz: float, tolerance: float, f_max_hz: float
               ) -> tuple[float | None, list[str]]:
-    """Lowest nominal frequency from ``lowest_hz`` up whose whole tolerance band meets the targets.
+    """Find the lowest frequency from ``lowest_hz`` up whose tolerance band meets the targets.
 
     Parameters
     ----------
@@ -416,8 +471,8 @@ def recommend(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
 
 
 def abrupt_changes(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
-                   f_hz: float, tolerance: float) -> list[dict]:
-    """Abrupt changes of the targets near ``f_hz``, with the figures either side.
+                   f_hz: float, tolerance: float) -> list[AbruptChange]:
+    """Find the abrupt changes of the targets near ``f_hz``, with the figures either side.
 
     "Near" is within :data:`NEARBY_FRACTION` of ``f_hz`` or twice the
     tolerance, whichever is wider. Each entry gives the PWM frequency, the
@@ -428,16 +483,16 @@ def abrupt_changes(drive: Drive, targets: Sequence[Target], levels: Sequence[flo
     out = []
     seen = set()
     for a in abrupt_points(drive, targets, f_hz * (1 - w), f_hz * (1 + w)):
-        c = a["frequency_hz"]
-        key = (a["target"], round(c, 9))
+        c = a.frequency_hz
+        key = (a.target, round(c, 9))
         if key in seen or not _valid_frequency(drive, c * (1 - 1e-6)):
             continue
         seen.add(key)
         sides: dict[str, float | str] = {}
         for side, f in (("below", c * (1 - 1e-6)), ("at", c), ("above", c * (1 + 1e-6))):
             d = drive.with_frequency(f)
-            figs = [figures(d.at(lv), lv, need_svm=a["target"] == "svm") for lv in levels]
-            if a["target"] == "svm":
+            figs = [figures(d.at(lv), lv, need_svm=a.target == "svm") for lv in levels]
+            if a.target == "svm":
                 sides[side] = max(fg.svm for fg in figs)
             else:
                 ranks = [ieee1789.REGIONS.index(fg.ieee1789.region) if fg.ieee1789 else 0
@@ -445,10 +500,10 @@ def abrupt_changes(drive: Drive, targets: Sequence[Target], levels: Sequence[flo
                 sides[side] = ieee1789.REGIONS[max(ranks)]
         if sides["below"] == sides["above"] == sides["at"]:
             continue
-        out.append({**a, "figure_below": sides["below"], "figure_at": sides["at"],
-                    "figure_above": sides["above"],
-                    "inside_band": f_hz * (1 - tolerance) <= c <= f_hz * (1 + tolerance),
-                    "offset_percent": 100.0 * (c / f_hz - 1.0)})
+        out.append(AbruptChange(a.frequency_hz, a.target, a.cause, sides["below"], sides["at"],
+                                sides["above"],
+                                f_hz * (1 - tolerance) <= c <= f_hz * (1 + tolerance),
+                                100.0 * (c / f_hz - 1.0)))
     return out
 
 
@@ -492,8 +547,8 @@ class FrequencyResult:
     limiting_target: str | None
 
     def to_dict(self) -> dict:
-        """JSON object; the limiting level in percent."""
-        lv = None if self.limiting_level is None else 100.0 * self.limiting_level
+        """Return the JSON object of the result; the limiting level in percent."""
+        lv = percent(self.limiting_level)
         return {"targets": [t.name for t in self.targets], "frequency_hz": self.frequency_hz,
                 "holds_at_all_higher_frequencies_checked": self.holds_above,
                 "isolated_passing_below_hz": list(self.passing_below_hz),
@@ -508,7 +563,7 @@ def lowest_frequency(
     range_hz: tuple[float, float] = DEFAULT_RANGE_HZ,
     grid_points: int = GRID_POINTS,
 ) -> FrequencyResult:
-    """Lowest PWM frequency at which every level meets every target.
+    """Find the lowest PWM frequency at which every level meets every target.
 
     Parameters
     ----------
@@ -591,7 +646,7 @@ class Resolution:
 
     @property
     def light_step(self) -> float:
-        """Largest light step allowed at the bottom, relative to full output [unitless]."""
+        """Return the largest light step allowed at the bottom [fraction of full output]."""
         steps = []
         if self.bits is not None:
             steps.append(2.0 ** -self.bits)
@@ -601,11 +656,12 @@ class Resolution:
 
     @property
     def counts(self) -> int:
-        """Counts per period needed with plain PWM [counts]."""
+        """Return the counts per period needed with plain PWM [counts]."""
         s = self.light_step
         return 1 if math.isinf(s) else int(math.ceil(1.0 / s - 1e-9))
 
     def describe(self) -> str:
+        """Say in words what resolution is needed (``none`` when nothing is asked)."""
         parts = []
         if self.bits is not None:
             parts.append(f"{self.bits:g} bits")
@@ -615,9 +671,44 @@ class Resolution:
         return " and ".join(parts) or "none"
 
 
+@dataclass(frozen=True)
+class SettingCheck:
+    """A timer setting checked against the targets and the resolution.
+
+    Attributes
+    ----------
+    setting : flickerkit.timers.TimerSetting
+    minimum_duty : float
+        Shortest light pulse the drive makes at the setting's frequency, as a
+        duty [unitless].
+    minimum_count : int
+        Counts of that pulse.
+    reaches_smallest_level : bool
+        Whether the smallest level is above it (over the tolerance band).
+    meets : tuple of str
+        Targets met over the setting's tolerance band, and ``resolution``.
+    meets_all : bool
+        Every target and the resolution.
+    """
+
+    setting: TimerSetting
+    minimum_duty: float
+    minimum_count: int
+    reaches_smallest_level: bool
+    meets: tuple[str, ...]
+    meets_all: bool
+
+    def to_dict(self) -> dict:
+        """Return the JSON object of the check: the setting's keys and the checks."""
+        return {**self.setting.to_dict(), "minimum_duty": self.minimum_duty,
+                "minimum_count": self.minimum_count,
+                "reaches_smallest_level": self.reaches_smallest_level,
+                "meets": list(self.meets), "meets_all": self.meets_all}
+
+
 def _setting_record(s: TimerSetting, drive: Drive, res: Resolution,
                     targets: Sequence[Target], levels: Sequence[float],
-                    tolerance: float = 0.0) -> dict:
+                    tolerance: float = 0.0) -> SettingCheck:
     rise = drive.edges.rise_s if drive.edges.kind != "ideal" else 0.0
     dmin = minimum_duty(s.frequency_hz, turn_on_delay_s=drive.turn_on_delay_s, rise_s=rise,
                         min_on_time_s=drive.min_on_time_s)
@@ -630,22 +721,152 @@ def _setting_record(s: TimerSetting, drive: Drive, res: Resolution,
     reaches_bottom = dmin * (1.0 + tolerance) <= pwm_bottom
     if resolution_ok and reaches_bottom:
         met.append("resolution")
-    rec = s.to_dict()
-    rec.update({"minimum_duty": dmin, "minimum_count": int(math.ceil(dmin * s.counts - 1e-9)),
-                "reaches_smallest_level": reaches_bottom, "meets": met,
-                "meets_all": len(met) == len(targets) + 1})
-    return rec
+    return SettingCheck(s, dmin, int(math.ceil(dmin * s.counts - 1e-9)), reaches_bottom,
+                        tuple(met), len(met) == len(targets) + 1)
+
+
+@dataclass(frozen=True)
+class ClockOption:
+    """Way out: a faster timer clock, or a high-resolution timer.
+
+    Attributes
+    ----------
+    clock_hz : float
+        Timer clock needed (edge-aligned, prescaler 1) [Hz].
+    high_resolution_step_s : float
+        Edge step a high-resolution timer needs instead [s].
+    cost : str
+        The option in words.
+    """
+
+    clock_hz: float
+    high_resolution_step_s: float
+    cost: str
+    option: str = "faster clock or high-resolution timer"
+
+    def to_dict(self) -> dict:
+        """Return the JSON object of the clock option."""
+        return {"option": self.option, "clock_hz": self.clock_hz,
+                "high_resolution_step_s": self.high_resolution_step_s, "cost": self.cost}
+
+
+@dataclass(frozen=True)
+class HybridOption:
+    """Way out: analogue dimming above a crossover level, PWM below.
+
+    Attributes
+    ----------
+    possible : bool
+        False when the crossover would lie below the smallest level.
+    cost : str
+        The option in words.
+    crossover : float or None
+        Crossover level [fraction 0-1; ``crossover_level`` in percent in the JSON].
+    frequency_hz : float or None
+        PWM frequency below the crossover [Hz].
+    counts_per_period : int or None
+        Counts per PWM period.
+    meets : tuple of str
+        Targets met at every level.
+    """
+
+    possible: bool
+    cost: str
+    crossover: float | None = None
+    frequency_hz: float | None = None
+    counts_per_period: int | None = None
+    meets: tuple[str, ...] = ()
+    option: str = "hybrid dimming"
+
+    def to_dict(self) -> dict:
+        """Return the JSON object of the option; the crossover level in percent."""
+        if not self.possible:
+            return {"option": self.option, "possible": False, "cost": self.cost}
+        return {"option": self.option, "possible": True,
+                "crossover_level": percent(self.crossover),
+                "frequency_hz": self.frequency_hz, "counts_per_period": self.counts_per_period,
+                "meets": list(self.meets), "cost": self.cost}
+
+
+@dataclass(frozen=True)
+class DitherOption:
+    """Way out: dithering the PWM count over a pattern of periods, with its own flicker.
+
+    Attributes
+    ----------
+    possible : bool
+        False above 12 dither bits (not modelled).
+    extra_bits : int
+        Dither bits needed.
+    cost : str
+        The option in words.
+    pattern_frequency_hz : float or None
+        Repetition frequency of the pattern [Hz].
+    counts_at_bottom : float or None
+        Mean counts of the worst pattern near the smallest level.
+    lowest_component_hz : float or None
+        Lowest Fourier component of its light [Hz].
+    largest_subharmonic_percent : float or None
+        Largest component below the PWM frequency [% of the mean].
+    analytic_subharmonic_percent : float or None
+        Its closed form, ``100 (2 / P) / (N + 1 / P)`` [%].
+    frame_average_modulation_percent : float or None
+        Percent flicker of the per-period means over the pattern [%].
+    svm : float or None
+        SVM of the worst pattern, when an SVM target is set [unitless].
+    ieee1789_region_fundamental, ieee1789_region_per_harmonic : str or None
+        IEEE 1789 regions of the worst pattern.
+    meets : tuple of str
+        Targets met.
+    """
+
+    possible: bool
+    extra_bits: int
+    cost: str
+    pattern_frequency_hz: float | None = None
+    counts_at_bottom: float | None = None
+    lowest_component_hz: float | None = None
+    largest_subharmonic_percent: float | None = None
+    analytic_subharmonic_percent: float | None = None
+    frame_average_modulation_percent: float | None = None
+    svm: float | None = None
+    ieee1789_region_fundamental: str | None = None
+    ieee1789_region_per_harmonic: str | None = None
+    meets: tuple[str, ...] = ()
+    option: str = "dithering"
+
+    def to_dict(self) -> dict:
+        """Return the JSON object of the dithering option (only ``cost`` if not possible)."""
+        if not self.possible:
+            return {"option": self.option, "extra_bits": self.extra_bits, "possible": False,
+                    "cost": self.cost}
+        return {
+            "option": self.option, "possible": True, "extra_bits": self.extra_bits,
+            "pattern_frequency_hz": self.pattern_frequency_hz,
+            "counts_at_bottom": self.counts_at_bottom,
+            "lowest_component_hz": self.lowest_component_hz,
+            "largest_subharmonic_percent": self.largest_subharmonic_percent,
+            "analytic_subharmonic_percent": self.analytic_subharmonic_percent,
+            "frame_average_modulation_percent": self.frame_average_modulation_percent,
+            "svm": self.svm,
+            "ieee1789_region_fundamental": self.ieee1789_region_fundamental,
+            "ieee1789_region_per_harmonic": self.ieee1789_region_per_harmonic,
+            "meets": list(self.meets), "cost": self.cost,
+        }
+
+
+#: A way out of an infeasible plan.
+Option = ClockOption | HybridOption | DitherOption
 
 
 def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequence[Target]
-                 ) -> dict:
-    """Dithering option: bits needed and the dither's own flicker at the setting."""
+                 ) -> DitherOption:
+    """Cost the dithering option: bits needed and the dither's own flicker at the setting."""
     m = max(1, math.ceil(math.log2(res.counts / s.counts) - 1e-12))
     if m > MAX_DITHER_BITS:
-        return {"option": "dithering", "extra_bits": m, "possible": False,
-                "cost": f"{m} dither bits would be needed (more than {MAX_DITHER_BITS} are not "
-                        f"modelled); the "
-                        f"pattern would repeat at {s.frequency_hz / 2 ** m:.3g} Hz"}
+        return DitherOption(False, m, f"{m} dither bits would be needed (more than "
+                                      f"{MAX_DITHER_BITS} are not modelled); the pattern would "
+                                      f"repeat at {s.frequency_hz / 2 ** m:.3g} Hz")
     f = s.frequency_hz
     P = 2 ** m
     N = max(1, int(math.floor(res.min_level * s.counts)))
@@ -666,24 +887,125 @@ def _dither_cost(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequen
                                                     float(frame_means.min()))
     need_svm = any(t.kind == "svm" for t in targets)
     fig = figures(model, N / s.counts, need_svm=need_svm)
-    met = [t.name for t in targets if fig.meets(t)]
-    return {
-        "option": "dithering", "possible": True, "extra_bits": m,
-        "pattern_frequency_hz": f / P, "counts_at_bottom": N + 1.0 / P,
-        "lowest_component_hz": lowest, "largest_subharmonic_percent": 100.0 * amp,
-        "analytic_subharmonic_percent": 100.0 * (2.0 / P) / (N + 1.0 / P),
-        "frame_average_modulation_percent": frame_mod,
-        "svm": fig.svm if need_svm else None,
-        "ieee1789_region_fundamental": fig.ieee1789.region if fig.ieee1789 else None,
-        "ieee1789_region_per_harmonic": per_h.region if per_h else None,
-        "meets": met,
-        "cost": (f"{m} dither bits on {s.counts} counts at {f:.6g} Hz: the light repeats at "
-                 f"{f / P:.4g} Hz with sub-harmonics up to {100 * amp:.3g} % of the mean at "
-                 f"{N + 1 / P:.4g} counts (the dimmest levels); SVM {fig.svm:.3g}"
-                 if need_svm else
-                 f"{m} dither bits: the light repeats at {f / P:.4g} Hz with sub-harmonics up "
-                 f"to {100 * amp:.3g} % of the mean at the dimmest levels"),
-    }
+    met = tuple(t.name for t in targets if fig.meets(t))
+    return DitherOption(
+        True, m,
+        (f"{m} dither bits on {s.counts} counts at {f:.6g} Hz: the light repeats at "
+         f"{f / P:.4g} Hz with sub-harmonics up to {100 * amp:.3g} % of the mean at "
+         f"{N + 1 / P:.4g} counts (the dimmest levels); SVM {fig.svm:.3g}"
+         if need_svm else
+         f"{m} dither bits: the light repeats at {f / P:.4g} Hz with sub-harmonics up "
+         f"to {100 * amp:.3g} % of the mean at the dimmest levels"),
+        pattern_frequency_hz=f / P, counts_at_bottom=N + 1.0 / P,
+        lowest_component_hz=lowest, largest_subharmonic_percent=100.0 * amp,
+        analytic_subharmonic_percent=100.0 * (2.0 / P) / (N + 1.0 / P),
+        frame_average_modulation_percent=frame_mod,
+        svm=fig.svm if need_svm else None,
+        ieee1789_region_fundamental=fig.ieee1789.region if fig.ieee1789 else None,
+        ieee1789_region_per_harmonic=per_h.region if per_h else None,
+        meets=met)
+
+
+@dataclass(frozen=True)
+class Plan:
+    """A PWM frequency and timer plan for a drive (:func:`plan`).
+
+    Attributes
+    ----------
+    drive : str
+        Description of the drive, without its frequency (the plan sweeps it).
+    targets : tuple of Target
+    levels : tuple of float
+        Levels that must pass [fraction 0-1; percent in :meth:`to_dict`].
+    range_hz : (float, float)
+        Frequencies searched [Hz].
+    frequency : FrequencyResult
+        Lowest frequency meeting every target on an exact clock.
+    per_target : tuple of FrequencyResult
+        The same per target.
+    resolution : Resolution
+    tolerance : float
+        Clock tolerance [fraction; ``tolerance_percent`` in the JSON].
+    recommended_frequency_hz : float or None
+        Lowest frequency whose whole band ``f (1 +- tolerance)`` meets the
+        targets [Hz]; None when none up to the range's top does.
+    recommendation_notes : tuple of str
+        Bands checked on the way and why they failed.
+    abrupt_changes : tuple of AbruptChange
+        Nearby frequencies where a target's figure jumps.
+    timer : flickerkit.timers.Timer or None
+    settings : tuple of SettingCheck
+        Timer settings from the recommended frequency up.
+    feasible : bool or None
+        Whether a setting meets everything (None without a timer).
+    options : tuple of ClockOption, HybridOption or DitherOption
+        Ways out when none does.
+    verdict : str or None
+        The plan in one sentence (None without a timer and with a recommendation).
+    """
+
+    drive: str
+    targets: tuple[Target, ...]
+    levels: tuple[float, ...]
+    range_hz: tuple[float, float]
+    frequency: FrequencyResult
+    per_target: tuple[FrequencyResult, ...]
+    resolution: Resolution
+    tolerance: float
+    recommended_frequency_hz: float | None
+    recommendation_notes: tuple[str, ...]
+    abrupt_changes: tuple[AbruptChange, ...]
+    timer: Timer | None = None
+    settings: tuple[SettingCheck, ...] = ()
+    feasible: bool | None = None
+    options: tuple[Option, ...] = ()
+    verdict: str | None = None
+
+    @property
+    def lowest_frequency_hz(self) -> float | None:
+        """Return the lowest frequency meeting every target on an exact clock [Hz]."""
+        return self.frequency.frequency_hz
+
+    @property
+    def recommended_band_hz(self) -> tuple[float, float] | None:
+        """Return the recommended frequency's tolerance band [Hz]."""
+        f = self.recommended_frequency_hz
+        return None if f is None else (f * (1 - self.tolerance), f * (1 + self.tolerance))
+
+    def to_dict(self) -> dict:
+        """Return the JSON object of the plan.
+
+        Keys as the ``plan`` command documents them; levels, the tolerance and
+        the crossover level are in percent.
+        """
+        t = self.timer
+        band = self.recommended_band_hz
+        out = {
+            "drive": self.drive,
+            "targets": [x.name for x in self.targets],
+            "levels": [percent(float(x)) for x in self.levels],
+            "range_hz": list(self.range_hz),
+            "lowest_frequency_hz": self.lowest_frequency_hz,
+            "frequency": self.frequency.to_dict(),
+            "per_target": [r.to_dict() for r in self.per_target],
+            "resolution": {"need": self.resolution.describe(),
+                           "counts_needed": self.resolution.counts,
+                           "light_step": self.resolution.light_step},
+            "timer": None if t is None else {"clock_hz": t.clock_hz,
+                                             "prescalers": list(t.prescalers),
+                                             "max_top": t.max_top, "modes": list(t.modes)},
+            "settings": [r.to_dict() for r in self.settings],
+            "feasible": self.feasible,
+            "options": [o.to_dict() for o in self.options],
+            "tolerance_percent": 100.0 * self.tolerance,
+            "recommended_frequency_hz": self.recommended_frequency_hz,
+            "recommended_band_hz": None if band is None else list(band),
+            "recommendation_notes": list(self.recommendation_notes),
+            "abrupt_changes": [a.to_dict() for a in self.abrupt_changes],
+        }
+        if self.verdict is not None:
+            out["verdict"] = self.verdict
+        return out
 
 
 def plan(
@@ -696,7 +1018,7 @@ def plan(
     prescalers: tuple[int, ...] | None = None,
     resolution: Resolution | None = None,
     tolerance: float = DEFAULT_TOLERANCE,
-) -> dict:
+) -> Plan:
     """Plan a PWM frequency and timer setting for a drive.
 
     Parameters
@@ -723,9 +1045,9 @@ def plan(
 
     Returns
     -------
-    dict
-        JSON-ready plan (see the ``plan`` command's help for the keys).
-        ``lowest_frequency_hz`` is the lowest frequency meeting the targets
+    Plan
+        The plan (``to_dict()`` is the JSON; see the ``plan`` command's help
+        for the keys). ``lowest_frequency_hz`` is the lowest frequency meeting the targets
         on an exact clock; ``recommended_frequency_hz`` the lowest whose whole
         band ``f (1 +- tolerance)`` meets them, and the timer settings start
         there; ``abrupt_changes`` lists nearby frequencies where a target's
@@ -753,80 +1075,60 @@ def plan(
             f"{', '.join(t.name for t in targets)} across the levels"
             + (f" (level {worst * 100:.3g} % fails {combined.limiting_target} even at "
                f"{range_hz[1]:g} Hz)" if worst is not None else ""))
-    out: dict = {
-        "drive": drive.describe(frequency=False),  # the plan sweeps the frequency
-        "targets": [t.name for t in targets],
-        "levels": [100.0 * float(x) for x in lv],  # percent at the JSON edge
-        "range_hz": list(range_hz),
-        "lowest_frequency_hz": combined.frequency_hz,
-        "frequency": combined.to_dict(),
-        "per_target": [r.to_dict() for r in per_target],
-        "resolution": {"need": res.describe(), "counts_needed": res.counts,
-                       "light_step": res.light_step},
-        "timer": None, "settings": [], "feasible": None, "options": [],
-    }
     f_rec, rec_notes = recommend(drive, targets, lv, combined.frequency_hz, tol, range_hz[1])
-    out["tolerance_percent"] = 100.0 * tol
-    out["recommended_frequency_hz"] = f_rec
-    out["recommended_band_hz"] = ([f_rec * (1 - tol), f_rec * (1 + tol)]
-                                  if f_rec is not None else None)
-    out["recommendation_notes"] = rec_notes
     near = f_rec if f_rec is not None else combined.frequency_hz
-    out["abrupt_changes"] = abrupt_changes(drive, targets, lv, near, tol)
+    head = functools.partial(
+        Plan, drive=drive.describe(frequency=False),  # the plan sweeps the frequency
+        targets=tuple(targets), levels=tuple(lv), range_hz=(range_hz[0], range_hz[1]),
+        frequency=combined, per_target=tuple(per_target), resolution=res, tolerance=tol,
+        recommended_frequency_hz=f_rec, recommendation_notes=tuple(rec_notes),
+        abrupt_changes=tuple(abrupt_changes(drive, targets, lv, near, tol)))
     if f_rec is None:
-        out["verdict"] = (f"no frequency up to {range_hz[1]:g} Hz keeps its whole "
-                          f"+-{100 * tol:g} % tolerance band within the targets")
-        return out
+        return head(verdict=f"no frequency up to {range_hz[1]:g} Hz keeps its whole "
+                            f"+-{100 * tol:g} % tolerance band within the targets")
     if timer is None:
-        return out
+        return head()
     f_req = f_rec
     settings = timer.settings_at_least(f_req, prescalers=prescalers)
-    out["timer"] = {"clock_hz": timer.clock_hz, "prescalers": list(timer.prescalers),
-                    "max_top": timer.max_top, "modes": list(timer.modes)}
     if not settings:
-        out["feasible"] = False
-        out["options"].append(_clock_option(res, f_req))
-        out["verdict"] = (f"the timer cannot reach {f_req:.6g} Hz with TOP >= 2; a faster clock "
-                          f"is needed")
-        return out
-    recs = [_setting_record(s, drive, res, targets, lv, tol) for s in settings]
-    out["settings"] = recs
-    out["feasible"] = any(r["meets_all"] for r in recs)
+        return head(timer=timer, feasible=False, options=(_clock_option(res, f_req),),
+                    verdict=f"the timer cannot reach {f_req:.6g} Hz with TOP >= 2; a faster "
+                            f"clock is needed")
+    recs = tuple(_setting_record(s, drive, res, targets, lv, tol) for s in settings)
+    head = functools.partial(head, timer=timer, settings=recs,
+                             feasible=any(r.meets_all for r in recs))
     best = settings[0]
-    if out["feasible"]:
-        out["verdict"] = "at least one timer setting meets the targets and the resolution"
-        return out
-    if best.counts >= res.counts and not recs[0]["reaches_smallest_level"]:
+    if any(r.meets_all for r in recs):
+        return head(verdict="at least one timer setting meets the targets and the resolution")
+    if best.counts >= res.counts and not recs[0].reaches_smallest_level:
         # the counter is fine grained enough; the drive's shortest pulse is the limit, which
         # a faster clock or dithering cannot shorten
-        out["verdict"] = (
-            f"every timer setting at {f_req:.6g} Hz or above has the resolution "
-            f"({res.describe()}), but none makes the smallest level {res.min_level * 100:g} %: "
-            f"the drive's shortest light pulse (turn-on delay, rise, minimum on-time) is "
-            f"{recs[0]['minimum_duty'] * 100:.3g} % of the period at {best.frequency_hz:.6g} Hz")
-        out["options"].append(_hybrid_option(drive, best, res, targets, lv))
-        return out
-    out["verdict"] = (f"no timer setting meets both the targets at {f_req:.6g} Hz and "
-                      f"the resolution ({res.describe()}): the finest gives {best.counts} "
-                      f"counts ({best.bits:.2f} bits), {res.counts} are needed")
-    out["options"].append(_clock_option(res, f_req))
-    out["options"].append(_hybrid_option(drive, best, res, targets, lv))
-    out["options"].append(_dither_cost(drive, best, res, targets))
-    return out
+        return head(
+            verdict=f"every timer setting at {f_req:.6g} Hz or above has the resolution "
+                    f"({res.describe()}), but none makes the smallest level "
+                    f"{res.min_level * 100:g} %: the drive's shortest light pulse (turn-on "
+                    f"delay, rise, minimum on-time) is {recs[0].minimum_duty * 100:.3g} % of "
+                    f"the period at {best.frequency_hz:.6g} Hz",
+            options=(_hybrid_option(drive, best, res, targets, lv),))
+    return head(
+        verdict=f"no timer setting meets both the targets at {f_req:.6g} Hz and "
+                f"the resolution ({res.describe()}): the finest gives {best.counts} "
+                f"counts ({best.bits:.2f} bits), {res.counts} are needed",
+        options=(_clock_option(res, f_req), _hybrid_option(drive, best, res, targets, lv),
+                 _dither_cost(drive, best, res, targets)))
 
 
-def _clock_option(res: Resolution, f_req: float) -> dict:
+def _clock_option(res: Resolution, f_req: float) -> ClockOption:
     clk = clock_needed(res.counts, f_req, "edge")
     step = 1.0 / (res.counts * f_req)
-    return {"option": "faster clock or high-resolution timer", "clock_hz": clk,
-            "high_resolution_step_s": step,
-            "cost": f"a timer clock of at least {clk / 1e6:.4g} MHz (edge-aligned, prescaler 1), "
-                    f"or a high-resolution timer placing edges in steps of {step * 1e9:.3g} ns "
-                    f"or finer (check its minimum pulse and period)"}
+    return ClockOption(clk, step,
+                       f"a timer clock of at least {clk / 1e6:.4g} MHz (edge-aligned, prescaler "
+                       f"1), or a high-resolution timer placing edges in steps of "
+                       f"{step * 1e9:.3g} ns or finer (check its minimum pulse and period)")
 
 
 def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequence[Target],
-                   levels: Sequence[float]) -> dict:
+                   levels: Sequence[float]) -> HybridOption:
     rise = drive.edges.rise_s if drive.edges.kind != "ideal" else 0.0
     dmin = minimum_duty(s.frequency_hz, turn_on_delay_s=drive.turn_on_delay_s, rise_s=rise,
                         min_on_time_s=drive.min_on_time_s)
@@ -834,22 +1136,24 @@ def _hybrid_option(drive: Drive, s: TimerSetting, res: Resolution, targets: Sequ
     if dmin > 0:
         c = min(c, res.min_level / dmin)
     if c <= res.min_level:
-        return {"option": "hybrid dimming", "possible": False,
-                "cost": "the crossover would have to lie below the smallest level; hybrid "
-                        "dimming alone does not help"}
+        return HybridOption(False, "the crossover would have to lie below the smallest level; "
+                                   "hybrid dimming alone does not help")
     hyb = replace(drive, method="hybrid", crossover=c, frequency_hz=s.frequency_hz,
                   counts_per_period=None, dither_bits=0)
     need_svm = any(t.kind == "svm" for t in targets)
     figs = [figures(hyb.at(lv), lv, need_svm=need_svm) for lv in levels]
-    met = [t.name for t in targets if all(f.meets(t) for f in figs)]
-    return {"option": "hybrid dimming", "possible": True, "crossover_level": 100.0 * c,
-            "frequency_hz": s.frequency_hz, "counts_per_period": s.counts, "meets": met,
-            "cost": f"analogue (constant-current) dimming from 100 % down to {c * 100:.3g} %, "
-                    f"PWM at {c * 100:.3g} % current below: needs a settable current "
-                    f"reference over {1 / c:.3g}:1, and LED colour may shift with current"}
+    met = tuple(t.name for t in targets if all(f.meets(t) for f in figs))
+    return HybridOption(True, f"analogue (constant-current) dimming from 100 % down to "
+                              f"{c * 100:.3g} %, PWM at {c * 100:.3g} % current below: needs a "
+                              f"settable current reference over {1 / c:.3g}:1, and LED colour "
+                              f"may shift with current",
+                        crossover=c, frequency_hz=s.frequency_hz, counts_per_period=s.counts,
+                        meets=met)
 
 
-__all__ = ["DEFAULT_TOLERANCE", "FrequencyResult", "LevelFigures", "Resolution", "Target",
+__all__ = ["DEFAULT_TOLERANCE", "AbruptChange", "AbruptPoint", "ClockOption", "DitherOption",
+           "FrequencyResult", "HybridOption", "LevelFigures", "Option", "Plan", "Resolution",
+           "SettingCheck", "Target",
            "abrupt_changes", "abrupt_points", "band_frequencies", "band_meets", "check_band",
            "check_tolerance", "default_levels", "figures", "lowest_frequency", "parse_targets",
            "plan", "recommend", "svm_of_series"]

@@ -7,15 +7,20 @@ already compute; it computes no metric of its own.
 from __future__ import annotations
 
 import datetime as _dt
+import functools
 import hashlib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Callable
+from typing import TYPE_CHECKING, Any, Callable
 
 from . import __version__, cautions, criteria
 from .criteria import Verdict  # the Report field ``criteria`` hides the module in its body
 from .errors import FlickerkitError, SettingsError
 from .project import Project
+
+if TYPE_CHECKING:  # pragma: no cover - types only
+    from .assess import Assessment
+    from .judgement import GroupOutcome
 
 #: Cautions every report carries (summary sheet and terminal); text in :mod:`flickerkit.cautions`.
 CAUTIONS = cautions.REPORT
@@ -23,7 +28,13 @@ CAUTIONS = cautions.REPORT
 
 @dataclass(frozen=True)
 class Report:
-    """Everything a report shows, computed once."""
+    """Everything a report shows, computed once.
+
+    ``records`` are the captures' (or drive levels') JSON objects, the form the
+    edges read (workbook, pictures, ``--json``); the verdicts were judged on the
+    typed assessments (:func:`judge_capture`). Levels are percent, as the
+    project file gives them.
+    """
 
     project: Project
     records: tuple[dict[str, Any], ...]
@@ -34,21 +45,23 @@ class Report:
     inputs: tuple[dict[str, Any], ...]
     settings: dict[str, Any]
     steps: Any = None
-    groups: tuple[Any, ...] = ()
+    groups: tuple[GroupOutcome, ...] = ()
     run_at: str = field(default_factory=lambda: _dt.datetime.now(_dt.timezone.utc)
                         .strftime("%Y-%m-%d %H:%M:%S UTC"))
 
     def verdicts_for(self, criterion_id: str) -> list[Verdict]:
+        """Return the verdicts of one criterion, in the order of :attr:`verdicts`."""
         return [v for v in self.verdicts if v.criterion == criterion_id]
 
     @property
     def limiting(self) -> str:
-        """What limits the product, in plain words (:func:`flickerkit.judgement.limiting_text`)."""
+        """Say what limits the product, in plain words (see :func:`.judgement.limiting_text`)."""
         from .judgement import limiting_text
 
         return limiting_text(self.groups)
 
     def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the report (``--json``), with its cautions."""
         return {
             "product": self.project.product,
             "judged_on": self.project.judged_on.isoformat(),
@@ -63,7 +76,7 @@ class Report:
 
 
 def sha256(path: Path) -> str:
-    """SHA-256 of a file, read in 1 MiB blocks."""
+    """Return the SHA-256 of a file (hex), read in 1 MiB blocks."""
     h = hashlib.sha256()
     with open(path, "rb") as fh:
         for block in iter(lambda: fh.read(1 << 20), b""):
@@ -72,8 +85,11 @@ def sha256(path: Path) -> str:
 
 
 def _sha256_or_reason(path: Path) -> str:
-    """The file's SHA-256, or why it could not be read (the capture is then reported as not
-    measured by its own outcome; one unreadable file never stops the report)."""
+    """Return the file's SHA-256, or why it could not be read.
+
+    The capture is then reported as not measured by its own outcome; one
+    unreadable file never stops the report.
+    """
     try:
         return sha256(path)
     except OSError as exc:
@@ -137,10 +153,15 @@ def build_report(project: Project, *, workers: int | None = None,
     failures: list[tuple[str, str]] = []
     inputs: list[dict[str, Any]] = []
     levels: list[float | None] = []
+    verdicts: list[Verdict] = []
     if project.captures:
         opts = [_read_options(e.read, base) for e in project.captures]
+        # each capture is judged in its worker, on its typed assessment
+        judging = [functools.partial(judge_capture, chosen=tuple(chosen), level=e.level,
+                                     label=e.label, date=project.judged_on)
+                   for e in project.captures]
         outcomes = measure_many([str(e.file) for e in project.captures], opts, settings,
-                                workers=workers, on_result=on_result)
+                                workers=workers, on_result=on_result, then=judging)
         for entry, opt, out in zip(project.captures, opts, outcomes):
             info = {"label": entry.label, "file": str(entry.file), "level": entry.level}
             if entry.file.is_file():
@@ -154,6 +175,7 @@ def build_report(project: Project, *, workers: int | None = None,
                 info["status"] = f"not measured: {out.error}"
                 inputs.append(info)
                 continue
+            # the record's JSON object, for the edges (workbook, pictures, --json)
             rec = {**out.record, "label": entry.label, "level": entry.level}
             if entry.label_note:
                 rec["notes"] = [*rec.get("notes", []), entry.label_note]
@@ -169,21 +191,23 @@ def build_report(project: Project, *, workers: int | None = None,
             records.append(rec)
             levels.append(entry.level)
             inputs.append(info)
+            verdicts.extend(out.then)
     else:
         from .drivefile import drive_from_mapping
+        from .levels import fraction
         from .sweep import sweep
 
         if project.drive is None:  # load_project refuses a project with neither
             raise SettingsError(f"{project.path}: lists no captures and no [drive]")
         drive = drive_from_mapping(project.drive, source=f"{project.path} [drive]")
-        result = sweep(drive, [lv / 100.0 for lv in project.drive_levels], progress=on_level)
-        for lv, rec in zip(project.drive_levels, result.records):
-            rec = {**rec, "label": rec.get("label") or f"level {lv:g} %", "level": lv}
-            records.append(rec)
+        result = sweep(drive, [fraction(lv) for lv in project.drive_levels], progress=on_level)
+        for lv, row in zip(project.drive_levels, result.rows):
+            records.append(row.to_dict())
             levels.append(lv)
+            verdicts.extend(criteria.judge(row.assessment, c, level=lv, label=row.label,
+                                           date=project.judged_on) for c in chosen)
         inputs.append({"label": "drive model", "file": str(project.path), "level": None,
                        "status": "modelled", "description": result.drive})
-    verdicts = criteria.judge_all(records, chosen, levels=levels, date=project.judged_on)
     for label, err in failures:
         for c in chosen:
             verdicts.append(criteria.Verdict(c.id, label, None, "insufficient data", None, None,
@@ -198,13 +222,25 @@ def build_report(project: Project, *, workers: int | None = None,
     }
     from .judgement import group, worst_status
 
-    groups = group(chosen, verdicts, levels, records)
+    groups = group(chosen, verdicts, levels)
     # the overall line only sums the groups; reports show each group's line apart
     overall = worst_status([criteria.overall(verdicts)] + [g.status for g in groups])
     return Report(project=project, records=tuple(records), failures=tuple(failures),
                   criteria=tuple(chosen), verdicts=tuple(verdicts),
                   overall=overall, inputs=tuple(inputs),
                   settings=settings_out, steps=steps, groups=groups)
+
+
+def judge_capture(assessment: Assessment, *, chosen: tuple[criteria.Criterion, ...],
+                  level: float | None, label: str, date: _dt.date) -> tuple[Verdict, ...]:
+    """Judge a capture against the chosen criteria, from its typed assessment.
+
+    Run in the worker that measured it (:func:`flickerkit.batch.measure_many`'s
+    ``then``); ``level`` [percent] and ``label`` are the project's. A report's
+    captures are light (its reading options never ask for a voltage).
+    """
+    return tuple(criteria.judge(assessment, c, level=level, date=date, label=label)
+                 for c in chosen)
 
 
 def _steps_table(project: Project):
@@ -228,10 +264,11 @@ def _steps_table(project: Project):
 
 
 def capture_traces(report: Report, periods: int = 4) -> dict[str, Any]:
-    """A few periods of each measured capture's samples, read again from its file, by label.
+    """Return a few periods of each measured capture's samples, read again from its file.
 
-    For a drive project the modelled light of each level is used. Captures
-    that cannot be read again are left out (their pictures show the spectrum only).
+    The traces are keyed by label. For a drive project the modelled light of
+    each level is used. Captures that cannot be read again are left out (their
+    pictures show the spectrum only).
     """
     from .errors import FlickerkitError
     from .export.figures import trace_of
@@ -269,7 +306,7 @@ def capture_traces(report: Report, periods: int = 4) -> dict[str, Any]:
 
 
 def report_pictures(report: Report) -> list[Any]:
-    """Every picture of the record: per capture, then the IEEE 1789 chart and metrics by level."""
+    """Draw every picture of the record: per capture, then the IEEE 1789 chart, metrics by level."""
     from .export.figures import capture_pictures, ieee_figure, levels_figure, limit_lines, render
 
     pics = capture_pictures(report.records, capture_traces(report), sheet="Pictures")

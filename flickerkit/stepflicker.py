@@ -129,7 +129,7 @@ class StepFlicker:
         return rank > worst_ok
 
     def columns(self) -> dict[str, np.ndarray]:
-        """Per-step columns for the table rows."""
+        """Return the per-step columns for the table rows."""
         region = np.array([r if r else None for r in self.ieee1789_region.tolist()], dtype=object)
         return {"percent_flicker": self.percent_flicker, "flicker_index": self.flicker_index,
                 "ieee1789_region": region, "svm": self.svm}

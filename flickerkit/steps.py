@@ -89,7 +89,7 @@ class Counter:
         return 1 + self.top - self.lowest_lit + 1
 
     def describe(self) -> str:
-        """One line: ``"12-bit (TOP 4095), minimum on-count 3"``."""
+        """Describe the counter in one line: ``"12-bit (TOP 4095), minimum on-count 3"``."""
         head = f"{self.bits}-bit (TOP {self.top})" if self.bits else f"TOP {self.top}"
         return head + (f", minimum on-count {self.min_count}" if self.min_count > 1 else "")
 
@@ -650,7 +650,7 @@ class StepTable:
 
     # ------------------------------------------------------------------ rows
     def rows(self) -> list[dict]:
-        """One dict per step (JSON-ready; inf and NaN become None)."""
+        """Return one dict per step (JSON-ready; inf and NaN become None)."""
         cols: dict[str, np.ndarray] = {
             "step": np.arange(self.n_steps),
             "count": self.counts,

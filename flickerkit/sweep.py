@@ -20,12 +20,18 @@ are kept under ``capture_figures``.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
-from typing import Any, Sequence
+from typing import TYPE_CHECKING, Any, Sequence
 
 from .criteria import REGISTRY
 from .drive import Drive
 from .errors import InputError
+from .keypath import figure
+from .levels import percent
+
+if TYPE_CHECKING:  # pragma: no cover - types only
+    from .assess import Assessment
 
 #: Sample budget per level in a sweep (keeps 200 levels fast; the narrowest
 #: pulse still spans a few samples down to about 0.1 % duty).
@@ -34,7 +40,7 @@ SWEEP_MAX_SAMPLES = 2**15
 
 
 def _eu_limits() -> tuple[tuple[str, str, str, float], ...]:
-    """The EU 2019/2020 limits a sweep checks, read from :data:`criteria.REGISTRY`.
+    """Return the EU 2019/2020 limits a sweep checks, read from :data:`criteria.REGISTRY`.
 
     One row per step of each criterion's schedule: (name, title, metric, limit).
     The limits have one home, the registry; the names (``svm<=0.9``) are the
@@ -67,9 +73,74 @@ CRITERIA = (
 )
 
 
-def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = "",
-                 settings=None) -> dict[str, Any]:
-    """The assessment record of a model's light, with the model's exact figures at its head.
+#: What ``figures_source`` says in a modelled record.
+FIGURES_SOURCE = ("drive model (exact extremes, flicker index by quadrature, SVM from the exact "
+                  "Fourier series); capture_figures: the sampled capture through assess")
+
+
+@dataclass(frozen=True)
+class CaptureFigures:
+    """The sampled capture's own figures, beside a model's exact ones.
+
+    Attributes
+    ----------
+    percent_flicker : float
+        Percent flicker of the sampled capture [%].
+    flicker_index : float
+        Flicker index of the sampled capture [unitless].
+    svm : float or None
+        SVM of the sampled capture [unitless].
+    sample_rate_hz : float
+        Sample rate of the capture [Hz].
+    n_samples : int
+        Samples in the capture.
+    """
+
+    percent_flicker: float
+    flicker_index: float
+    svm: float | None
+    sample_rate_hz: float
+    n_samples: int
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the figures (``capture_figures`` in a record)."""
+        return {k: (float(v) if isinstance(v, float) else v) for k, v in
+                (("percent_flicker", self.percent_flicker),
+                 ("flicker_index", self.flicker_index), ("svm", self.svm),
+                 ("sample_rate_hz", self.sample_rate_hz), ("n_samples", self.n_samples))}
+
+
+@dataclass(frozen=True)
+class ModelledLight:
+    """A model's light assessed: the assessment with the model's exact figures at its head.
+
+    Attributes
+    ----------
+    assessment : flickerkit.assess.Assessment
+        ``assess`` of the sampled light, in which ``percent_flicker``,
+        ``flicker_index``, ``svm``, the harmonics and the IEEE 1789 readings
+        are the model's exact figures (see :func:`model_assessment`).
+    capture_figures : CaptureFigures
+        The sampled capture's own figures.
+    figures_source : str
+        Where the figures come from, as the JSON says it.
+    """
+
+    assessment: Assessment
+    capture_figures: CaptureFigures
+    figures_source: str = FIGURES_SOURCE
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the assessment's JSON object plus ``capture_figures`` and ``figures_source``."""
+        rec = self.assessment.to_dict()
+        rec["capture_figures"] = self.capture_figures.to_dict()
+        rec["figures_source"] = self.figures_source
+        return rec
+
+
+def model_assessment(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = "",
+                     settings=None) -> ModelledLight:
+    """Assess a model's light, with the model's exact figures at the head of the assessment.
 
     Parameters
     ----------
@@ -84,13 +155,12 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
 
     Returns
     -------
-    dict
-        ``Assessment.to_dict()`` of the sampled light, in which
-        ``percent_flicker``, ``flicker_index``, ``svm`` and the IEEE 1789
-        fundamental reading are the model's exact figures; the sampled
-        capture's own ones are under ``capture_figures``, and
-        ``figures_source`` says so. Raises InputError when the level makes no
-        light (as ``assess`` does).
+    ModelledLight
+        The assessment of the sampled light, in which ``percent_flicker``,
+        ``flicker_index``, ``svm`` and the IEEE 1789 fundamental reading are
+        the model's exact figures; the sampled capture's own ones are in
+        ``capture_figures``. Raises InputError when the level makes no light
+        (as ``assess`` does).
 
     Notes
     -----
@@ -119,9 +189,8 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
         f_min_hz=settings.svm_f_min_hz,
         method="model series",
         method_note="components from the drive model's exact Fourier series")
-    captured = {"percent_flicker": a.percent_flicker, "flicker_index": a.flicker_index,
-                "svm": a.svm.value if a.svm else None,
-                "sample_rate_hz": a.sample_rate_hz, "n_samples": a.n_samples}
+    captured = CaptureFigures(a.percent_flicker, a.flicker_index,
+                              a.svm.value if a.svm else None, a.sample_rate_hz, a.n_samples)
     fund = ieee1789.classify(f0, pf) if f0 else a.ieee1789_fundamental
     harm, per_h = _exact_harmonics(light, f0, settings.harmonics,
                                    0.5 / a.sample_rate_hz)
@@ -136,26 +205,27 @@ def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = ""
                and a.ieee1789_per_harmonic else fund)
     head = (with_unrelated_modulation(light, f0, reading) if (reading is not None and f0)
             else reading)
+    warns = tuple(w + ("; the headline percent flicker, flicker index, SVM and harmonics "
+                       "are the model's exact figures, capture_figures those of the capture")
+                  if w.startswith("sample rate limited by the sample budget")
+                  else w + ("; this concerns the capture's SVM (capture_figures): the "
+                            "headline SVM is the model's exact series")
+                  if "of the SVM sum lies between the harmonics" in w else w
+                  for w in a.warnings)
     a = replace(a, percent_flicker=pf, flicker_index=fi, ieee1789_fundamental=fund, svm=sv,
-                ieee1789_headline=head)
-    rec = a.to_dict()
-    rec["warnings"] = [w + ("; the headline percent flicker, flicker index, SVM and harmonics "
-                            "are the model's exact figures, capture_figures those of the capture")
-                       if w.startswith("sample rate limited by the sample budget")
-                       else w + ("; this concerns the capture's SVM (capture_figures): the "
-                                 "headline SVM is the model's exact series")
-                       if "of the SVM sum lies between the harmonics" in w else w
-                       for w in rec["warnings"]]
-    rec["capture_figures"] = {k: (float(v) if isinstance(v, float) else v)
-                              for k, v in captured.items()}
-    rec["figures_source"] = ("drive model (exact extremes, flicker index by quadrature, SVM "
-                             "from the exact Fourier series); capture_figures: the sampled "
-                             "capture through assess")
-    return rec
+                ieee1789_headline=head, warnings=warns)
+    return ModelledLight(a, captured)
+
+
+def model_record(model, *, max_samples: int = SWEEP_MAX_SAMPLES, label: str = "",
+                 settings=None) -> dict[str, Any]:
+    """Return :func:`model_assessment` as its JSON object (for callers that print or tabulate)."""
+    return model_assessment(model, max_samples=max_samples, label=label,
+                            settings=settings).to_dict()
 
 
 def _exact_harmonics(light, f0: float | None, count: int, t0_s: float):
-    """The first ``count`` harmonics of ``f0`` from the model's exact Fourier series.
+    """Return the first ``count`` harmonics of ``f0`` [Hz] from the model's exact Fourier series.
 
     Phases are taken at ``t0_s`` [s], the centre of the capture's first sample
     (its samples are interval averages), as ``measure`` reports them.
@@ -186,9 +256,12 @@ def _exact_harmonics(light, f0: float | None, count: int, t0_s: float):
     return harm, ieee1789.classify_components(order * f0, amp)
 
 
-def _fails(rec: dict[str, Any], name: str) -> bool | None:
-    ieee = rec.get("ieee1789") or {}
-    region = ieee.get("region")
+def _fails(row: LevelRow, name: str) -> bool | None:
+    """Tell whether a level fails a sweep criterion; None when its figure is not known there."""
+    a = row.assessment
+    if a is None:
+        return None
+    region = a.ieee1789.region if a.ieee1789 is not None else None
     if name == "ieee1789-low-risk":
         return None if region is None else region == "above-low-risk"
     if name == "ieee1789-noel":
@@ -196,27 +269,75 @@ def _fails(rec: dict[str, Any], name: str) -> bool | None:
     if name not in _LIMIT_OF:
         return None
     metric, limit = _LIMIT_OF[name]
-    v = rec.get(metric)
-    if isinstance(v, dict):
-        v = v.get("value")
-    if v is None:
+    v = figure(a, metric)
+    if v is None or not math.isfinite(v):
         return None
     # the SVM's 1e-12 keeps a model exactly on its limit a pass (rounding of the series sum)
     return v > limit * (1 + 1e-12) if metric == "svm" else v > limit
 
 
 @dataclass(frozen=True)
+class LevelRow:
+    """One level of a sweep.
+
+    Attributes
+    ----------
+    level : float
+        Dimming level [fraction 0-1; percent in :meth:`to_dict`].
+    relative_light : float
+        Mean light as a fraction of full output [unitless].
+    label : str
+        Label of the level's capture.
+    light : ModelledLight or None
+        The level's light assessed; None when the level makes no light.
+    model_percent_flicker : float
+        The model's own percent flicker of the level [%].
+    model : str
+        Description of the level's light model.
+    no_light : str
+        Why there is no light (when ``light`` is None).
+    """
+
+    level: float
+    relative_light: float
+    label: str
+    light: ModelledLight | None
+    model_percent_flicker: float
+    model: str
+    no_light: str = ""
+
+    @property
+    def assessment(self) -> Assessment | None:
+        """Return the level's assessment (None when it makes no light)."""
+        return None if self.light is None else self.light.assessment
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the JSON object of the level.
+
+        The assessment's keys plus ``level`` [percent], ``relative_light``
+        [fraction of full output], ``model_percent_flicker`` [percent] and
+        ``model``.
+        """
+        if self.light is not None:
+            rec = self.light.to_dict()
+        else:
+            rec = {"label": self.label, "percent_flicker": None, "flicker_index": None,
+                   "frequency_hz": None, "ieee1789": None, "mean": 0.0, "svm": None,
+                   "warnings": [self.no_light], "harmonics": []}
+        return {"level": percent(self.level), "relative_light": self.relative_light, **rec,
+                "model_percent_flicker": self.model_percent_flicker, "model": self.model}
+
+
+@dataclass(frozen=True)
 class SweepResult:
-    """Records per level and the first failing level of each criterion.
+    """Rows per level and the first failing level of each criterion.
 
     Attributes
     ----------
     drive : str
         Description of the drive.
-    records : tuple of dict
-        One per level, in the order given: ``Assessment.to_dict()`` plus
-        ``level`` [fraction 0-1 here, percent in :meth:`to_dict`],
-        ``relative_light``, ``model_percent_flicker`` and ``svm``.
+    rows : tuple of LevelRow
+        One per level, in the order given.
     first_failing : dict
         Criterion name -> first level (scanning from the highest level down)
         that fails it, or None when no level fails it [fraction; percent in
@@ -228,19 +349,20 @@ class SweepResult:
     """
 
     drive: str
-    records: tuple[dict[str, Any], ...]
+    rows: tuple[LevelRow, ...]
     first_failing: dict[str, float | None]
     not_assessed: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
-        """The JSON object: dimming levels in percent (``level``, ``first_failing_level``),
-        as ``report`` gives them; ``relative_light`` stays a fraction of full output."""
-        def pct(v):
-            return None if v is None else 100.0 * v
+        """Return the JSON object of the sweep.
 
+        Dimming levels are in percent (``level``, ``first_failing_level``), as
+        ``report`` gives them; ``relative_light`` stays a fraction of full
+        output.
+        """
         return {"drive": self.drive,
-                "levels": [{**r, "level": pct(r["level"])} for r in self.records],
-                "first_failing_level": {k: pct(v) for k, v in self.first_failing.items()},
+                "levels": [r.to_dict() for r in self.rows],
+                "first_failing_level": {k: percent(v) for k, v in self.first_failing.items()},
                 "not_assessed": list(self.not_assessed)}
 
 
@@ -263,35 +385,33 @@ def sweep(drive: Drive, levels: Sequence[float], *, max_samples: int = SWEEP_MAX
     -------
     SweepResult
     """
-    records = []
+    rows = []
     it = progress(levels) if progress else levels
     for lv in it:
         lv = float(lv)
         model = drive.at(lv)
         label = f"level {lv * 100:.4g} %"
+        light, why = None, ""
         try:
-            rec = model_record(model, max_samples=max_samples, label=label)
+            light = model_assessment(model, max_samples=max_samples, label=label)
         except InputError as exc:  # no light at this level (a skipped pulse)
-            rec = {"label": label, "percent_flicker": None, "flicker_index": None,
-                   "frequency_hz": None, "ieee1789": None, "mean": 0.0, "svm": None,
-                   "warnings": [f"no light at this level ({exc.message})"], "harmonics": []}
-        rec = {"level": lv, "relative_light": model.mean, **rec}
-        rec["model_percent_flicker"] = model.modulation_percent()
-        rec["model"] = model.light().description
-        records.append(rec)
-    order = sorted(range(len(records)), key=lambda i: -records[i]["level"])
+            why = f"no light at this level ({exc.message})"
+        rows.append(LevelRow(lv, model.mean, label, light, model.modulation_percent(),
+                             model.light().description, why))
+    order = sorted(range(len(rows)), key=lambda i: -rows[i].level)
     first: dict[str, float | None] = {}
     unknown = []
     for name, _ in CRITERIA:
         first[name] = None
-        outcomes = [_fails(records[i], name) for i in order]
+        outcomes = [_fails(rows[i], name) for i in order]
         if all(o is None for o in outcomes):
             unknown.append(name)
         for i, failed in zip(order, outcomes):
             if failed:
-                first[name] = records[i]["level"]
+                first[name] = rows[i].level
                 break
-    return SweepResult(drive.describe(), tuple(records), first, tuple(unknown))
+    return SweepResult(drive.describe(), tuple(rows), first, tuple(unknown))
 
 
-__all__ = ["CRITERIA", "SWEEP_MAX_SAMPLES", "SweepResult", "model_record", "sweep"]
+__all__ = ["CRITERIA", "SWEEP_MAX_SAMPLES", "CaptureFigures", "LevelRow", "ModelledLight",
+           "SweepResult", "model_assessment", "model_record", "sweep"]

@@ -121,7 +121,7 @@ def clock_needed(counts: int, frequency_hz: float, mode: str = "edge") -> float:
 
 def minimum_duty(frequency_hz: float, *, turn_on_delay_s: float = 0.0, rise_s: float = 0.0,
                  min_on_time_s: float = 0.0) -> float:
-    """Smallest commanded duty that makes a full light pulse.
+    """Return the smallest commanded duty that makes a full light pulse.
 
     ``D_min = (t_D + max(t_rise, t_min_on)) f``: the pulse must outlast the
     turn-on delay plus the rise (or the driver's minimum on-time) [unitless].
@@ -136,7 +136,7 @@ def minimum_duty(frequency_hz: float, *, turn_on_delay_s: float = 0.0, rise_s: f
 
 
 def maximum_duty(frequency_hz: float, *, fall_s: float = 0.0) -> float:
-    """Largest duty before the fall eats the off-time: ``(T - t_fall) / T`` [unitless]."""
+    """Return the largest duty before the fall eats the off-time: ``(T - t_fall) / T``."""
     return max(0.0, 1.0 - fall_s * frequency_hz)
 
 
@@ -278,7 +278,7 @@ class TimerSetting:
 
     def minimum_count(self, *, turn_on_delay_s: float = 0.0, rise_s: float = 0.0,
                       min_on_time_s: float = 0.0) -> int:
-        """Smallest compare value giving a full light pulse [counts]."""
+        """Return the smallest compare value giving a full light pulse [counts]."""
         d = minimum_duty(self.frequency_hz, turn_on_delay_s=turn_on_delay_s, rise_s=rise_s,
                          min_on_time_s=min_on_time_s)
         return max(1, int(math.ceil(d * self.counts - 1e-9)))

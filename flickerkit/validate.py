@@ -94,7 +94,7 @@ def _is_number(v: Any) -> bool:
 
 
 def _where(source: str, table: str | None, key: str) -> str:
-    """``file [table]: key`` -- the start of every message."""
+    """Return ``file [table]: key``, the start of every message."""
     return f"{source}{f' [{table}]' if table else ''}: {key}"
 
 

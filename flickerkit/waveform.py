@@ -61,7 +61,7 @@ def _e2(z: np.ndarray) -> np.ndarray:
 
 
 def common_frequency(f1: float, f2: float) -> float | None:
-    """Largest frequency of which both are integer multiples, or None [Hz].
+    """Return the largest frequency of which both are integer multiples, or None [Hz].
 
     Parameters
     ----------

@@ -100,3 +100,17 @@ def test_readme_python_example_runs_and_prints_what_it_says():
     # the table: 12-bit counter (TOP 4095); the lowest lit step at 0.1 % of full output
     assert table.counts[-1] == 4095 and table.counts[0] == round(0.001 * 4095)
     assert np.all(np.diff(table.counts) > 0)
+
+
+def test_assess_refuses_a_bare_array_in_one_line():
+    # a bare numpy array and a sample rate where a Capture and settings belong: a TypeError
+    # that says how to build the Capture (it was an AttributeError from deep inside)
+    x = 1.0 + 0.5 * np.sin(2 * np.pi * 123.4 * np.arange(20_000) / 20_000.0)
+    with pytest.raises(TypeError, match="make_capture"):
+        fk.assess_light(x, 20_000.0)
+    cap = fk.make_capture(x, 20_000.0)
+    with pytest.raises(TypeError, match="AssessSettings"):
+        fk.assess_light(cap, 20_000.0)
+    with pytest.raises(TypeError, match="make_capture"):
+        fk.assess_voltage(x)
+    assert fk.assess_light(cap).percent_flicker == pytest.approx(50.0, abs=0.5)  # analytic: m = 0.5

@@ -64,10 +64,13 @@ EDGE_PF = 100.0 * (1.0 - EDGE_B) / (1.0 + EDGE_B)
 
 def test_first_order_edges_drive_reports_the_exact_figure(tmp_path):
     drive = Drive(frequency_hz=1000.0, edges=Edges("first-order", 30e-6, 43e-6))
-    rec = sweep(drive, [0.9]).records[0]
-    assert rec["percent_flicker"] == pytest.approx(EDGE_PF, rel=EXACT_REL)  # analytic
-    assert rec["ieee1789"]["region"] == "above-low-risk"
+    row = sweep(drive, [0.9]).rows[0]
+    assert row.assessment.percent_flicker == pytest.approx(EDGE_PF, rel=EXACT_REL)  # analytic
+    assert row.assessment.ieee1789.region == "above-low-risk"
     # the sampled capture of the sweep's budget alone reads ~2.5 points low (79.7 %)
+    assert row.light.capture_figures.percent_flicker < EDGE_PF - 1.0
+    rec = row.to_dict()  # the JSON says the same
+    assert rec["percent_flicker"] == row.assessment.percent_flicker and rec["level"] == 90.0
     assert rec["capture_figures"]["percent_flicker"] < EDGE_PF - 1.0
     fig = figures(drive.at(0.9))
     assert fig.percent_flicker == pytest.approx(EDGE_PF, rel=EXACT_REL)  # plan: analytic
@@ -101,12 +104,12 @@ def test_evenly_phased_channels_report_the_lights_repetition():
     drive = Drive(frequency_hz=f, channels=3)
     model = drive.at(0.2)
     assert model.fundamental_hz == pytest.approx(3 * f, rel=1e-12)
-    rec = sweep(drive, [0.2]).records[0]
-    assert rec["frequency_hz"] == pytest.approx(3 * f, rel=1e-12)
-    assert rec["flicker_index"] == pytest.approx(0.4, rel=EXACT_REL)
-    assert rec["percent_flicker"] == pytest.approx(100.0, rel=EXACT_REL)
+    rec = sweep(drive, [0.2]).rows[0].assessment
+    assert rec.frequency_hz == pytest.approx(3 * f, rel=1e-12)
+    assert rec.flicker_index == pytest.approx(0.4, rel=EXACT_REL)
+    assert rec.percent_flicker == pytest.approx(100.0, rel=EXACT_REL)
     # IEEE 1789-2015 clause 8: no limit above 3000 Hz
-    assert rec["ieee1789"]["region"] == "no-observable-effect"
+    assert rec.ieee1789.region == "no-observable-effect"
     assert figures(model).frequency_hz == pytest.approx(3 * f, rel=1e-12)
     # two channels at 50 % opposite in phase add up to steady light (analytic)
     steady = Drive(frequency_hz=f, channels=2).at(0.5)
@@ -129,9 +132,9 @@ def test_ripple_under_pwm_passes_the_strongest_period_and_the_common_one():
     meta = model.capture().meta
     assert meta["fundamental_hz"] == pytest.approx(2000.0)
     assert meta["repetition_hz"] == pytest.approx(100.0)
-    rec = sweep(Drive(frequency_hz=2000.0, ripple=Ripple(2.0)), [0.5]).records[0]
-    assert rec["frequency_hz"] == pytest.approx(2000.0)
-    assert rec["modulation"]["repetition_hz"] == pytest.approx(100.0)
+    rec = sweep(Drive(frequency_hz=2000.0, ripple=Ripple(2.0)), [0.5]).rows[0].assessment
+    assert rec.frequency_hz == pytest.approx(2000.0)
+    assert rec.modulation.repetition_hz == pytest.approx(100.0)
 
 
 def test_strong_ripple_under_pwm_is_judged_at_100_hz():

@@ -29,8 +29,8 @@ def _t(fs, d):
     return np.arange(int(round(fs * d))) / fs
 
 
-def _judge(rec, cid):
-    return criteria.judge(rec, criteria.REGISTRY[cid], level=100)
+def _judge(a, cid):
+    return criteria.judge(a, criteria.REGISTRY[cid], level=100)
 
 
 def test_pwm_with_slow_envelope_fails_at_the_envelope_frequency():
@@ -53,9 +53,9 @@ def test_pwm_with_slow_envelope_fails_at_the_envelope_frequency():
     # 2000 = 66.6 %) and exempt from RP1 above 1250 Hz -> low-risk (analytic)
     assert rec["ieee1789"]["fundamental"]["region"] == "low-risk"
     assert rec["below_90hz"]["modulation_percent"] == pytest.approx(10.0, abs=BAND_TOL_PP)
-    v = _judge(rec, "seizure-screen-below-90hz")
+    v = _judge(a, "seizure-screen-below-90hz")
     assert v.status == "fail" and v.measured == pytest.approx(10.0, abs=BAND_TOL_PP)
-    assert _judge(rec, "ieee1789-low-risk").status == "fail"
+    assert _judge(a, "ieee1789-low-risk").status == "fail"
 
 
 def test_pwm_with_ripple_is_judged_at_the_ripple_frequency():
@@ -63,7 +63,8 @@ def test_pwm_with_ripple_is_judged_at_the_ripple_frequency():
     # the RP1 line is 0.08 x 100 = 8 %: not low-risk; nothing below 90 Hz
     fs, d = 100_003.0, 0.9
     x = pwm(2000.0, 0.4, 0.05, fs, d) * (1 + 0.2 * np.sin(2 * np.pi * 100.0 * _t(fs, d)))
-    rec = assess(make_capture(x, fs, label="pwm+ripple")).to_dict()
+    a = assess(make_capture(x, fs, label="pwm+ripple"))
+    rec = a.to_dict()
     comps = rec["modulation"]["components"]
     rip = [c for c in comps if abs(c["frequency_hz"] - 100.0) < 0.1]
     assert rip and rip[0]["amplitude"] == pytest.approx(0.2, rel=AMP_RTOL)
@@ -73,7 +74,7 @@ def test_pwm_with_ripple_is_judged_at_the_ripple_frequency():
     assert head["low_risk_limit_percent"] == pytest.approx(8.0, rel=1e-4)
     assert "100 Hz" in head["decided_by"]
     assert rec["ieee1789"]["fundamental"]["frequency_hz"] == pytest.approx(2000.0, rel=1e-6)
-    assert _judge(rec, "seizure-screen-below-90hz").status == "not applicable"
+    assert _judge(a, "seizure-screen-below-90hz").status == "not applicable"
 
 
 def test_two_unrelated_channels_are_said_plainly():
@@ -138,37 +139,38 @@ def test_edges_are_decided_by_rule_on_every_capture(case):
         # analytic: SVM of one component at 80 Hz is C / T(80) with the power threshold
         # (in band: the band's lower end is included)
         "svm 80 Hz": (lambda fs, d, ph: sine(80.0, 0.2, fs, d, phase=ph),
-                      lambda r: round(r["svm"], 3), None),
+                      lambda r, a: round(r["svm"], 3), None),
         # analytic: a 40 Hz sine of 20 % keeps its component at the 40 Hz cut-off: 20 %
         "ja10 40 Hz": (lambda fs, d, ph: sine(40.0, 0.2, fs, d, phase=ph),
-                       lambda r: round(r["filtered_percent_flicker"]["40"], 1), 20.0),
+                       lambda r, a: round(r["filtered_percent_flicker"]["40"], 1), 20.0),
         # analytic: full-wave rectified 50 Hz on a 30 % floor keeps 100 and 200 Hz at the
         # 200 Hz cut-off (see _rectified_200), on every capture
         "ja10 200 Hz": (lambda fs, d, ph: rectified(50.0, 0.3, fs, d, phase=ph),
-                        lambda r: abs(r["filtered_percent_flicker"]["200"]
+                        lambda r, a: abs(r["filtered_percent_flicker"]["200"]
                                       - _rectified_200(0.3)) < JA10_TOL_PP, True),
         # IEEE 1789 (module rule): 90 Hz is in the upper segment: 0.08 x 90 = 7.2 %
         "ieee 90 Hz": (lambda fs, d, ph: sine(90.0, 0.05, fs, d, phase=ph),
-                       lambda r: round(r["ieee1789"]["low_risk_limit_percent"], 3), 7.2),
+                       lambda r, a: round(r["ieee1789"]["low_risk_limit_percent"], 3), 7.2),
         # at 3000 Hz the NOEL line applies: 0.0333 x 3000 = 99.9 % < 100 % -> low-risk
         "ieee 3 kHz": (lambda fs, d, ph: pwm(3000.0, 0.5, 0.0, fs, d, phase=ph / 6.3),
-                       lambda r: r["ieee1789"]["region"], "low-risk"),
+                       lambda r, a: r["ieee1789"]["region"], "low-risk"),
         # per-harmonic: the 3 kHz fundamental, C1 = 4/pi (analytic, 50 % PWM) > 99.9 %:
         # low-risk on every capture (the line applies on the break)
         "ieee 3 kHz per-harmonic": (lambda fs, d, ph: pwm(3000.0, 0.5, 0.0, fs, d,
                                                           phase=ph / 6.3),
-                                    lambda r: r["ieee1789"]["per_harmonic"]["region"],
+                                    lambda r, a: r["ieee1789"]["per_harmonic"]["region"],
                                     "low-risk"),
         # 90 Hz is not below 90 Hz: the seizure screen has nothing to judge
         "seizure 90 Hz": (lambda fs, d, ph: sine(90.0, 0.2, fs, d, phase=ph),
-                          lambda r: _judge(r, "seizure-screen-below-90hz").status,
+                          lambda r, a: _judge(a, "seizure-screen-below-90hz").status,
                           "not applicable"),
     }[case]
     seen = set()
     noted = 0
     for x, fs in _captures(make, seed=zlib.crc32(case.encode())):
-        rec = assess(make_capture(x, fs)).to_dict()
-        seen.add(read(rec))
+        a = assess(make_capture(x, fs))
+        rec = a.to_dict()
+        seen.add(read(rec, a))
         noted += bool(rec["edge_notes"])
     assert len(seen) == 1, seen
     if want is not None:
@@ -192,7 +194,7 @@ def test_components_below_the_noise_are_not_invented():
     x = 1.0 + 0.01 * rng.standard_normal(50_000)
     a = assess(make_capture(x, 25_000.0))
     assert a.modulation.components == ()
-    assert _judge(a.to_dict(), "seizure-screen-below-90hz").status == "not applicable"
+    assert _judge(a, "seizure-screen-below-90hz").status == "not applicable"
 
 
 def _point_pwm(f, duty, fs, d, phase=0.1):
@@ -207,11 +209,12 @@ def test_folded_pwm_is_insufficient_data_not_30hz_flicker():
 
     fs = 10_000.0
     x = _point_pwm(20_030.0, 0.5, fs, 1.0)
-    rec = assess(make_capture(x, fs), AssessSettings(detector_bandwidth_hz=100e3)).to_dict()
+    a = assess(make_capture(x, fs), AssessSettings(detector_bandwidth_hz=100e3))
+    rec = a.to_dict()
     assert rec["frequency_hz"] == pytest.approx(30.0, rel=1e-4)
     assert rec["acquisition"]["folding_suspected"]
     for cid in ("seizure-screen-below-90hz", "ieee1789-low-risk", "eu-2019-2020-svm"):
-        v = _judge(rec, cid)
+        v = _judge(a, cid)
         assert v.status == "insufficient data" and "folded" in v.reason, cid
 
 
@@ -222,9 +225,10 @@ def test_band_limited_content_is_not_flagged_as_folded():
 
     fs = 20_000.0
     x = sine(100.0, 0.05, fs, 1.0)
-    rec = assess(make_capture(x, fs), AssessSettings(detector_bandwidth_hz=100e3)).to_dict()
+    a = assess(make_capture(x, fs), AssessSettings(detector_bandwidth_hz=100e3))
+    rec = a.to_dict()
     assert not rec["acquisition"]["folding_suspected"]
-    assert _judge(rec, "ieee1789-low-risk").status == "pass"
+    assert _judge(a, "ieee1789-low-risk").status == "pass"
 
 
 @pytest.mark.parametrize("spp", [5.2, 6.1, 6.9])
@@ -234,9 +238,10 @@ def test_five_to_seven_samples_per_period(spp):
     f = 1234.56
     fs = f * spp
     x = pwm(f, 0.5, 0.1, fs, 1.0)
-    rec = assess(make_capture(x, fs)).to_dict()
+    a = assess(make_capture(x, fs))
+    rec = a.to_dict()
     assert rec["frequency_hz"] == pytest.approx(f, rel=1e-5)
-    assert _judge(rec, "ieee1789-low-risk").status == "insufficient data"
+    assert _judge(a, "ieee1789-low-risk").status == "insufficient data"
     assert any("samples per period" in w for w in rec["warnings"])
 
 
@@ -316,10 +321,11 @@ def test_composite_verdicts_are_the_same_on_every_capture(case):
         ph = float(rng.uniform(0, 2 * np.pi))
         x = pwm(2000.0, 0.5, 0.0, fs, d, phase=float(rng.uniform())) \
             * (1 + depth * np.sin(2 * np.pi * f_mod * _t(fs, d) + ph))
-        rec = assess(make_capture(x, fs)).to_dict()
+        a = assess(make_capture(x, fs))
+        rec = a.to_dict()
         assert rec["ieee1789"]["region"] == "above-low-risk"
         assert f"{f_mod:g} Hz" in rec["ieee1789"]["decided_by"]
-        assert _judge(rec, "seizure-screen-below-90hz").status == seizure
+        assert _judge(a, "seizure-screen-below-90hz").status == seizure
         assert not any("noise limits" in w for w in rec["warnings"])  # noise-free light
 
 

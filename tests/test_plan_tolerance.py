@@ -27,28 +27,29 @@ def test_svm_plan_is_not_decided_by_the_band_end():
     # 63158 as implemented, ends inclusive) just above 2000 Hz, so on an exact clock svm<=0.4
     # passes from just above 2000 Hz; below it the 0.1 % level's SVM is about 0.53 (computed)
     out = plan(Drive(), parse_targets("svm<=0.4"), levels=LEVELS)
-    assert out["lowest_frequency_hz"] == pytest.approx(2000.0, rel=FREQ_RTOL)
-    assert out["tolerance_percent"] == pytest.approx(100 * DEFAULT_TOLERANCE)
-    rec = out["recommended_frequency_hz"]
+    assert out.lowest_frequency_hz == pytest.approx(2000.0, rel=FREQ_RTOL)
+    assert out.tolerance == DEFAULT_TOLERANCE
+    assert out.to_dict()["tolerance_percent"] == pytest.approx(100 * DEFAULT_TOLERANCE)
+    rec = out.recommended_frequency_hz
     # analytic: the band's lower end must clear 2000 Hz: f (1 - 0.02) > 2000 Hz
     assert rec * (1 - DEFAULT_TOLERANCE) > 2000.0
     assert rec == pytest.approx(2000.0 / (1 - DEFAULT_TOLERANCE), rel=FREQ_RTOL)
     # the issue's case: an oscillator 1 % slow fails the exact-clock answer, not the recommended
-    assert _worst_svm(Drive(), out["lowest_frequency_hz"] * 0.99) > 0.4
+    assert _worst_svm(Drive(), out.lowest_frequency_hz * 0.99) > 0.4
     assert _worst_svm(Drive(), rec * 0.99) <= 0.4
     assert _worst_svm(Drive(), rec * (1 - DEFAULT_TOLERANCE)) <= 0.4
     # and the plan says that the target changes abruptly nearby
-    ab = [a for a in out["abrupt_changes"] if a["target"] == "svm"]
-    assert any(a["frequency_hz"] == pytest.approx(2000.0) and "2000 Hz upper end" in a["cause"]
-               and a["figure_below"] > 0.4 >= a["figure_above"] and not a["inside_band"]
+    ab = [a for a in out.abrupt_changes if a.target == "svm"]
+    assert any(a.frequency_hz == pytest.approx(2000.0) and "2000 Hz upper end" in a.cause
+               and a.figure_below > 0.4 >= a.figure_above and not a.inside_band
                for a in ab)
 
 
 def test_exact_clock_recommends_the_lowest():
     out = plan(Drive(), parse_targets("svm<=0.4"), levels=LEVELS, tolerance=0.0)
-    assert out["recommended_frequency_hz"] == out["lowest_frequency_hz"]
-    assert any(a["inside_band"] is False and abs(a["offset_percent"]) < 0.01
-               for a in out["abrupt_changes"])
+    assert out.recommended_frequency_hz == out.lowest_frequency_hz
+    assert any(a.inside_band is False and abs(a.offset_percent) < 0.01
+               for a in out.abrupt_changes)
 
 
 def test_low_risk_band_clears_the_line():
@@ -56,11 +57,11 @@ def test_low_risk_band_clears_the_line():
     # it from 1250 Hz; with +-1 % the band's lower end must be there: 1250 / 0.99
     out = plan(Drive(), parse_targets("low-risk"), levels=LEVELS, tolerance=0.01,
                timer=Timer(16e6, (1, 8)))
-    assert out["lowest_frequency_hz"] == pytest.approx(1250.0, rel=FREQ_RTOL)
-    assert out["recommended_frequency_hz"] == pytest.approx(1250.0 / 0.99, rel=FREQ_RTOL)
-    for s in out["settings"]:
-        assert s["frequency_hz"] * 0.99 >= out["lowest_frequency_hz"] * (1 - 1e-9)
-        assert "ieee1789-low-risk" in s["meets"]
+    assert out.lowest_frequency_hz == pytest.approx(1250.0, rel=FREQ_RTOL)
+    assert out.recommended_frequency_hz == pytest.approx(1250.0 / 0.99, rel=FREQ_RTOL)
+    for s in out.settings:
+        assert s.setting.frequency_hz * 0.99 >= out.lowest_frequency_hz * (1 - 1e-9)
+        assert "ieee1789-low-risk" in s.meets
 
 
 def test_band_check_finds_the_failing_edge():
@@ -75,23 +76,23 @@ def test_abrupt_points_of_ripple_and_channels():
     # analytic: with 100 Hz sine ripple the light has lines at f and f +- 100 Hz; they reach
     # 2000 Hz at f = 2000, 1900 and 2100 Hz
     d = Drive(ripple=Ripple(3.0))
-    fs = sorted(round(a["frequency_hz"], 6) for a in abrupt_points(d, parse_targets("svm<=0.9"),
+    fs = sorted(round(a.frequency_hz, 6) for a in abrupt_points(d, parse_targets("svm<=0.9"),
                                                                   1850.0, 2150.0))
     assert fs == [1900.0, 2000.0, 2100.0]
     # analytic: three evenly phased channels repeat at 3 f; the 90 Hz step of IEEE 1789's
     # low-risk line (IEEE 1789-2015 clause 8) is met at f = 30 Hz and at f = 90 Hz
     pts = abrupt_points(Drive(channels=3), parse_targets("low-risk"), 10.0, 100.0)
-    assert sorted(a["frequency_hz"] for a in pts) == pytest.approx([30.0, 90.0])
+    assert sorted(a.frequency_hz for a in pts) == pytest.approx([30.0, 90.0])
 
 
 def test_noel_end_is_reported():
     # IEEE 1789-2015 clause 8: the NOEL line 0.0333 f gives 99.9 % at 3000 Hz and ends there;
     # full-depth PWM fails it up to 3000 Hz and passes above: an abrupt change at 3000 Hz
     out = plan(Drive(), parse_targets("noel"), levels=LEVELS)
-    ab = [a for a in out["abrupt_changes"] if a["target"] == "ieee1789"]
-    assert len(ab) == 1 and ab[0]["frequency_hz"] == pytest.approx(3000.0)
-    assert ab[0]["figure_below"] == "low-risk" and ab[0]["figure_above"] == "no-observable-effect"
-    assert out["recommended_frequency_hz"] * (1 - DEFAULT_TOLERANCE) > 3000.0
+    ab = [a for a in out.abrupt_changes if a.target == "ieee1789"]
+    assert len(ab) == 1 and ab[0].frequency_hz == pytest.approx(3000.0)
+    assert ab[0].figure_below == "low-risk" and ab[0].figure_above == "no-observable-effect"
+    assert out.recommended_frequency_hz * (1 - DEFAULT_TOLERANCE) > 3000.0
 
 
 def test_plan_workbook_lists_the_abrupt_change(tmp_path, capsys):

@@ -77,28 +77,29 @@ def test_plan_with_timer_feasible_and_not():
     t = Timer(48e6, (1, 2, 4, 8))
     ok = plan(Drive(), parse_targets("low-risk"), timer=t,
               resolution=Resolution(bits=12, min_level=0.01))
-    assert ok["feasible"] is True
-    assert ok["lowest_frequency_hz"] == pytest.approx(1250.0, rel=FREQ_RTOL)
-    for s in ok["settings"]:
-        assert s["frequency_hz"] >= ok["lowest_frequency_hz"] * (1 - 1e-12)
+    assert ok.feasible is True
+    assert ok.lowest_frequency_hz == pytest.approx(1250.0, rel=FREQ_RTOL)
+    for s in ok.settings:
+        assert s.setting.frequency_hz >= ok.lowest_frequency_hz * (1 - 1e-12)
     # analytic: 0.1 % with 1 % steps needs TOP >= 1/(w Y_min) = 1e5 counts; 48 MHz at 3 kHz
     # gives 16000
     bad = plan(Drive(), parse_targets("noel"), timer=t,
                resolution=Resolution(min_level=0.001, max_step=0.01))
-    assert bad["feasible"] is False
-    opts = {o["option"]: o for o in bad["options"]}
+    assert bad.feasible is False
+    opts = {o.option: o for o in bad.options}
     # analytic: clock = 1e5 counts x the frequency run (300 MHz at 3 kHz on an exact clock; the plan
     # runs at the frequency whose whole +-2 % clock band meets the target, 3061 Hz)
-    assert opts["faster clock or high-resolution timer"]["clock_hz"] == pytest.approx(
-        1e5 * bad["recommended_frequency_hz"], rel=1e-9)
+    assert opts["faster clock or high-resolution timer"].clock_hz == pytest.approx(
+        1e5 * bad.recommended_frequency_hz, rel=1e-9)
     d = opts["dithering"]
-    assert d["extra_bits"] == 3  # 48 MHz / 3061 Hz = 15680 counts; 2^3 * 15680 >= 1e5 > 2^2 * 15680
+    assert d.extra_bits == 3  # 48 MHz / 3061 Hz = 15680 counts; 2^3 * 15680 >= 1e5 > 2^2 * 15680
     # analytic, first-order dither: sub-harmonic amplitude (2/P)/(N + 1/P), lowest at f/2^m
-    assert d["largest_subharmonic_percent"] == pytest.approx(d["analytic_subharmonic_percent"],
+    assert d.largest_subharmonic_percent == pytest.approx(d.analytic_subharmonic_percent,
                                                              rel=1e-3)
-    assert d["lowest_component_hz"] == pytest.approx(d["pattern_frequency_hz"])
+    assert d.lowest_component_hz == pytest.approx(d.pattern_frequency_hz)
     h = opts["hybrid dimming"]
-    assert h["possible"] and 0.1 < h["crossover_level"] < 100  # percent at the JSON edge
+    assert h.possible and 0.001 < h.crossover < 1  # a fraction inside
+    assert h.to_dict()["crossover_level"] == pytest.approx(100 * h.crossover)  # percent in JSON
 
 
 def test_plan_blames_the_minimum_pulse_not_the_resolution():
@@ -107,13 +108,13 @@ def test_plan_blames_the_minimum_pulse_not_the_resolution():
     t = Timer(48e6, (1,), modes=("edge",))
     out = plan(Drive(min_on_time_s=1e-6), parse_targets("low-risk"), timer=t,
                resolution=Resolution(bits=12, min_level=0.001))
-    assert out["feasible"] is False
-    s = out["settings"][0]
-    assert s["counts_per_period"] >= 4096 and not s["reaches_smallest_level"]
-    assert s["minimum_duty"] == pytest.approx(1e-6 * s["frequency_hz"], rel=1e-12)
-    assert "shortest light pulse" in out["verdict"] and "are needed" not in out["verdict"]
+    assert out.feasible is False
+    s = out.settings[0]
+    assert s.setting.counts >= 4096 and not s.reaches_smallest_level
+    assert s.minimum_duty == pytest.approx(1e-6 * s.setting.frequency_hz, rel=1e-12)
+    assert "shortest light pulse" in out.verdict and "are needed" not in out.verdict
     # a faster clock or dithering adds counts, which are not missing; hybrid dimming helps
-    assert [o["option"] for o in out["options"]] == ["hybrid dimming"]
+    assert [o.option for o in out.options] == ["hybrid dimming"]
 
 
 def test_unreachable_and_bad_targets():

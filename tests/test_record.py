@@ -44,17 +44,17 @@ def test_groups_keep_recommended_practice_apart_from_regulation():
     assert "fails at 100, 10 %" in text and "flickerkit plan --target ieee1789-noel" in text
 
 
-def test_decided_by_is_read_defensively():
+def test_decided_by_is_the_verdicts_then_its_reason():
+    from dataclasses import replace
+
     from flickerkit.judgement import decided_by
 
     v = _v("svm", "a", 100.0, "fail", 1.0, 0.4, -0.6)
-    assert decided_by(v) == ""          # no attribute, empty reason
-
-    class WithComponent:
-        status = "fail"
-        reason = "r"
-        decided_by = "harmonic 2 at 200 Hz"
-    assert decided_by(WithComponent()) == "harmonic 2 at 200 Hz"
+    assert decided_by(v) == ""          # nothing named, empty reason
+    assert decided_by(replace(v, reason="r")) == "r"
+    assert decided_by(replace(v, reason="r", decided_by="harmonic 2 at 200 Hz")) \
+        == "harmonic 2 at 200 Hz"
+    assert decided_by(replace(v, status="insufficient data", reason="r")) == ""
 
 
 @pytest.mark.parametrize("value, shown", [(0.1346622585655061, "0.1347"),
@@ -178,10 +178,10 @@ def test_decided_by_names_the_svm_component_from_the_record():
     from .synth import pwm
 
     fs = 200_000.0
-    rec = assess(make_capture(pwm(1234.56, 0.5, 0.0, fs, 0.5), fs, label="sq")).to_dict()
+    rec = assess(make_capture(pwm(1234.56, 0.5, 0.0, fs, 0.5), fs, label="sq"))
     svm = criteria.REGISTRY["gbt50034-svm"]
     v = criteria.judge(rec, svm)
-    (g,) = group([svm], [v], [None], [rec])
+    (g,) = group([svm], [v], [None])
     assert g.criteria[0].decided_by.startswith("component at 1234.6 Hz")
 
 
@@ -340,7 +340,7 @@ def test_ieee_verdict_reason_names_the_fundamental_and_what_decided():
     from flickerkit.assess import assess
     from flickerkit.capture import make_capture
 
-    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="env")).to_dict()
+    rec = assess(make_capture(*_pwm_with_envelope(0.1), label="env"))
     v = criteria.judge(rec, criteria.REGISTRY["ieee1789-low-risk"], level=20.0)
     assert v.status == "fail"
     assert "fundamental mode at 17.3 Hz" not in v.reason
@@ -360,3 +360,20 @@ def test_summary_and_chart_headers_do_not_run_together(demo_record):
     ws = wb["IEEE 1789 chart"]
     for col in "FG":
         assert ws.column_dimensions[col].width >= len(ws[f"{col}1"].value)
+
+
+def test_verdict_grid_names_stand_upright_on_their_own_page(demo_record):
+    # seen on the printed pages (LibreOffice): the grid's capture names sat in the verdict
+    # tables' narrow columns and wrapped mid-name ("ardent12_l / evel010.tx / t"), and the
+    # grid's title was left alone at the foot of page 1
+    from openpyxl import load_workbook
+
+    ws = load_workbook(demo_record / "ardent12_record.xlsx")["Summary"]
+    title = next(c for row in ws.iter_rows() for c in row
+                 if c.value == "Verdict per criterion and capture")
+    heads = [c for c in ws[title.row + 1][1:] if isinstance(c.value, str)]
+    assert len(heads) == 5
+    assert all(c.alignment.text_rotation == 90 for c in heads)
+    longest = max(len(c.value) for c in heads)
+    assert ws.row_dimensions[title.row + 1].height >= 6 * longest  # points: the names fit
+    assert title.row - 1 in [b.id for b in ws.row_breaks.brk]

@@ -29,7 +29,7 @@ def _forms(c, f=F):
 def _record(m, rng):
     """A capture of the sine with random start phase and length."""
     x = sine(F, m, FS, rng.uniform(0.45, 0.6), phase=rng.uniform(0.0, 2 * np.pi))
-    return assess(make_capture(x, FS, label=f"sine {m}")).to_dict()
+    return assess(make_capture(x, FS, label=f"sine {m}"))
 
 
 def test_forms_bracket_the_limit():
@@ -43,9 +43,9 @@ def test_forms_bracket_the_limit():
 def test_verdict_between_the_forms_says_it_depends(seed):
     rec = _record(0.5, np.random.default_rng(seed))
     power, sigmoid = _forms(0.5)
-    assert rec["svm"] == pytest.approx(power, rel=5e-3)
-    assert rec["svm_detail"]["other_threshold"] == "sigmoid"
-    assert rec["svm_detail"]["other_threshold_value"] == pytest.approx(sigmoid, rel=5e-3)
+    assert rec.svm.value == pytest.approx(power, rel=5e-3)
+    assert rec.svm.other_threshold == "sigmoid"
+    assert rec.svm.other_value == pytest.approx(sigmoid, rel=5e-3)
     v = criteria.judge(rec, EU_SVM, level=100, date=AFTER_2024)
     assert v.status == "pass" and v.depends_on_threshold_form
     assert "depends on the threshold form" in v.reason and "sigmoid" in v.threshold_form
@@ -61,7 +61,7 @@ def test_verdict_clear_of_both_forms_is_silent():
     assert "depends" not in v.reason
     # the sigmoid form as the chosen one: the power form is the other
     r2 = assess(make_capture(sine(F, 0.5, FS, 0.5), FS),
-                AssessSettings(svm_threshold="sigmoid")).to_dict()
+                AssessSettings(svm_threshold="sigmoid"))
     v2 = criteria.judge(r2, EU_SVM, level=100, date=AFTER_2024)
     assert v2.status == "fail" and "power form" in v2.threshold_form
 

@@ -11,11 +11,13 @@ from flickerkit.timers import (
 
 from .refdata import rows
 
-#: reference/timer_tables.csv prints 3-4 significant figures: half a unit of the 4th is 5e-4 relative.
+#: reference/timer_tables.csv prints 3-4 significant figures: half a unit of the 4th is 5e-4
+#: relative.
 TABLE_RTOL = 5e-4
 
 
-@pytest.mark.parametrize("row", rows("timer_tables.csv"), ids=lambda r: f"{r['clock_hz']}-{r['bits']}")
+@pytest.mark.parametrize("row", rows("timer_tables.csv"),
+                         ids=lambda r: f"{r['clock_hz']}-{r['bits']}")
 def test_frequency_against_resolution(row):
     clk, n = float(row["clock_hz"]), int(row["bits"])
     assert pwm_frequency(clk, 1, 2**n - 1, "edge") == pytest.approx(float(row["edge_hz"]),

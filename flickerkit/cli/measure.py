@@ -44,7 +44,7 @@ examples:
 
 
 def add_read_options(p: argparse.ArgumentParser) -> None:
-    """Options for reading captures (shared by every command that reads them)."""
+    """Add the options for reading captures (shared by every command that reads them)."""
     g = p.add_argument_group("reading captures")
     g.add_argument("-c", "--column", metavar="NAME|N",
                    help="signal column by header name or 1-based number (WAV: channel); "
@@ -80,6 +80,14 @@ def add_read_options(p: argparse.ArgumentParser) -> None:
 
 
 def read_options(args: argparse.Namespace, quantity: str = "light"):
+    """Check the reading options and build the read options for a ``quantity`` capture.
+
+    Raises
+    ------
+    SettingsError
+        For a sample rate [Hz] out of range, an unknown time unit or a bad
+        channel count.
+    """
     from ..errors import SettingsError
     from ..readers import TIME_UNITS, build_read_options
     from ..readers.units import OPTION_TIME_UNITS
@@ -101,6 +109,7 @@ def read_options(args: argparse.Namespace, quantity: str = "light"):
 
 
 def add_parser(sub) -> None:
+    """Add the ``measure`` command and its options to the subcommand parsers ``sub``."""
     p = sub.add_parser("measure", help=HELP, description=DESCRIPTION,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("captures", nargs="+", metavar="CAPTURE", help="capture files")
@@ -158,7 +167,7 @@ def add_parser(sub) -> None:
 
 
 def _pictures(args, outcomes, settings):
-    """Waveform and spectrum of each measured capture, written to args.pictures."""
+    """Draw the waveform and spectrum of each measured capture into ``args.pictures``."""
     from ..errors import FlickerkitError
     from ..export.figures import (capture_picture_names, capture_pictures, check_picture_names,
                                   trace_of, write_pictures)
@@ -186,7 +195,7 @@ def _pictures(args, outcomes, settings):
 
 
 def add_batch_options(p: argparse.ArgumentParser) -> None:
-    """Options for measuring many captures at once."""
+    """Add the options for measuring many captures at once."""
     g = p.add_argument_group("many captures")
     g.add_argument("-j", "--workers", type=int, metavar="N",
                    help="worker processes (default: one per CPU; 1 = no workers)")
@@ -196,6 +205,13 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    """Measure the captures and print their figures; return the exit status.
+
+    The figures go out as a table or JSON, and to a workbook and pictures
+    when asked. The status is 1 when any capture could not be measured (the
+    others are still reported), else 0; ``--peek`` only shows what would be
+    read.
+    """
     from ..fileio import check_writable
 
     from ..validate import MAX_HARMONICS, check_count
@@ -281,7 +297,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def print_read(records: list[dict]) -> None:
-    """One line per capture on stderr saying what was read."""
+    """Print one line per capture on stderr saying what was read."""
     from ..capture import describe_read
 
     for r in records:
@@ -329,8 +345,11 @@ def peek(paths: list[str], options) -> int:
 
 
 def distinct_records(outcomes) -> tuple[list[dict], list[str]]:
-    """The measured records, each with a label of its own (folders tell equal names apart),
-    and the notes saying which labels were changed and why."""
+    """Return the measured records, each with a label of its own, and notes on the changes.
+
+    Folders tell equal file names apart; each note says which label was
+    changed and why.
+    """
     from ..labels import unique_labels
 
     done = [o for o in outcomes if o.record is not None]
@@ -364,7 +383,7 @@ def calibration_option(value: str | None):
 
 
 def assess_settings(args: argparse.Namespace):
-    """The AssessSettings the options describe (shared by the commands that assess)."""
+    """Build the AssessSettings the options describe (shared by the commands that assess)."""
     from ..assess import AssessSettings
 
     from ..errors import SettingsError
@@ -391,7 +410,8 @@ def run_batch(args: argparse.Namespace, paths: list[str], options, settings, *,
               on_result=None):
     """Measure ``paths`` with the batch options; report progress and interruption.
 
-    ``on_result`` is called with each outcome as it arrives, in input order."""
+    ``on_result`` is called with each outcome as it arrives, in input order.
+    """
     from ..batch import measure_many
 
     bar = None
@@ -427,7 +447,7 @@ class _Interrupted(KeyboardInterrupt):
 
 
 def settings_record(args: argparse.Namespace, settings=None) -> dict:
-    """The settings a workbook records."""
+    """Return the settings a workbook records, by name."""
     from ..flickermeter import get_calibration
     from ..svm import DEFAULT_F_MAX_HZ, THRESHOLDS
 
@@ -472,7 +492,7 @@ def settings_record(args: argparse.Namespace, settings=None) -> dict:
 
 
 def summary_table(records: list[dict]) -> str:
-    """Terminal table of measured captures, then their warnings."""
+    """Write the terminal table of measured captures, then their notes and warnings."""
     from ..export.table import fmt, render
 
     headers = ["capture", "f [Hz]", "percent flicker [%]", "flicker index", "IEEE 1789",
@@ -498,7 +518,7 @@ def summary_table(records: list[dict]) -> str:
 
 
 def decided_line(r: dict) -> str:
-    """A note line when a modulation other than the standard's reading decided IEEE 1789."""
+    """Write a note line when a modulation other than the standard's reading decided IEEE 1789."""
     ieee = r.get("ieee1789") or {}
     by = ieee.get("decided_by") or ""
     if not by.startswith(("component", "band")):
@@ -512,7 +532,7 @@ def decided_line(r: dict) -> str:
 
 
 def _modulation_lines(records: list[dict]) -> str:
-    """One line each for what decided IEEE 1789, unrelated modulations and edge figures."""
+    """Write a line each for what decided IEEE 1789, unrelated modulations and edge figures."""
     out = ""
     for r in records:
         out += decided_line(r)
@@ -528,7 +548,7 @@ def _modulation_lines(records: list[dict]) -> str:
 
 
 def _method_lines(records: list[dict]) -> str:
-    """Which SVM threshold and Pst LM calibration produced the figures."""
+    """Write which SVM threshold and Pst LM calibration produced the figures."""
     from ..flickermeter import CALIBRATIONS
 
     out = ""
@@ -547,7 +567,7 @@ def _method_lines(records: list[dict]) -> str:
 
 
 def voltage_table(records: list[dict]) -> str:
-    """Terminal table of mains voltage captures (supply Pst), then their warnings."""
+    """Write the terminal table of mains voltage captures (supply Pst), then their warnings."""
     from ..export.table import fmt, render
 
     headers = ["capture", "mains [Hz]", "RMS", "lamp", "Pst", "Pinst,max", "observed [s]"]

@@ -3,8 +3,12 @@
 from __future__ import annotations
 
 import argparse
+from typing import TYPE_CHECKING
 
 from ._driveopts import add_drive_options
+
+if TYPE_CHECKING:  # pragma: no cover - types only (planner imports numpy)
+    from ..planner import Plan
 
 HELP = "lowest PWM frequency meeting flicker targets, and the timer settings that give it"
 
@@ -40,6 +44,7 @@ examples:
 
 
 def add_parser(sub) -> None:
+    """Add the ``plan`` command and its options to the subcommand parsers ``sub``."""
     p = sub.add_parser("plan", help=HELP, description=DESCRIPTION,
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("-t", "--target", required=True, metavar="TARGETS",
@@ -101,12 +106,23 @@ def _range(text: str):
 
 
 def run(args: argparse.Namespace) -> int:
+    """Plan the PWM frequency and timer setting the options ask for; return the exit status.
+
+    The plan is printed as text or JSON, and written to a workbook and
+    pictures when asked; a note on stderr says that it models the light.
+
+    Raises
+    ------
+    SettingsError
+        For an option out of range or timer options without ``--clock-mhz``.
+    """
     from ..errors import SettingsError
     from ..fileio import check_writable
     from ._driveopts import drive_from_args
 
     if args.xlsx:
         check_writable(args.xlsx, force=args.force)
+    from ..levels import fraction
     from ..planner import Resolution, default_levels, parse_targets, plan
     from ..timers import Timer
 
@@ -116,7 +132,7 @@ def run(args: argparse.Namespace) -> int:
         raise SettingsError(f"--min-level must lie in (0, 100] %, got {args.min_level:g}")
     args.frequency = None
     drive = drive_from_args(args)
-    res = Resolution(bits=args.bits, min_level=args.min_level / 100.0,
+    res = Resolution(bits=args.bits, min_level=fraction(args.min_level),
                      max_step=None if args.max_step is None else args.max_step / 100.0)
     timer = None
     pres = None
@@ -143,62 +159,67 @@ def run(args: argparse.Namespace) -> int:
     from ..planner import DEFAULT_TOLERANCE, check_tolerance
 
     tol = DEFAULT_TOLERANCE if args.tolerance is None else check_tolerance(args.tolerance / 100)
-    out = plan(drive, targets, levels=levels, range_hz=rng, timer=timer, prescalers=pres,
-               resolution=res, tolerance=tol)
+    result = plan(drive, targets, levels=levels, range_hz=rng, timer=timer, prescalers=pres,
+                  resolution=res, tolerance=tol)
     from ._driveopts import emit
 
     from ..export.modelbooks import plan_pictures, write_plan_workbook
 
-    return emit(args, out, text, write_plan_workbook,
+    # the JSON edge gets result.to_dict(); the text, workbook and pictures read the typed plan
+    return emit(args, result.to_dict(), lambda _json: text(result),
+                lambda path, _json, **kw: write_plan_workbook(path, result, **kw),
                 "modelled light: verify the chosen setting by measuring the product.",
-                draw=plan_pictures)
+                draw=lambda _json: plan_pictures(result))
 
 
-def text(out: dict) -> str:
+def text(p: Plan) -> str:
+    """Write the plan as text for the terminal."""
     from ..export.table import fmt, render
+    from ..levels import percent
 
-    s = [f"drive: {out['drive']}",
-         f"targets: {', '.join(out['targets'])} at levels {min(out['levels']):.3g} % to "
-         f"100 %",
+    s = [f"drive: {p.drive}",
+         f"targets: {', '.join(t.name for t in p.targets)} at levels "
+         f"{percent(min(p.levels)):.3g} % to 100 %",
          f"lowest PWM frequency meeting all targets on an exact clock: "
-         f"{out['lowest_frequency_hz']:.6g} Hz"]
-    tol = out.get("tolerance_percent", 0.0)
-    if out.get("recommended_frequency_hz") is not None:
-        lo, hi = out["recommended_band_hz"]
-        s.append(f"recommended PWM frequency: {out['recommended_frequency_hz']:.6g} Hz (the "
+         f"{p.lowest_frequency_hz:.6g} Hz"]
+    tol = 100.0 * p.tolerance
+    if p.recommended_frequency_hz is not None and p.recommended_band_hz is not None:
+        lo, hi = p.recommended_band_hz
+        s.append(f"recommended PWM frequency: {p.recommended_frequency_hz:.6g} Hz (the "
                  f"whole +-{tol:g} % clock tolerance band, {lo:.6g} to {hi:.6g} Hz, meets "
                  f"the targets)")
-    for a in out.get("abrupt_changes", ()):
-        fig = ((lambda v: f"SVM {v:.3g}") if a["target"] == "svm" else (lambda v: str(v)))
-        where = ("inside the recommended band" if a["inside_band"] else
-                 f"{a['offset_percent']:+.2g} % from the recommended frequency")
-        s.append(f"  abrupt change at {a['frequency_hz']:.6g} Hz ({where}): {a['cause']}; "
-                 f"worst level {fig(a['figure_below'])} just below, "
-                 f"{fig(a['figure_at'])} at it, {fig(a['figure_above'])} just above")
-    f = out["frequency"]
-    if f.get("limiting_level") is not None:
-        s.append(f"  (just below it, level {f['limiting_level']:.3g} % fails "
-                 f"{f['limiting_target']})")
-    if f.get("isolated_passing_below_hz"):
-        s.append(f"  note: some lower frequencies (from {min(f['isolated_passing_below_hz']):.3g} "
+    for a in p.abrupt_changes:
+        fig = ((lambda v: f"SVM {v:.3g}") if a.target == "svm" else (lambda v: str(v)))
+        where = ("inside the recommended band" if a.inside_band else
+                 f"{a.offset_percent:+.2g} % from the recommended frequency")
+        s.append(f"  abrupt change at {a.frequency_hz:.6g} Hz ({where}): {a.cause}; "
+                 f"worst level {fig(a.figure_below)} just below, "
+                 f"{fig(a.figure_at)} at it, {fig(a.figure_above)} just above")
+    f = p.frequency
+    if f.limiting_level is not None:
+        s.append(f"  (just below it, level {percent(f.limiting_level):.3g} % fails "
+                 f"{f.limiting_target})")
+    if f.passing_below_hz:
+        s.append(f"  note: some lower frequencies (from {min(f.passing_below_hz):.3g} "
                  f"Hz) pass these targets but higher ones fail; not recommended")
-    if len(out["per_target"]) > 1:
-        for r in out["per_target"]:
-            s.append(f"  {r['targets'][0]}: from {fmt(r['frequency_hz'], '.6g')} Hz")
-    s.append(f"resolution needed: {out['resolution']['need']} "
-             f"({out['resolution']['counts_needed']} counts)")
-    if out["settings"]:
-        rows = [[r["mode"], str(r["prescaler"]), str(r["top"]), fmt(r["frequency_hz"], ".6g"),
-                 fmt(r["bits"], ".2f"), fmt(r["duty_step"] * 100, ".3g"),
-                 fmt(r["minimum_duty"] * 100, ".3g"), ", ".join(r["meets"]) or "none"]
-                for r in out["settings"]]
+    if len(p.per_target) > 1:
+        for r in p.per_target:
+            s.append(f"  {r.targets[0].name}: from {fmt(r.frequency_hz, '.6g')} Hz")
+    s.append(f"resolution needed: {p.resolution.describe()} "
+             f"({p.resolution.counts} counts)")
+    if p.settings:
+        rows = [[r.setting.mode, str(r.setting.prescaler), str(r.setting.top),
+                 fmt(r.setting.frequency_hz, ".6g"), fmt(r.setting.bits, ".2f"),
+                 fmt(r.setting.duty_step * 100, ".3g"), fmt(r.minimum_duty * 100, ".3g"),
+                 ", ".join(r.meets) or "none"]
+                for r in p.settings]
         s.append("")
         s.append(render(["Mode", "Prescaler", "TOP", "Frequency [Hz]", "Bits",
                          "Duty step [%]", "Min duty [%]", "Meets"], rows,
                         right=[False] + [True] * 6 + [False]).rstrip())
-    if out.get("verdict"):
+    if p.verdict:
         s.append("")
-        s.append(out["verdict"])
-    for o in out["options"]:
-        s.append(f"  option, {o['option']}: {o['cost']}")
+        s.append(p.verdict)
+    for o in p.options:
+        s.append(f"  option, {o.option}: {o.cost}")
     return "\n".join(s) + "\n"

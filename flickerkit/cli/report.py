@@ -30,7 +30,7 @@ examples:
 
 
 def add_picture_option(p) -> None:
-    """The option that asks for pictures (shared by measure, report, drive and plan)."""
+    """Add the option that asks for pictures (shared by measure, report, drive and plan)."""
     p.add_argument("--pictures", metavar="FOLDER",
                    help="also draw the pictures (waveform and spectrum per capture, IEEE 1789 "
                         "chart, metrics against level) as PNG and SVG files in FOLDER, and "
@@ -38,6 +38,7 @@ def add_picture_option(p) -> None:
 
 
 def add_parser(sub) -> None:
+    """Add the ``report`` command and its options to the subcommand parsers ``sub``."""
     from .measure import add_batch_options
 
     p = sub.add_parser("report", help=HELP, description=DESCRIPTION,
@@ -60,6 +61,17 @@ def add_parser(sub) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    """Judge a project's captures, write the workbook, and print the verdicts.
+
+    Returns the exit status: 1 when a capture could not be measured, else 0.
+    The workbook (and pictures, PDF) are written only when at least one
+    capture was measured; the caution goes out after the verdicts.
+
+    Raises
+    ------
+    SettingsError, InputError
+        For a bad option or project, or when no capture could be measured.
+    """
     from ..errors import SettingsError
     from ..fileio import check_writable
 
@@ -153,7 +165,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def project_inputs(project) -> list[str]:
-    """Every file a project names (captures, their dark captures, criteria file)."""
+    """Return every file a project names (captures, their dark captures, criteria file)."""
     out = [str(project.path)] + [str(e.file) for e in project.captures]
     base = project.path.parent if project.path.is_file() else project.path
     for e in project.captures:
@@ -166,6 +178,7 @@ def project_inputs(project) -> list[str]:
 
 
 def verdict_table(report) -> str:
+    """Write a report's verdicts as terminal tables: per kind, what limits, every verdict."""
     from ..export.table import fmt, render
 
     prod = report.project.product

@@ -123,7 +123,7 @@ def add_parser(sub) -> None:
 
 
 def _same_path(a: str, b: str) -> bool:
-    """Whether two spellings name one file (resolved paths; device and inode if it exists)."""
+    """Tell whether two spellings name one file (resolved paths; device and inode if it exists)."""
     import os
     from pathlib import Path
 

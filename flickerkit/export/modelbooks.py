@@ -8,12 +8,15 @@ those of the model as described, not of a built product.
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any, Sequence
+from typing import TYPE_CHECKING, Any, Sequence
 
 from .. import __version__
 from ..fileio import write_with
 from .workbook import (CAUTION, add_pictures, fit_rows, lookup, print_setup, put, set_properties,
                        write_rows)
+
+if TYPE_CHECKING:  # pragma: no cover - types only
+    from ..planner import Plan
 
 _MODEL_NOTE = ("Modelled light: figures hold for the model as described; measure the built "
                "product.")
@@ -94,7 +97,8 @@ def write_sweep_workbook(path: str | Path, out: dict[str, Any], *, force: bool =
     write_rows(ss, ["Setting", "Value"], [["flickerkit version", __version__],
                                           ["command", "drive"], ["drive", out["drive"]]],
                widths=[30, 60])
-    return _finish(wb, ss, out, path, force, pictures, ("flickerkit dimming sweep",
+    return _finish(wb, ss, str(out.get("drive", "")), path, force, pictures,
+                   ("flickerkit dimming sweep",
                    "Modelled temporal light modulation per level",
                    "Dimming sweep (modelled light)"))
 
@@ -103,26 +107,32 @@ def write_sweep_workbook(path: str | Path, out: dict[str, Any], *, force: bool =
 FREQUENCY_FORMAT = "0.00"
 
 
-def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = False,
+def write_plan_workbook(path: str | Path, plan: Plan, *, force: bool = False,
                         pictures: Sequence[Any] | None = None) -> Path:
-    """Write the ``plan`` result as a workbook, atomically."""
+    """Write a plan (:class:`flickerkit.planner.Plan`) as a workbook, atomically.
+
+    Levels are shown in percent, as the JSON gives them.
+    """
     from openpyxl import Workbook
     from openpyxl.styles import Alignment
+
+    from ..levels import percent
 
     wrap = Alignment(wrap_text=True, vertical="top")
     wb = Workbook()
     ws = wb.active
     ws.title = "Plan"
-    rows = [["Drive", out["drive"]], ["Targets", ", ".join(out["targets"])],
-            ["Lowest frequency, exact clock [Hz]", out["lowest_frequency_hz"]],
-            ["Clock tolerance [+- %]", out.get("tolerance_percent")],
-            ["Recommended frequency [Hz]", out.get("recommended_frequency_hz")],
-            ["Smallest level [%]", min(out["levels"])],
-            ["Resolution needed", out["resolution"]["need"]],
-            ["Counts needed", out["resolution"]["counts_needed"]],
-            ["Verdict", out.get("verdict")]]
-    rows += [[f"Lowest frequency for {r['targets'][0]} [Hz]", r["frequency_hz"]]
-             for r in out["per_target"]]
+    rows: list[list[Any]] = [
+            ["Drive", plan.drive], ["Targets", ", ".join(t.name for t in plan.targets)],
+            ["Lowest frequency, exact clock [Hz]", plan.lowest_frequency_hz],
+            ["Clock tolerance [+- %]", 100.0 * plan.tolerance],
+            ["Recommended frequency [Hz]", plan.recommended_frequency_hz],
+            ["Smallest level [%]", percent(min(plan.levels))],
+            ["Resolution needed", plan.resolution.describe()],
+            ["Counts needed", plan.resolution.counts],
+            ["Verdict", plan.verdict]]
+    rows += [[f"Lowest frequency for {r.targets[0].name} [Hz]", r.frequency_hz]
+             for r in plan.per_target]
     last = write_rows(ws, ["Item", "Value"], rows, widths=[40, 60])
     for row in ws.iter_rows(min_row=2):
         row[1].alignment = wrap
@@ -133,13 +143,13 @@ def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = 
     fit_rows(ws)
     _notes(ws, last + 2, [CAUTION, "Modelled light: verify the chosen setting by measuring "
                                    "the product."], 2)
-    cols = ["mode", "prescaler", "top", "frequency_hz", "counts_per_period", "bits", "duty_step",
-            "tick_s", "minimum_duty", "minimum_count", "meets"]
     heads = ["Mode", "Prescaler", "TOP", "Frequency [Hz]", "Counts per period", "Bits",
              "Duty step [1]", "Tick [s]", "Minimum duty [1]", "Minimum count", "Meets"]
     ts = wb.create_sheet("Timer settings")
-    write_rows(ts, heads, [[", ".join(r[c]) if c == "meets" else r[c] for c in cols]
-                           for r in out["settings"]],
+    write_rows(ts, heads, [[r.setting.mode, r.setting.prescaler, r.setting.top,
+                            r.setting.frequency_hz, r.setting.counts, r.setting.bits,
+                            r.setting.duty_step, r.setting.tick_s, r.minimum_duty,
+                            r.minimum_count, ", ".join(r.meets)] for r in plan.settings],
                widths=[8, 9, 8, 12, 10, 7, 10, 10, 10, 9, 30])
     for c in ts[1]:
         c.alignment = wrap
@@ -149,9 +159,9 @@ def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = 
     ab = wb.create_sheet("Abrupt changes")
     write_rows(ab, ["PWM frequency [Hz]", "Target", "Cause", "Worst just below", "Worst at",
                     "Worst just above", "Inside recommended band"],
-               [[a["frequency_hz"], a["target"], a["cause"], a["figure_below"], a["figure_at"],
-                 a["figure_above"], "yes" if a["inside_band"] else "no"]
-                for a in out.get("abrupt_changes", ())], widths=[12, 9, 50, 11, 11, 11, 11])
+               [[a.frequency_hz, a.target, a.cause, a.figure_below, a.figure_at,
+                 a.figure_above, "yes" if a.inside_band else "no"]
+                for a in plan.abrupt_changes], widths=[12, 9, 50, 11, 11, 11, 11])
     for row in ab.iter_rows(min_row=1):
         for c in row:
             c.alignment = wrap
@@ -159,25 +169,29 @@ def write_plan_workbook(path: str | Path, out: dict[str, Any], *, force: bool = 
         row[0].number_format = FREQUENCY_FORMAT
     fit_rows(ab)
     os_ = wb.create_sheet("Options")
-    write_rows(os_, ["Option", "Cost"], [[o["option"], o["cost"]] for o in out["options"]],
+    write_rows(os_, ["Option", "Cost"], [[o.option, o.cost] for o in plan.options],
                widths=[30, 100])
     for row in os_.iter_rows(min_row=2):
         for c in row:
             c.alignment = wrap
     fit_rows(os_)
     ss = wb.create_sheet("Inputs and settings")
+    timer = plan.to_dict()["timer"]  # shown as the JSON gives it
     write_rows(ss, ["Setting", "Value"],
                [["flickerkit version", __version__], ["command", "plan"],
-                ["range [Hz]", f"{out['range_hz'][0]:g}..{out['range_hz'][1]:g}"],
-                ["timer", str(out["timer"])]], widths=[30, 60])
-    return _finish(wb, ss, out, path, force, pictures, ("flickerkit frequency plan",
+                ["range [Hz]", f"{plan.range_hz[0]:g}..{plan.range_hz[1]:g}"],
+                ["timer", str(timer)]], widths=[30, 60])
+    return _finish(wb, ss, plan.drive, path, force, pictures, ("flickerkit frequency plan",
                    "PWM frequency and timer plan", "PWM frequency plan"))
 
 
-def _finish(wb, settings_sheet, out: dict[str, Any], path: str | Path, force: bool,
+def _finish(wb, settings_sheet, product: str, path: str | Path, force: bool,
             pictures: Sequence[Any] | None, titles: tuple[str, str, str]) -> Path:
-    """Wrap the settings sheet, add the pictures, set properties and page set-up, and write
-    the workbook atomically; ``titles`` are (title, subject, printed document name)."""
+    """Finish a model workbook and write it atomically.
+
+    Wraps the settings sheet, adds the pictures and sets the properties and
+    page set-up; ``titles`` are (title, subject, printed document name).
+    """
     from openpyxl.styles import Alignment
 
     wrap = Alignment(wrap_text=True, vertical="top")
@@ -188,12 +202,12 @@ def _finish(wb, settings_sheet, out: dict[str, Any], path: str | Path, force: bo
         add_pictures(wb, pictures)
     title, subject, document = titles
     set_properties(wb, title, subject)
-    print_setup(wb, product=str(out.get("drive", "")), document=document)
+    print_setup(wb, product=product, document=document)
     return write_with(path, lambda tmp: wb.save(tmp), force=force)
 
 
 def sweep_pictures(out: dict[str, Any]) -> list[Any]:
-    """The sweep's IEEE 1789 chart and metrics against level (per product)."""
+    """Draw the sweep's IEEE 1789 chart and its metrics against level (per product)."""
     from .figures import ieee_figure, levels_figure, render
 
     recs = [{**r, "label": r.get("label") or f"level {r['level']:.4g} %"}
@@ -205,7 +219,7 @@ def sweep_pictures(out: dict[str, Any]) -> list[Any]:
 
 
 def sweep_limits() -> list[tuple[str, float, str]]:
-    """Limit lines of the sweep's threshold criteria (``svm<=0.9``...), as the sweep judges them."""
+    """Return the limit lines (metric, limit, name) of the sweep's threshold criteria."""
     from ..sweep import CRITERIA
 
     out = []
@@ -216,11 +230,12 @@ def sweep_limits() -> list[tuple[str, float, str]]:
     return out
 
 
-def plan_pictures(out: dict[str, Any]) -> list[Any]:
-    """The plan's timer settings against the lowest frequency and the resolution needed."""
+def plan_pictures(plan: Plan) -> list[Any]:
+    """Draw the plan's timer settings against the lowest frequency and the resolution needed."""
     from .figures import plan_figure, render
 
-    return [render(plan_figure(out), "frequency_plan", "Pictures", "frequency plan")]
+    # the picture is drawn from the plan's JSON object, as the other pictures are
+    return [render(plan_figure(plan.to_dict()), "frequency_plan", "Pictures", "frequency plan")]
 
 
 __all__ = ["SWEEP_COLUMNS", "plan_pictures", "sweep_pictures", "write_plan_workbook",

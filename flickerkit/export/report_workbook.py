@@ -171,18 +171,28 @@ def write_report_workbook(path: str | Path, report, *, force: bool = False,
     c.alignment = wrap
     ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=len(heads))
     r += 2
+    # the grid starts a printed page: its upright header row is tall, and a page break
+    # inside it would leave the title alone at the foot of the page before
+    from openpyxl.worksheet.pagebreak import Break
+
+    ws.row_breaks.append(Break(id=r - 1))
     put(ws, r, 1, "Verdict per criterion and capture").font = Font(bold=True, size=12)
     r += 1
     labels = list(dict.fromkeys(v.label for v in report.verdicts))
     by_key = {(v.criterion, v.label): v for v in report.verdicts}
     put(ws, r, 1, "Criterion").font = bold
     rec_level = {rec["label"]: rec.get("level") for rec in report.records}
+    # the capture names turned upright: the columns are the verdict tables' (narrow ones
+    # among them), and a name such as "ardent12_level010.txt" has no space to wrap at
+    longest = 0
     for j, label in enumerate(labels, start=2):
         lv = rec_level.get(label)
         head = f"{label}" + (f" ({lv:g} %)" if isinstance(lv, (int, float)) else "")
         h = put(ws, r, j, head)
         h.font = bold
-        h.alignment = wrap
+        h.alignment = Alignment(text_rotation=90, horizontal="center", vertical="bottom")
+        longest = max(longest, len(str(h.value)))
+    ws.row_dimensions[r].height = min(GRID_HEAD_MAX_PT, GRID_HEAD_PT_PER_CHAR * longest + 8)
     for crit in report.criteria:
         r += 1
         put(ws, r, 1, f"{crit.title} [{crit.id}]").alignment = wrap
@@ -336,6 +346,12 @@ def _product_line(prod: dict) -> str:
     """Product name, and the model when both fit a page header's third."""
     line = " ".join(str(prod[k]) for k in ("name", "model") if prod.get(k))
     return line if len(line) <= 40 else str(prod.get("name", line))
+
+
+#: Height of the verdict grid's upright capture names: points per character (bold, 10 pt)
+#: and the most a header row takes [pt].
+GRID_HEAD_PT_PER_CHAR = 6.5
+GRID_HEAD_MAX_PT = 220.0
 
 
 def _ieee_chart_sheet(wb, records) -> str:

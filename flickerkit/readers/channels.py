@@ -28,7 +28,7 @@ def channel_of(data: np.ndarray, options: ReadOptions, name: str,
 
 
 def unnamed_choice(count: int, options: ReadOptions, name: str, what: str) -> list[str]:
-    """Warnings when the first of several channels of a binary file is taken unnamed.
+    """Return the warnings when the first of several channels of a binary file is taken unnamed.
 
     It may be the gate drive, not the light; when the choice is required
     (``require_column``) it is refused instead.

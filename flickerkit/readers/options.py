@@ -128,7 +128,7 @@ def build_read_options(*, column: str | int | None = None, sample_rate_hz: float
 
 
 def streams(n: int, options: ReadOptions) -> bool:
-    """Whether a binary capture of ``n`` samples is read block by block (see ``stream``)."""
+    """Tell whether a binary capture of ``n`` samples is read block by block (see ``stream``)."""
     return bool(options.stream) or (options.stream is None and n > STREAM_ABOVE_SAMPLES)
 
 

@@ -59,7 +59,7 @@ def _fixed_rate(lay: TableLayout, n: int) -> float:
 
 
 def _plausible(fs: float, lay: TableLayout, name: str) -> list[str]:
-    """Warnings on a slow sample rate ``fs`` [Hz]; refuse one that cannot be light.
+    """Warn of a slow sample rate ``fs`` [Hz]; refuse one that cannot be light.
 
     A rate from a time base without a unit that is too slow for light is
     refused; a slow one with a unit, or a unitless one below 10 kHz, is warned about.

@@ -18,7 +18,7 @@ SAMPLE_RATE_RANGE_HZ = (1e-6, 1e12)
 
 
 def check_rate(fs: float, name: str) -> float:
-    """``fs`` [Hz] if within :data:`SAMPLE_RATE_RANGE_HZ`; else refused (a wrong time unit)."""
+    """Return ``fs`` [Hz] if in :data:`SAMPLE_RATE_RANGE_HZ`; else refuse it (wrong time unit)."""
     lo, hi = SAMPLE_RATE_RANGE_HZ
     if not np.isfinite(fs) or not lo <= fs <= hi:
         raise InputError(f"the time column gives a sample rate of {fs:.3g} Hz, outside "
@@ -34,7 +34,7 @@ def uniform(t: np.ndarray, x: np.ndarray, resample: bool, name: str,
 
 
 def _worst_deviation(t: np.ndarray, fs: float, block: int = 1 << 20) -> tuple[int, float]:
-    """Index and size of the largest departure of ``t`` from a uniform grid [sample intervals].
+    """Return where and how far ``t`` departs most from a uniform grid [sample intervals].
 
     Worked in blocks so a long time column needs no full-length temporaries.
     """
