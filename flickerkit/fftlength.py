@@ -53,12 +53,15 @@ def fft_cost(lengths) -> np.ndarray:
         return _fft_cost(n)
     # a batch of short captures asks again and again about lengths near its capture length
     keys = n.ravel().tolist()
-    new = [k for k in dict.fromkeys(keys) if k not in _COSTS]
+    known = {k: _COSTS.get(k) for k in keys}  # read once: safe if another thread clears it
+    new = [k for k, v in known.items() if v is None]
     if new:
-        if len(_COSTS) + len(new) > _COSTS_KEPT:
+        got = dict(zip(new, _fft_cost(np.array(new, dtype=np.int64)).tolist()))
+        known.update(got)
+        if len(_COSTS) + len(got) > _COSTS_KEPT:
             _COSTS.clear()
-        _COSTS.update(zip(new, _fft_cost(np.array(new, dtype=np.int64)).tolist()))
-    return np.array([_COSTS[k] for k in keys], dtype=np.float64).reshape(n.shape)
+        _COSTS.update(got)
+    return np.array([known[k] for k in keys], dtype=np.float64).reshape(n.shape)
 
 
 #: :func:`fft_cost` keeps the costs of the lengths it was asked about, when asked about at
