@@ -420,9 +420,9 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
         for i, folds in zip(suspects, _aliases_of_harmonics(
                 [comps[i] for i in suspects], f0, u0, sample_rate_hz, tv)):
             if folds:
-                c = comps[i]
-                comps[i] = Component(c.frequency_hz, c.amplitude, c.uncertainty_hz,
-                                     "possible alias", c.harmonic, c.order)
+                was = comps[i]
+                comps[i] = Component(was.frequency_hz, was.amplitude, was.uncertainty_hz,
+                                     "possible alias", was.harmonic, was.order)
     out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
     return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
 
