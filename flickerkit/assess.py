@@ -523,9 +523,11 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     harmonics: list[Harmonic] = []
     bins = spec.harmonic_bins()
     shown = bins[: settings.harmonics]
-    for order, (b, ph) in enumerate(zip(shown, spec.phase_at(shown)), start=1):
-        harmonics.append(Harmonic(order, float(spec.frequencies_at(b)),
-                                  float(spec.amplitudes[b]), float(np.degrees(ph))))
+    # whole arrays, then Python floats: the same values as one numpy scalar at a time
+    for order, (f_h, a_h, deg) in enumerate(zip(
+            spec.frequencies_at(shown).tolist(), spec.amplitudes[shown].tolist(),
+            np.degrees(spec.phase_at(shown)).tolist()), start=1):
+        harmonics.append(Harmonic(order, f_h, a_h, deg))
 
     cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))
     filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
