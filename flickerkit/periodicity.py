@@ -11,6 +11,7 @@ the segment, so a capture of any length costs one FFT of the segment.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -290,16 +291,20 @@ def _one_blas_thread():
     every BLAS thread they take 100x longer when the machine is busy (threads
     wait for each other) and gain nothing when it is idle.
     """
+    import sys
+
     global _CONTROLLER
-    if _CONTROLLER is None:  # finding the loaded libraries costs ~0.3 ms: once per process
+    # finding the loaded libraries costs ~0.3 ms: again only when modules were imported since
+    # (an import may load another BLAS, scipy's), so a batch's worker finds them once
+    if _CONTROLLER is None or _CONTROLLER[0] != len(sys.modules):
         from threadpoolctl import ThreadpoolController  # type: ignore[import-untyped]  # no stubs
 
-        _CONTROLLER = ThreadpoolController()
-    return _CONTROLLER.limit(limits=1, user_api="blas")
+        _CONTROLLER = (len(sys.modules), ThreadpoolController())
+    return _CONTROLLER[1].limit(limits=1, user_api="blas")
 
 
-#: The process's thread-pool controller, made on first use (numpy's BLAS is loaded by then).
-_CONTROLLER = None
+#: The thread-pool controller and the number of modules loaded when it was made.
+_CONTROLLER: tuple[int, Any] | None = None
 
 
 def _minimise_bounded(f, a: float, b: float, xatol: float,
