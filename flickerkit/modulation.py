@@ -389,7 +389,9 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     if template is not None and period_samples is not None and period_samples > 0:
         h_min = int(np.floor(period_samples / 2.0)) + 1
         alias_bound = total_variation(template) / (np.pi * h_min)
-    comps: list[Component] = []
+    # rows of [frequency, amplitude, uncertainty, kind, harmonic], made Components once at
+    # the end (a frozen dataclass costs a microsecond to make)
+    rows: list[list] = []
     fit: list[float] = []
     for i in keep:
         f = pos[i] * df
@@ -402,27 +404,26 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
                       and abs(bins[i] - hh * spectrum.whole_periods) <= 1)
             if hh >= 1 and (on_bin or abs(f - hh * f0) <= u + EDGE_RTOL * hh * f0):
                 kind, h, f, u = "harmonic", hh, hh * f0, EDGE_RTOL * hh * f0
-        comps.append(Component(float(f), amp[i], float(u), kind, h, order=None))
+        rows.append([float(f), amp[i], float(u), kind, h])
         fit.append(pos[i] * df)
     # the period estimate's own error shows as the fundamental's offset from h = 1
     u0 = EDGE_RTOL * f0 if f0 else 0.0
-    for comp, f_fit in zip(comps, fit):
-        if comp.harmonic == 1:
-            u0 = max(u0, 2.0 * abs(f_fit - comp.frequency_hz))
+    for row, f_fit in zip(rows, fit):
+        if row[4] == 1:
+            u0 = max(u0, 2.0 * abs(f_fit - row[0]))
     if f0:
-        # Component(...) rather than dataclasses.replace: a tenth of the cost, same fields
-        comps = [Component(c.frequency_hz, c.amplitude, c.harmonic * u0, c.kind, c.harmonic,
-                           c.order) if c.harmonic else c for c in comps]
+        for row in rows:
+            if row[4]:
+                row[2] = row[4] * u0
         tv = (alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1)
               if alias_bound and period_samples else 0.0)
-        suspects = [i for i, c in enumerate(comps)
-                    if c.kind == "unrelated" and c.amplitude <= alias_bound]
-        for i, folds in zip(suspects, _aliases_of_harmonics(
-                [comps[i] for i in suspects], f0, u0, sample_rate_hz, tv)):
+        suspects = [row for row in rows if row[3] == "unrelated" and row[1] <= alias_bound]
+        for row, folds in zip(suspects, _aliases_of_harmonics(
+                [r[0] for r in suspects], [r[1] for r in suspects], [r[2] for r in suspects],
+                f0, u0, sample_rate_hz, tv)):
             if folds:
-                was = comps[i]
-                comps[i] = Component(was.frequency_hz, was.amplitude, was.uncertainty_hz,
-                                     "possible alias", was.harmonic, was.order)
+                row[3] = "possible alias"
+    comps = [Component(f, a, u, kind, h, order=None) for f, a, u, kind, h in rows]
     out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
     return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
 
@@ -432,8 +433,8 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
 _ALIAS_TABLE = 2**20
 
 
-def _aliases_of_harmonics(comps: list[Component], f0: float, u0: float, fs: float,
-                          tv: float) -> list[bool]:
+def _aliases_of_harmonics(freqs: list[float], amps: list[float], uncs: list[float],
+                          f0: float, u0: float, fs: float, tv: float) -> list[bool]:
     """Return, per component, whether a large enough harmonic above Nyquist folds onto it.
 
     Harmonic h of a period with total variation V has at most ``V / (pi h)``; it lands at
@@ -441,27 +442,28 @@ def _aliases_of_harmonics(comps: list[Component], f0: float, u0: float, fs: floa
     tried for a component of amplitude C run from the first above Nyquist to
     ``floor(V / (pi C))`` (at most 200,000 of them). Their folded frequencies are formed
     once for all components and compared as a table of components x harmonics, a few rows
-    at a time.
+    at a time. ``freqs``, ``amps`` and ``uncs`` are the components' frequencies [Hz],
+    amplitudes relative to the mean [unitless] and frequency uncertainties [Hz].
     """
-    if not comps:
+    if not freqs:
         return []
     h_min = int(np.floor(fs / (2.0 * f0))) + 1
-    tops = [int(min(np.floor(tv / (np.pi * c.amplitude)) if c.amplitude > 0 else h_min,
-                    h_min + 200_000)) for c in comps]
+    tops = [int(min(np.floor(tv / (np.pi * a)) if a > 0 else h_min, h_min + 200_000))
+            for a in amps]
     top = max(tops)
     if top < h_min:
-        return [False] * len(comps)
+        return [False] * len(freqs)
     h = np.arange(h_min, top + 1, dtype=np.float64)
     fh = h * f0
     folded = np.abs(fh - np.round(fh / fs) * fs)
     reach = h * u0
-    out = [False] * len(comps)
+    out = [False] * len(freqs)
     live = [i for i, t in enumerate(tops) if t >= h_min]
     rows = max(1, _ALIAS_TABLE // h.size)
     for a in range(0, len(live), rows):
         sel = live[a: a + rows]
-        f = np.array([comps[i].frequency_hz for i in sel])[:, None]
-        u = np.array([comps[i].uncertainty_hz for i in sel])[:, None]
+        f = np.array([freqs[i] for i in sel])[:, None]
+        u = np.array([uncs[i] for i in sel])[:, None]
         last = np.array([tops[i] - h_min for i in sel])[:, None]  # each its own h_max
         hit = (np.abs(folded - f) <= u + reach) & (np.arange(h.size) <= last)
         for i, any_hit in zip(sel, hit.any(axis=1).tolist()):

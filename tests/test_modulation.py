@@ -409,7 +409,9 @@ def test_possible_alias_rule_at_closed_form_folds():
         (comp(1172.8, 0.08), 1.0, False),    # h = 5 reaches 0.064 < 0.08; h = 3 is elsewhere
         (comp(1296.32 + 0.05 + 3 * u0 + 1e-6, 0.01, 0.05), 1.0, None),  # just outside h = 3
     ]
-    got = _aliases_of_harmonics([c for c, _, _ in cases], f0, u0, fs, 1.0)
+    got = _aliases_of_harmonics([c.frequency_hz for c, _, _ in cases],
+                                [c.amplitude for c, _, _ in cases],
+                                [c.uncertainty_hz for c, _, _ in cases], f0, u0, fs, 1.0)
     for (c, tv, want), g in zip(cases, got):
         # the rule by its definition, harmonic by harmonic (the reference for the table)
         h_min = int(fs // (2 * f0)) + 1
