@@ -371,15 +371,17 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     bins: list[int] = kk.tolist()
     # drop sidelobes of stronger peaks
     keep: list[int] = []
+    kept: list[tuple[float, float]] = []  # (position, 2 x amplitude) of each kept peak
+    pi = np.pi
     for i in order.tolist():
-        ok = True
-        for j in keep:
-            d = abs(pos[i] - pos[j])
-            if d < 1.5 or amp[i] <= 2.0 * amp[j] / (np.pi * d * (d * d - 1.0)):
-                ok = False
+        p_i, a_i = pos[i], amp[i]
+        for p_j, a2_j in kept:
+            d = abs(p_i - p_j)
+            if d < 1.5 or a_i <= a2_j / (pi * d * (d * d - 1.0)):
                 break
-        if ok:
+        else:
             keep.append(i)
+            kept.append((p_i, 2.0 * a_i))
             if len(keep) >= MAX_COMPONENTS:
                 break
     # classify
