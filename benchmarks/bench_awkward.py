@@ -3,6 +3,7 @@
     python benchmarks/bench_awkward.py            # every figure (writes ~1 GB to a temp dir)
     python benchmarks/bench_awkward.py --quick    # a few minutes less: smaller, fewer cases
     python benchmarks/bench_awkward.py --measure-only   # figure 1 only (about 2 minutes)
+    python benchmarks/bench_awkward.py --batch-only     # figure 4 only (about 10 s)
 
 Light: invented PWM at 30 % duty with 5 % of 100 Hz ripple and noise at about 40 dB SNR, at
 1234.56 Hz and at 20 seeded random fundamentals between 50 Hz and 20 kHz (log-uniform), where
@@ -160,6 +161,7 @@ def main() -> None:
                     help="1e6 samples at 5 fundamentals, 2e7 streamed, 100 captures")
     ap.add_argument("--skip-stream", action="store_true", help="skip figure 2")
     ap.add_argument("--measure-only", action="store_true", help="figure 1 only")
+    ap.add_argument("--batch-only", action="store_true", help="figure 4 only")
     args = ap.parse_args()
     print(f"start: {load()}", flush=True)
     if os.environ.get("PYTHONDONTWRITEBYTECODE"):
@@ -169,6 +171,10 @@ def main() -> None:
     quick = args.quick
     freqs = fundamentals(4 if quick else 20)
     with tempfile.TemporaryDirectory() as d:
+        if args.batch_only:
+            batch(d, 100 if quick else 1000)
+            print(f"end: {load()}")
+            return
         measure_1e7(d, freqs, 1_000_000 if quick else 10_000_000)
         if args.measure_only:
             print(f"end: {load()}")

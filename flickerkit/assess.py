@@ -564,15 +564,20 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
     harmonics: list[Harmonic] = []
     bins = spec.harmonic_bins()
     shown = bins[: settings.harmonics]
-    for order, (b, ph) in enumerate(zip(shown, spec.phase_at(shown)), start=1):
-        harmonics.append(Harmonic(order, float(spec.frequencies_at(b)),
-                                  float(spec.amplitudes[b]), float(np.degrees(ph))))
+    # whole arrays, then Python floats: the same values as one numpy scalar at a time
+    for order, (f_h, a_h, deg) in enumerate(zip(
+            spec.frequencies_at(shown).tolist(), spec.amplitudes[shown].tolist(),
+            np.degrees(spec.phase_at(shown)).tolist()), start=1):
+        harmonics.append(Harmonic(order, f_h, a_h, deg))
 
     cap = max(FILTERED_MAX_SAMPLES, int(np.ceil(fs)))
     filt = filtered_percent_flicker(np.asarray(x[:cap], dtype=np.float64), fs, period,
                                     max_samples=cap,
                                     bands_hz=tuple((lo, hi) for lo, hi, _ in
-                                                   ieee1789.SEGMENTS_HZ))
+                                                   ieee1789.SEGMENTS_HZ),
+                                    transform=((spec.n_samples, spec.coefficients)
+                                               if spec.window == "rectangular"
+                                               and spec.start == 0 else None))
     fund = per_h = head_ieee = None
     if period.frequency_hz is not None:
         fund = ieee1789.classify(period.frequency_hz, pf,
@@ -679,12 +684,16 @@ def sparse_component(modul: modulation.ModulationAnalysis,
 def _warn_unjudged_aliases(modul: modulation.ModulationAnalysis,
                            head: ieee1789.Ieee1789Result | None) -> None:
     """Warn when a possible alias, were it real, would change the IEEE 1789 region."""
-    if head is None:
-        return
+    if head is None or head.region == ieee1789.REGIONS[-1]:
+        return  # no region is worse than the worst
     worst = None
+    # components come strongest first: the first alias that would worsen the region is the
+    # largest such one (the first of equals), so the search ends there
     for c in modul.components:
         if c.kind != "possible alias":
             continue
+        if worst is not None and c.amplitude <= worst.amplitude:
+            break
         r = ieee1789.classify(c.frequency_hz, 100 * c.amplitude, edge_tolerance_hz=c.uncertainty_hz)
         if ieee1789.REGIONS.index(r.region) > ieee1789.REGIONS.index(head.region):
             worst = c if worst is None or c.amplitude > worst.amplitude else worst
@@ -712,8 +721,9 @@ def _composite_ieee(reading: ieee1789.Ieee1789Result, modul: modulation.Modulati
     bands = []
     segs = ieee1789.SEGMENTS_HZ
     depth = {(lo, hi): pf for lo, hi, pf in filt.bands}
+    where = [modulation.segment_of(c, segs) for c in judged]
     for i, (lo, hi, label) in enumerate(segs):
-        inside = [c for c in judged if modulation.segment_of(c, segs) == i]
+        inside = [c for c, s in zip(judged, where) if s == i]
         if not inside or inside[0].kind != "unrelated" or (lo, hi) not in depth:
             continue  # the strongest is a harmonic: the standard's reading covers it
         m = depth[(lo, hi)]
@@ -748,15 +758,21 @@ def _edge_notes(modul: modulation.ModulationAnalysis,
                "the low-risk line applies"),
               (ieee1789.NOEL_EXEMPT_ABOVE_HZ, "the IEEE 1789 3000 Hz break",
                "the no-observable-effect line applies")]
+    comps = [c for c in modul.judged() if c.amplitude >= _EDGE_NOTE_MIN]
+    if not comps:
+        return ()
+    # modulation.on_edge for every component and edge at once (the same comparisons)
+    e = np.array([x[0] for x in edges], dtype=np.float64)
+    f = np.array([c.frequency_hz for c in comps])[:, None]
+    u = np.array([c.uncertainty_hz for c in comps])[:, None]
+    with np.errstate(invalid="ignore"):
+        near = (np.abs(f - e) <= np.maximum(u, modulation.EDGE_RTOL * e)) & (e > 0)
     out = []
-    for c in modul.judged():
-        if c.amplitude < _EDGE_NOTE_MIN:
-            continue
-        for e, what, rule in edges:
-            if e > 0 and modulation.on_edge(c.frequency_hz, e, c.uncertainty_hz):
-                out.append(f"component {c.frequency_hz:.6g} Hz ({100 * c.amplitude:.3g} %) sits "
-                           f"on {what} within its uncertainty (+-{c.uncertainty_hz:.2g} Hz): "
-                           f"{rule}")
+    for i, j in zip(*np.nonzero(near)):  # row by row: component order, then edge order
+        c, (_, what, rule) = comps[i], edges[j]
+        out.append(f"component {c.frequency_hz:.6g} Hz ({100 * c.amplitude:.3g} %) sits "
+                   f"on {what} within its uncertainty (+-{c.uncertainty_hz:.2g} Hz): "
+                   f"{rule}")
     return tuple(dict.fromkeys(out))
 
 

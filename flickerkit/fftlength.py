@@ -49,6 +49,30 @@ def fft_cost(lengths) -> np.ndarray:
     with no such factor is costed as Bluestein.
     """
     n = np.atleast_1d(np.asarray(lengths, dtype=np.int64))
+    if n.size > _CACHED_UP_TO:
+        return _fft_cost(n)
+    # a batch of short captures asks again and again about lengths near its capture length
+    keys = n.ravel().tolist()
+    known = {k: _COSTS.get(k) for k in keys}  # read once: safe if another thread clears it
+    new = [k for k, v in known.items() if v is None]
+    if new:
+        got = dict(zip(new, _fft_cost(np.array(new, dtype=np.int64)).tolist()))
+        known.update(got)
+        if len(_COSTS) + len(got) > _COSTS_KEPT:
+            _COSTS.clear()
+        _COSTS.update(got)
+    return np.array([known[k] for k in keys], dtype=np.float64).reshape(n.shape)
+
+
+#: :func:`fft_cost` keeps the costs of the lengths it was asked about, when asked about at
+#: most this many at once, and at most this many lengths in all.
+_CACHED_UP_TO = 4096
+_COSTS_KEPT = 1 << 16
+_COSTS: dict[int, float] = {}
+
+
+def _fft_cost(n: np.ndarray) -> np.ndarray:
+    """Return :func:`fft_cost` of a 1-D int64 array, computed."""
     rest = n // np.maximum(n & -n, 1)  # every factor 2 at once: n & -n is the lowest set bit
     extra = np.zeros(n.shape)
     for q in _SMALL_PRIMES[1:]:

@@ -108,6 +108,7 @@ def filtered_percent_flicker(
     cutoffs_hz: tuple[float, ...] | list[float] = JA10_CUTOFFS_HZ,
     max_samples: int | None = None,
     bands_hz: tuple[tuple[float, float], ...] = (),
+    transform: tuple[int, np.ndarray] | None = None,
 ) -> FilteredFlicker:
     """Percent flicker after removing the components above each cut-off (JA10.6).
 
@@ -132,6 +133,10 @@ def filtered_percent_flicker(
     bands_hz : sequence of (float, float), optional
         Bands ``(low, high)`` [Hz] whose band-limited modulation depth is also
         wanted (see :attr:`FilteredFlicker.bands`); same transform.
+    transform : (int, numpy.ndarray), optional
+        ``(m, numpy.fft.rfft(samples[:m]))`` when the caller has it (the
+        whole-period spectrum of a capture): used when ``m`` is the span
+        chosen here, instead of transforming the span again.
 
     Returns
     -------
@@ -190,7 +195,10 @@ def filtered_percent_flicker(
                      "was found (" + (period.reason or "no period") + "); leakage may add "
                      "spurious components below the cut-offs")
     n = seg.shape[0]
-    spec = fft.rfft(seg)
+    if transform is not None and p >= 1 and transform[0] == n:
+        spec = transform[1]  # read only below
+    else:
+        spec = fft.rfft(seg)
     freqs = np.arange(spec.shape[0]) * (fs / n)  # increasing: each selection is a slice
     nyquist = fs / 2.0
     out = []

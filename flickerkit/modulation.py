@@ -217,9 +217,17 @@ def _hann_block(c: np.ndarray, lo: int, hi: int) -> np.ndarray:
     seg = np.array(c[a:b], dtype=np.complex128)
     if a == 0:
         seg[0] = 0.0
-    left = np.concatenate(([0.0], seg[:-1]))
-    right = np.concatenate((seg[1:], [0.0]))
-    y = np.abs(seg - 0.5 * (left + right))
+    # left + right neighbours, zero beyond the ends (0 + x is x exactly)
+    both = np.empty_like(seg)
+    if seg.shape[0] > 1:
+        np.add(seg[:-2], seg[2:], out=both[1:-1])
+        both[0] = seg[1]
+        both[-1] = seg[-2]
+    else:
+        both[:] = 0.0
+    both *= 0.5
+    np.subtract(seg, both, out=both)
+    y = np.abs(both)
     return y[lo - a: lo - a + (hi - lo)]
 
 
@@ -287,14 +295,14 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
         first = max(first, 4)
     # noise per bin from a strided median (no full-length copy)
     step = max(1, (K - first) // _NOISE_BINS)
-    idx = np.arange(first, K - 1, step)
     c = spectrum.coefficients
     dc = float(c[0].real)
     scale = 2.0 / abs(dc) if dc else 0.0
+    # bins first, first + step, ... below K - 1 (strided slices: no index arrays)
     if spectrum.window == "hann":
-        sample = np.asarray(spectrum.amplitudes[idx])
+        sample = np.asarray(spectrum.amplitudes[first: K - 1: step])
     else:
-        cc = c[idx] - 0.5 * (c[idx - 1] + c[idx + 1])
+        cc = c[first: K - 1: step] - 0.5 * (c[first - 1: K - 2: step] + c[first + 1: K: step])
         sample = np.abs(cc) * scale
     sigma2 = float(np.median(sample**2)) / np.log(2.0) if sample.size else 0.0
     threshold = max(MIN_COMPONENT, float(np.sqrt(sigma2 * np.log(max(K, 2) / FALSE_ALARM))))
@@ -353,20 +361,27 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     with np.errstate(invalid="ignore", divide="ignore"):
         corr = np.where(np.abs(delta) > 1e-12,
                         np.pi * delta * (1 - delta**2) / np.sin(np.pi * delta), 1.0)
-    amp = aa * corr
-    pos = kk + delta
+    amp_a = aa * corr
+    pos_a = kk + delta
+    order = np.argsort(amp_a)[::-1]
+    # Python floats from here: the loops below run over up to 512 peaks, where numpy's
+    # scalar overhead would cost a millisecond a capture (the same double arithmetic)
+    amp: list[float] = amp_a.tolist()
+    pos: list[float] = pos_a.tolist()
+    bins: list[int] = kk.tolist()
     # drop sidelobes of stronger peaks
-    order = np.argsort(amp)[::-1]
     keep: list[int] = []
-    for i in order:
-        ok = True
-        for j in keep:
-            d = abs(pos[i] - pos[j])
-            if d < 1.5 or amp[i] <= 2.0 * amp[j] / (np.pi * d * (d * d - 1.0)):
-                ok = False
+    kept: list[tuple[float, float]] = []  # (position, 2 x amplitude) of each kept peak
+    pi = np.pi
+    for i in order.tolist():
+        p_i, a_i = pos[i], amp[i]
+        for p_j, a2_j in kept:
+            d = abs(p_i - p_j)
+            if d < 1.5 or a_i <= a2_j / (pi * d * (d * d - 1.0)):
                 break
-        if ok:
-            keep.append(int(i))
+        else:
+            keep.append(i)
+            kept.append((p_i, 2.0 * a_i))
             if len(keep) >= MAX_COMPONENTS:
                 break
     # classify
@@ -376,33 +391,42 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
     if template is not None and period_samples is not None and period_samples > 0:
         h_min = int(np.floor(period_samples / 2.0)) + 1
         alias_bound = total_variation(template) / (np.pi * h_min)
-    comps: list[Component] = []
+    # rows of [frequency, amplitude, uncertainty, kind, harmonic], made Components once at
+    # the end (a frozen dataclass costs a microsecond to make)
+    rows: list[list] = []
     fit: list[float] = []
     for i in keep:
-        f = float(pos[i] * df)
+        f = pos[i] * df
         u = max(EDGE_RTOL * f, df * (0.02 + (noise / amp[i] if amp[i] > 0 else 1.0)))
         kind, h = "unrelated", None
         if f0:
             hh = int(round(f / f0))
             # a whole-period spectrum puts harmonic h on bin h P exactly
             on_bin = (spectrum.whole_periods >= 1 and hh >= 1
-                      and abs(kk[i] - hh * spectrum.whole_periods) <= 1)
+                      and abs(bins[i] - hh * spectrum.whole_periods) <= 1)
             if hh >= 1 and (on_bin or abs(f - hh * f0) <= u + EDGE_RTOL * hh * f0):
                 kind, h, f, u = "harmonic", hh, hh * f0, EDGE_RTOL * hh * f0
-        comps.append(Component(f, float(amp[i]), float(u), kind, h, order=None))
-        fit.append(float(pos[i] * df))
+        rows.append([float(f), amp[i], float(u), kind, h])
+        fit.append(pos[i] * df)
     # the period estimate's own error shows as the fundamental's offset from h = 1
     u0 = EDGE_RTOL * f0 if f0 else 0.0
-    for comp, f_fit in zip(comps, fit):
-        if comp.harmonic == 1:
-            u0 = max(u0, 2.0 * abs(f_fit - comp.frequency_hz))
+    for row, f_fit in zip(rows, fit):
+        if row[4] == 1:
+            u0 = max(u0, 2.0 * abs(f_fit - row[0]))
     if f0:
-        comps = [replace(c, uncertainty_hz=c.harmonic * u0) if c.harmonic else c for c in comps]
+        for row in rows:
+            if row[4]:
+                row[2] = row[4] * u0
         tv = (alias_bound * np.pi * (int(np.floor(period_samples / 2.0)) + 1)
               if alias_bound and period_samples else 0.0)
-        comps = [replace(c, kind="possible alias")
-                 if c.kind == "unrelated" and c.amplitude <= alias_bound * ALIAS_AMPLITUDE_SLACK
-                 and _alias_of_harmonic(c, f0, u0, sample_rate_hz, tv) else c for c in comps]
+        suspects = [row for row in rows if row[3] == "unrelated"
+                    and row[1] <= alias_bound * ALIAS_AMPLITUDE_SLACK]
+        for row, folds in zip(suspects, _aliases_of_harmonics(
+                [r[0] for r in suspects], [r[1] for r in suspects], [r[2] for r in suspects],
+                f0, u0, sample_rate_hz, tv)):
+            if folds:
+                row[3] = "possible alias"
+    comps = [Component(f, a, u, kind, h, order=None) for f, a, u, kind, h in rows]
     out = _result(comps, threshold, alias_bound, df, f0, spectrum, noise, u0)
     return replace(out, noise_std_relative=_noise_std(spectrum, sigma2))
 
@@ -414,24 +438,50 @@ def analyse(spectrum: Spectrum, sample_rate_hz: float, *, template: np.ndarray |
 ALIAS_AMPLITUDE_SLACK = 1.1
 
 
-def _alias_of_harmonic(c: Component, f0: float, u0: float, fs: float, tv: float) -> bool:
-    """Whether a harmonic above Nyquist large enough to give ``c`` folds onto its frequency.
+#: Elements of the component x harmonic table formed at a time in
+#: :func:`_aliases_of_harmonics` (8 MiB of float64).
+_ALIAS_TABLE = 2**20
+
+
+def _aliases_of_harmonics(freqs: list[float], amps: list[float], uncs: list[float],
+                          f0: float, u0: float, fs: float, tv: float) -> list[bool]:
+    """Return, per component, whether a large enough harmonic above Nyquist folds onto it.
 
     Harmonic h of a period with total variation V has at most ``V / (pi h)``; it lands at
-    ``|h f0 - m fs|`` (m the nearest whole number), known within ``h u0``.
+    ``|h f0 - m fs|`` (m the nearest whole number), known within ``h u0``. The harmonics
+    tried for a component of amplitude C run from the first above Nyquist to
+    ``floor(V / (pi C))`` (at most 200,000 of them). Their folded frequencies are formed
+    once for all components and compared as a table of components x harmonics, a few rows
+    at a time. ``freqs``, ``amps`` and ``uncs`` are the components' frequencies [Hz],
+    amplitudes relative to the mean [unitless] and frequency uncertainties [Hz].
     """
+    if not freqs:
+        return []
     h_min = int(np.floor(fs / (2.0 * f0))) + 1
     # the bound is met with equality by a square wave's odd harmonics, so a measured
     # amplitude a little above it (noise, scalloping) still fits: allow ALIAS_AMPLITUDE_SLACK
-    low = c.amplitude / ALIAS_AMPLITUDE_SLACK
-    h_max = int(min(np.floor(tv / (np.pi * low)) if low > 0 else h_min,
-                    h_min + 200_000))
-    if h_max < h_min:
-        return False
-    h = np.arange(h_min, h_max + 1, dtype=np.float64)
+    tops = [int(min(np.floor(tv * ALIAS_AMPLITUDE_SLACK / (np.pi * a)) if a > 0
+                    else h_min, h_min + 200_000))
+            for a in amps]
+    top = max(tops)
+    if top < h_min:
+        return [False] * len(freqs)
+    h = np.arange(h_min, top + 1, dtype=np.float64)
     fh = h * f0
     folded = np.abs(fh - np.round(fh / fs) * fs)
-    return bool(np.any(np.abs(folded - c.frequency_hz) <= c.uncertainty_hz + h * u0))
+    reach = h * u0
+    out = [False] * len(freqs)
+    live = [i for i, t in enumerate(tops) if t >= h_min]
+    rows = max(1, _ALIAS_TABLE // h.size)
+    for a in range(0, len(live), rows):
+        sel = live[a: a + rows]
+        f = np.array([freqs[i] for i in sel])[:, None]
+        u = np.array([uncs[i] for i in sel])[:, None]
+        last = np.array([tops[i] - h_min for i in sel])[:, None]  # each its own h_max
+        hit = (np.abs(folded - f) <= u + reach) & (np.arange(h.size) <= last)
+        for i, any_hit in zip(sel, hit.any(axis=1).tolist()):
+            out[i] = bool(any_hit)
+    return out
 
 
 def _noise_std(spectrum: Spectrum, sigma2: float) -> float | None:
@@ -469,7 +519,8 @@ def _result(comps: list[Component], threshold: float, alias_bound: float, df: fl
     if unrelated:
         rep = _common_frequency(f0, unrelated, MIN_CYCLES / span_s if span_s > 0 else 0.0)
     if rep:
-        comps = [replace(c, order=_order(c, rep)) for c in comps]
+        comps = [Component(c.frequency_hz, c.amplitude, c.uncertainty_hz, c.kind, c.harmonic,
+                           _order(c, rep)) for c in comps]
     comps.sort(key=lambda c: -c.amplitude)
     uf = tuple(c.frequency_hz for c in comps if c.kind == "unrelated")
     if not comps:

@@ -11,6 +11,7 @@ the segment, so a capture of any length costs one FFT of the segment.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -290,9 +291,20 @@ def _one_blas_thread():
     every BLAS thread they take 100x longer when the machine is busy (threads
     wait for each other) and gain nothing when it is idle.
     """
-    from threadpoolctl import threadpool_limits  # type: ignore[import-untyped]  # no stubs
+    import sys
 
-    return threadpool_limits(limits=1, user_api="blas")
+    global _CONTROLLER
+    # finding the loaded libraries costs ~0.3 ms: again only when modules were imported since
+    # (an import may load another BLAS, scipy's), so a batch's worker finds them once
+    if _CONTROLLER is None or _CONTROLLER[0] != len(sys.modules):
+        from threadpoolctl import ThreadpoolController  # type: ignore[import-untyped]  # no stubs
+
+        _CONTROLLER = (len(sys.modules), ThreadpoolController())
+    return _CONTROLLER[1].limit(limits=1, user_api="blas")
+
+
+#: The thread-pool controller and the number of modules loaded when it was made.
+_CONTROLLER: tuple[int, Any] | None = None
 
 
 def _minimise_bounded(f, a: float, b: float, xatol: float,
@@ -372,9 +384,10 @@ def _refine_by_phase(seg: np.ndarray, period: float, passes: int = 2) -> float:
         if half < 4:
             return period
         L = int(round(half * period))
+        e = _block_phase(period) if L >= _SUM_BLOCK else None  # the same for both halves
         with _one_blas_thread():  # memory-bound products: threads only wait for each other
-            z1 = _fundamental_sum(seg, 0, L, period)
-            z2 = _fundamental_sum(seg, L, 2 * L, period)
+            z1 = _fundamental_sum(seg, 0, L, period, e)
+            z2 = _fundamental_sum(seg, L, 2 * L, period, e)
         if abs(z1) == 0 or abs(z2) == 0:
             return period
         dnu = float(np.angle(z2 / z1)) / (2.0 * np.pi * L)  # cycles per sample
@@ -389,21 +402,29 @@ def _refine_by_phase(seg: np.ndarray, period: float, passes: int = 2) -> float:
 _SUM_BLOCK = 4096
 
 
-def _fundamental_sum(x: np.ndarray, a: int, b: int, period: float) -> complex:
+def _block_phase(period: float) -> np.ndarray:
+    """Return ``exp(-2 pi i j / period)`` for ``j = 0 .. B - 1`` (B = :data:`_SUM_BLOCK`)."""
+    j = np.arange(_SUM_BLOCK, dtype=np.float64)
+    return np.exp(-2j * np.pi * j / period)
+
+
+def _fundamental_sum(x: np.ndarray, a: int, b: int, period: float,
+                     e: np.ndarray | None = None) -> complex:
     """``sum x[k] exp(-2 pi i k / period)`` over ``a <= k < b``, without a full-length
     complex array.
 
     ``k = a + m B + j`` (B = :data:`_SUM_BLOCK`) splits the phase factor into
     ``exp(-2 pi i (a + m B) / T) exp(-2 pi i j / T)``: the rows of ``x`` times one block
     of the phase factor (two real matrix-vector products), then summed with the
-    rows' phase factors. The same sum up to rounding (about 1e-13 relative).
+    rows' phase factors. The same sum up to rounding (about 1e-13 relative). ``e`` is
+    :func:`_block_phase` of ``period`` when the caller has it (both halves share it).
     """
     B = _SUM_BLOCK
     rows = (b - a) // B
-    j = np.arange(B, dtype=np.float64)
-    e = np.exp(-2j * np.pi * j / period)
     z = 0j
     if rows:
+        if e is None:
+            e = _block_phase(period)
         body = x[a: a + rows * B].reshape(rows, B)
         s = body @ e.real + 1j * (body @ e.imag)
         starts = a + B * np.arange(rows, dtype=np.float64)

@@ -35,3 +35,18 @@ def test_a_list_written_object_by_object_is_the_same_text():
     for k in range(len(objs) + 1):
         part = objs[:k]
         assert dumps_list([dumps_object_item(o) for o in part]) == dumps(part)
+
+
+def test_each_value_is_written_as_the_standard_encoder_writes_it():
+    """Scalars of an object that holds containers (written one per line without the encoder,
+    for speed) read exactly as Python's json module writes them (reference: json.dumps with
+    the same separators)."""
+    values = [0.1, -0.0, 1e-310, 1.7976931348623157e308, 123456789.123, 2**70, -3, 0, True,
+              False, None, "", "\u00e9\u00b5 \"q\" \\ \n\t\u2028", np.float64(1 / 3),
+              np.int64(-9), np.bool_(True), np.float32(0.1)]
+    data = {**{f"k{i}\u00e9": v for i, v in enumerate(values)}, "deep": {"x": [1, {}]}}
+    lines = [ln.rstrip(",") for ln in dumps(data).split("\n")]
+    for i, v in enumerate(values):
+        plain = v.item() if hasattr(v, "item") else v
+        want = json.dumps({f"k{i}\u00e9": plain}, ensure_ascii=False, separators=(", ", ": "))
+        assert f"  {want[1:-1]}" in lines

@@ -386,3 +386,38 @@ def test_screened_peak_search_finds_what_the_full_search_finds(monkeypatch):
     assert [(c.frequency_hz, c.amplitude) for c in screened.components] == \
         [(c.frequency_hz, c.amplitude) for c in full.components]
     assert len(full.components) > 10
+
+
+def test_possible_alias_rule_at_closed_form_folds():
+    """Harmonic h of f0 lands at |h f0 - m fs|; a component there is a possible alias only
+    when the period's total variation V lets harmonic h reach its amplitude (V / (pi h) >= C).
+
+    Analytic: f0 = 1234.56 Hz at fs = 5000 Hz, first harmonic above Nyquist h = 3 lands at
+    |3 x 1234.56 - 5000| = 1296.32 Hz, h = 5 at |6172.8 - 5000| = 1172.8 Hz.
+    """
+    from flickerkit.modulation import Component, _aliases_of_harmonics
+
+    f0, fs, u0 = 1234.56, 5000.0, 1e-3
+
+    def comp(f, amp, u=0.05):
+        return Component(f, amp, u, "unrelated")
+
+    cases = [
+        (comp(1296.32, 0.01), 1.0, True),    # h = 3 reaches 1 / (3 pi) = 0.106 >= 0.01
+        (comp(1172.8, 0.01), 1.0, True),     # h = 5
+        (comp(1296.32, 0.2), 1.0, False),    # no harmonic above Nyquist reaches 0.2
+        (comp(1172.8, 0.08), 1.0, False),    # h = 5 reaches 0.064 < 0.08; h = 3 is elsewhere
+        (comp(1296.32 + 0.05 + 3 * u0 + 1e-6, 0.01, 0.05), 1.0, None),  # just outside h = 3
+    ]
+    got = _aliases_of_harmonics([c.frequency_hz for c, _, _ in cases],
+                                [c.amplitude for c, _, _ in cases],
+                                [c.uncertainty_hz for c, _, _ in cases], f0, u0, fs, 1.0)
+    for (c, tv, want), g in zip(cases, got):
+        # the rule by its definition, harmonic by harmonic (the reference for the table)
+        h_min = int(fs // (2 * f0)) + 1
+        h_top = int(tv / (np.pi * c.amplitude))
+        ref = any(abs(abs(h * f0 - round(h * f0 / fs) * fs) - c.frequency_hz)
+                  <= c.uncertainty_hz + h * u0 for h in range(h_min, h_top + 1))
+        assert g == ref
+        if want is not None:
+            assert g is want

@@ -132,3 +132,19 @@ def test_same_light_many_captures_same_components(seed):
     np.testing.assert_allclose([h.amplitude for h in a.harmonics[:5]], expected, rtol=2e-3)
     assert a.svm.value == pytest.approx(svm_from_components([f], [expected[0]]), rel=2e-3)
     assert abs(a.spectrum.n_samples - a.spectrum.whole_periods * fs / a.frequency_hz) <= 0.5 + 1e-6
+
+
+def test_fft_cost_is_the_same_asked_at_once_in_pieces_and_again():
+    """The costs kept between calls are the costs computed (analytic values of the model:
+    19,683 = 3^9 and 20,000 = 2^5 5^4 are fast; 19,992 = 2^3 3 7^2 17 costs
+    1 + 0.01 (7 + 7 + 17); 19,999 = 7 x 2,857 goes through Bluestein's algorithm, 10)."""
+    from flickerkit import fftlength
+
+    lengths = np.arange(1, 20_001)
+    whole = fft_cost(lengths)  # more than the kept requests hold: computed directly
+    for _ in range(2):  # first asked, then answered from what was kept
+        pieces = np.concatenate([fft_cost(lengths[i:i + 1000]) for i in range(0, 20_000, 1000)])
+        np.testing.assert_array_equal(pieces, whole)
+    fftlength._COSTS.clear()
+    assert fft_cost([19_683, 20_000, 19_992, 19_999]).tolist() == [
+        19_683.0, 20_000.0, 19_992 * (1 + 0.01 * 31), 19_999 * 10.0]

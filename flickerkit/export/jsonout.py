@@ -4,10 +4,20 @@ from __future__ import annotations
 
 import json
 import math
+from json.encoder import encode_basestring
 from typing import Any, Sequence
 
 
 def _clean(v: Any) -> Any:
+    t = type(v)  # exact built-in types first: a batch's records hold hundreds of values
+    if t is float:
+        return v if math.isfinite(v) else None
+    if t is str or t is int or t is bool or v is None:
+        return v
+    if t is dict:
+        return {k: _clean(x) for k, x in v.items()}
+    if t is list:
+        return [_clean(x) for x in v]
     if isinstance(v, float):
         return v if math.isfinite(v) else None
     if isinstance(v, dict):
@@ -35,7 +45,30 @@ def _flat(v: Any) -> bool:
     return True
 
 
+def _scalar(v: Any) -> str | None:
+    """Return the JSON text of a finite float, str, int, bool or None as ``_FLAT`` writes it.
+
+    None for any other value (``_FLAT`` then writes it, or refuses it).
+    """
+    t = type(v)
+    if t is float:
+        return float.__repr__(v) if math.isfinite(v) else None
+    if t is str:
+        return encode_basestring(v)
+    if v is None:
+        return "null"
+    if t is bool:
+        return "true" if v else "false"
+    if t is int:
+        return int.__repr__(v)
+    return None
+
+
 def _write(v: Any, pad: str, out: list[str]) -> None:
+    text = _scalar(v)
+    if text is not None:
+        out.append(text)
+        return
     if _flat(v):
         out.append(_FLAT(v))
         return
@@ -44,7 +77,7 @@ def _write(v: Any, pad: str, out: list[str]) -> None:
         out.append("{")
         sep = "\n"
         for k, x in v.items():
-            out.append(sep + inner + _FLAT(str(k)) + ": ")
+            out.append(sep + inner + encode_basestring(str(k)) + ": ")  # as _FLAT writes it
             _write(x, inner, out)
             sep = ",\n"
         out.append("\n" + pad + "}")
