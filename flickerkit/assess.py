@@ -497,6 +497,17 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
             f"of the strongest modulation, at {sparse.frequency_hz:.6g} Hz; at least "
             f"{MIN_SAMPLES_PER_PERIOD} are needed: its harmonics above half the sample rate "
             f"may fold down into components (and an IEEE 1789 region) the light does not have"))
+    empty = empty_fundamental(modul, spec)
+    if empty is not None:
+        a1, f_strong, a_strong = empty
+        warnings.warn(CaptureWarning(
+            f"the period found, {modul.fundamental_hz:.6g} Hz, carries {100 * a1:.2g} % "
+            f"modulation of its own against {100 * a_strong:.3g} % at {f_strong:.6g} Hz: it is "
+            f"a common period of stronger modulations (or a slowly repeating pattern), and the "
+            f"IEEE 1789 fundamental-mode reading puts the whole waveform's percent flicker at "
+            f"{modul.fundamental_hz:.6g} Hz, which may be harsher than the light's own "
+            f"components; another capture of the same light may find another common period "
+            f"(see the per-harmonic reading and the components)"))
     if modul.noise_std_relative is not None and mean > 0:
         # the fold's residual also holds modulation not locked to the period (an envelope,
         # ripple under PWM); the spectrum's median bin holds only the white noise
@@ -652,6 +663,58 @@ def _assess(capture: Capture, settings: AssessSettings, block: int) -> Assessmen
         edge_notes=edges,
         acquisition=acq,
     )
+
+
+#: The fundamental of the period found counts as carrying no modulation of its own below
+#: this fraction of the strongest component's amplitude. Chosen here, no source: a tenth
+#: keeps two unequal PWM channels half a period apart (1 and 0.8: about 0.11) out.
+EMPTY_FUNDAMENTAL_RATIO = 0.1
+
+
+def empty_fundamental(modul: modulation.ModulationAnalysis, spec: Spectrum
+                      ) -> tuple[float, float, float] | None:
+    """Return the fundamental's amplitude and the strongest harmonic when the first is empty.
+
+    A period found where the light has (almost) no modulation at its frequency is a common
+    period of faster modulations (PWM at 3123.4 Hz under 1250 Hz ripple repeats, within a
+    capture, at about 624.7 Hz), or a slowly repeating pattern (dither): real, but the
+    fundamental-mode reading of IEEE 1789 then sets the whole percent flicker at a frequency
+    the light hardly modulates at, and a slightly different capture may find another
+    common period.
+
+    Parameters
+    ----------
+    modul : ModulationAnalysis
+        The capture's components (used when the spectrum is windowed).
+    spec : Spectrum
+        The capture's spectrum; over whole periods, harmonic h is bin h P exactly.
+
+    Returns
+    -------
+    (float, float, float) or None
+        The fundamental's amplitude relative to the mean [unitless], the strongest
+        harmonic's frequency [Hz] and amplitude [unitless], when the first is below
+        :data:`EMPTY_FUNDAMENTAL_RATIO` of the last; else None.
+    """
+    f0 = modul.fundamental_hz
+    if not f0:
+        return None
+    if spec.window == "rectangular" and spec.whole_periods >= 1:
+        harm = spec.amplitudes[spec.whole_periods::spec.whole_periods]
+        if harm.size < 2:
+            return None
+        k = int(np.argmax(harm))
+        a1, f_strong, a_strong = float(harm[0]), (k + 1) * f0, float(harm[k])
+    else:
+        harmonics = [c for c in modul.components if c.kind == "harmonic" and c.harmonic]
+        if not harmonics:
+            return None
+        strong = max(harmonics, key=lambda c: c.amplitude)
+        a1 = max((c.amplitude for c in harmonics if c.harmonic == 1), default=0.0)
+        f_strong, a_strong = strong.frequency_hz, strong.amplitude
+    if f_strong <= f0 * 1.5 or a1 >= EMPTY_FUNDAMENTAL_RATIO * a_strong:
+        return None
+    return a1, f_strong, a_strong
 
 
 def sparse_component(modul: modulation.ModulationAnalysis,
