@@ -12,6 +12,8 @@ import pytest
 
 from flickerkit.cli import main
 
+from .cliutil import one_line_error
+
 FS = 10_000.0
 
 
@@ -23,13 +25,6 @@ def _capture(path, m, f=123.4, seconds=0.5):
     return path
 
 
-def _one_line_error(capsys, argv, match):
-    assert main([str(a) for a in argv]) == 1
-    err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and err[0].startswith("flickerkit: error: "), err
-    assert match in err[0], err[0]
-    assert "Traceback" not in err[0]
-    return err[0]
 
 
 @pytest.fixture
@@ -81,7 +76,7 @@ def test_user_file_cannot_redefine_a_builtin_criterion(lab, capsys):
                                     'metric = "percent_flicker"\nlimit = 50\n')
     p = _project(lab, '[[capture]]\nlevel = 100\nfile = "a/cap.csv"\n'
                       '[criteria]\nfile = "rules.toml"\napply = ["ieee1789-low-risk"]\n')
-    _one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], "use your own id")
+    one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], "use your own id")
     assert not (lab / "r.xlsx").exists()
 
 
@@ -96,7 +91,7 @@ def test_user_criteria_file_mistakes_are_one_line(lab, capsys, body, match):
     (lab / "rules.toml").write_text(f'[[criterion]]\nid = "mine"\nlimit = 1\n{body}')
     p = _project(lab, '[[capture]]\nlevel = 100\nfile = "a/cap.csv"\n'
                       '[criteria]\nfile = "rules.toml"\napply = ["mine"]\n')
-    line = _one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], match)
+    line = one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], match)
     assert "rules.toml [criterion 1]" in line
 
 
@@ -113,7 +108,7 @@ def test_user_criterion_on_an_unknown_metric_is_refused(lab, capsys, metric, mat
     (lab / "rules.toml").write_text(f'[[criterion]]\nid = "mine"\nlimit = 1\nmetric = "{metric}"\n')
     p = _project(lab, '[[capture]]\nlevel = 100\nfile = "a/cap.csv"\n'
                       '[criteria]\nfile = "rules.toml"\napply = ["mine"]\n')
-    line = _one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q", "-j", "1"], match)
+    line = one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q", "-j", "1"], match)
     assert "'mine'" in line and "rules.toml [criterion 1]" in line
     assert not (lab / "r.xlsx").exists()
 
@@ -124,7 +119,7 @@ def test_one_file_listed_at_two_levels_is_refused(lab, capsys):
     os.link(lab / "a" / "cap.csv", lab / "a" / "copy.csv")
     p = _project(lab, '[[capture]]\nlevel = 50\nfile = "a/cap.csv"\n'
                       '[[capture]]\nlevel = 40\nfile = "./a/copy.csv"\n')
-    line = _one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q", "-j", "1"],
+    line = one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q", "-j", "1"],
                            "the same file")
     assert "50" in line and "40" in line and not (lab / "r.xlsx").exists()
     # at one level it stays a repeat, shown as '#2' (issue 12)
@@ -169,14 +164,14 @@ def test_control_character_in_a_capture_file_name(lab, capsys):
 ])
 def test_project_values_are_typed_and_bounded(lab, capsys, body, match):
     p = _project(lab, body + '[[capture]]\nlevel = 100\nfile = "a/cap.csv"\n')
-    _one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], match)
+    one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], match)
     assert not (lab / "r.xlsx").exists()
 
 
 @pytest.mark.parametrize("glob", ["", "/tmp/*.csv"])
 def test_absolute_or_empty_glob(lab, capsys, glob):
     p = _project(lab, f'[captures]\nglob = "{glob}"\n')
-    _one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], "[captures] glob")
+    one_line_error(capsys, ["report", p, "-o", lab / "r.xlsx", "-q"], "[captures] glob")
 
 
 # ---------------------------------------------------------------- side files
@@ -247,7 +242,7 @@ def test_latin1_side_file_is_one_line_and_utf16_with_bom_is_read(lab, capsys, ki
                       "-j", "1"], "criteria file"
     else:
         argv, what = _side_argv(kind, p, lab)
-    _one_line_error(capsys, argv, f"{what} is not UTF-8 text")
+    one_line_error(capsys, argv, f"{what} is not UTF-8 text")
     p.write_bytes(texts[kind].encode("utf-16"))  # with its byte-order mark
     rc = main([str(a) for a in argv])
     err = capsys.readouterr().err
@@ -263,12 +258,12 @@ def test_side_file_above_the_size_bound_is_refused_before_reading(lab, capsys):
     p = lab / "huge.toml"
     with open(p, "wb") as fh:
         fh.truncate(MAX_SIDE_FILE_BYTES + 1)  # sparse: no disk used
-    _one_line_error(capsys, ["drive", "--drive-file", p, "-q"], "above the limit")
+    one_line_error(capsys, ["drive", "--drive-file", p, "-q"], "above the limit")
 
 
 def test_folder_given_as_criteria_file_names_it_and_says_reading(lab, capsys):
     (lab / "rules").mkdir()
-    line = _one_line_error(capsys, ["report", _criteria_project(lab, "rules"), "-o",
+    line = one_line_error(capsys, ["report", _criteria_project(lab, "rules"), "-o",
                                     lab / "o.xlsx", "-q"], "cannot read criteria file")
     assert "rules" in line and "write" not in line
 
@@ -282,7 +277,7 @@ def test_os_error_names_the_file_not_the_output(lab, capsys, monkeypatch):
     monkeypatch.setattr("flickerkit.project.load_project", boom)
     p = _project(lab, '[[capture]]\nlevel = 100\nfile = "a/cap.csv"\n')
     assert rep is not None
-    line = _one_line_error(capsys, ["report", p, "-o", lab / "o.xlsx", "-q"],
+    line = one_line_error(capsys, ["report", p, "-o", lab / "o.xlsx", "-q"],
                            "Permission denied")
     assert str(p) in line and "cannot write" not in line
 

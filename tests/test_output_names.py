@@ -15,6 +15,8 @@ import pytest
 
 from flickerkit.cli import main
 
+from .cliutil import one_line_error
+
 FS = 10_000.0
 
 
@@ -28,12 +30,6 @@ def _two_channel(path):
     return path
 
 
-def _one_line_error(capsys, argv, match):
-    assert main([str(a) for a in argv]) == 1
-    err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and err[0].startswith("flickerkit: error: "), err
-    assert match in err[0], err[0]
-    return err[0]
 
 
 def _digest(p):
@@ -51,17 +47,17 @@ def test_a_workbook_name_must_end_in_xlsx(tmp_path, capsys, argv):
     # as a workbook by its name); now refused before any work, and nothing is written
     cap = _two_channel(tmp_path / "cap.csv")
     out = tmp_path / "out.txt"
-    _one_line_error(capsys, [a.format(cap=cap, out=out) for a in argv], "ending in .xlsx")
+    one_line_error(capsys, [a.format(cap=cap, out=out) for a in argv], "ending in .xlsx")
     assert not out.exists()
 
 
 def test_report_output_and_pdf_names(tmp_path, capsys):
     cap = _two_channel(tmp_path / "caps" / "lamp_level100.csv")
     before = _digest(cap)
-    _one_line_error(capsys, ["report", tmp_path / "caps", "-o", tmp_path / "rec.txt",
+    one_line_error(capsys, ["report", tmp_path / "caps", "-o", tmp_path / "rec.txt",
                              "--column", "CH1"], "ending in .xlsx")
     # --pdf naming an input (here the capture itself) is refused, with or without --force
-    _one_line_error(capsys, ["report", tmp_path / "caps", "-o", tmp_path / "rec.xlsx",
+    one_line_error(capsys, ["report", tmp_path / "caps", "-o", tmp_path / "rec.xlsx",
                              "--column", "CH1", "--pdf", cap, "--force"], "ending in .pdf")
     assert _digest(cap) == before
     assert not (tmp_path / "rec.xlsx").exists()
@@ -73,7 +69,7 @@ def test_a_folder_project_can_name_its_column(tmp_path, capsys):
     folder = tmp_path / "caps"
     for level in ("100", "050"):
         _two_channel(folder / f"lamp_level{level}.csv")
-    _one_line_error(capsys, ["report", folder, "-o", tmp_path / "a.xlsx", "-q"],
+    one_line_error(capsys, ["report", folder, "-o", tmp_path / "a.xlsx", "-q"],
                     "report --column")
     assert main(["report", str(folder), "-o", str(tmp_path / "b.xlsx"), "-q", "--json",
                  "--column", "CH2"]) == 0
@@ -90,7 +86,7 @@ def test_column_option_with_a_project_file_is_refused(tmp_path, capsys):
     proj = tmp_path / "p.toml"
     proj.write_text(f'[product]\nname = "invented"\n[[capture]]\nlevel = 100\n'
                     f'file = "{cap.name}"\ncolumn = "CH1"\n')
-    _one_line_error(capsys, ["report", proj, "-o", tmp_path / "r.xlsx", "--column", "CH2"],
+    one_line_error(capsys, ["report", proj, "-o", tmp_path / "r.xlsx", "--column", "CH2"],
                     "[read]")
 
 
@@ -103,6 +99,6 @@ def test_pictures_inside_a_missing_folder_are_refused(tmp_path, capsys, argv):
     # refused); now refused before any work, and nothing is created
     cap = _two_channel(tmp_path / "cap.csv")
     pics = tmp_path / "missing" / "deeper" / "pics"
-    _one_line_error(capsys, [*(a.format(cap=cap) for a in argv), "--pictures", pics, "-q"],
+    one_line_error(capsys, [*(a.format(cap=cap) for a in argv), "--pictures", pics, "-q"],
                     "does not exist")
     assert not (tmp_path / "missing").exists()

@@ -11,6 +11,8 @@ import numpy as np
 
 from flickerkit.cli import main
 
+from .cliutil import one_line_error
+
 FS = 12_345.0
 F = 123.4  # Hz, awkward on purpose
 M = 0.3    # analytic: a sine of modulation 0.3 gives percent flicker 30 %
@@ -21,12 +23,6 @@ def _light(n: int) -> tuple[np.ndarray, np.ndarray]:
     return t, 1.0 + M * np.sin(2 * np.pi * F * t)
 
 
-def _one_line_error(capsys, argv, match):
-    assert main([str(a) for a in argv]) == 1
-    err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and err[0].startswith("flickerkit: error: "), err
-    assert match in err[0], err[0]
-    return err[0]
 
 
 def test_quoted_decimal_comma_in_a_comma_separated_file(tmp_path, capsys):
@@ -54,13 +50,13 @@ def test_quoted_number_with_thousands_separator_is_refused_at_its_line(tmp_path,
     first = next(i for i, b in enumerate(lux) if b >= 1000.0)
     p = tmp_path / "lux.csv"
     p.write_text("time (s),illuminance (lx)\n" + "\n".join(lines) + "\n")
-    err = _one_line_error(capsys, ["measure", p], "thousands separator")
+    err = one_line_error(capsys, ["measure", p], "thousands separator")
     assert f"line {first + 2}" in err
     q = tmp_path / "lux_semicolon.csv"
     q.write_text("time (s);illuminance (lx)\n" + "\n".join(
         f'"{a:.6f}";"{b:,.2f}"'.replace(",", "X").replace(".", ",").replace("X", ".")
         for a, b in zip(t, 1250.0 * y)) + "\n")
-    _one_line_error(capsys, ["measure", q], "line 2:")
+    one_line_error(capsys, ["measure", q], "line 2:")
 
 
 def test_a_decimal_comma_with_three_decimals_is_not_grouping(tmp_path, capsys):
@@ -88,5 +84,5 @@ def test_one_column_is_not_called_tab_separated(tmp_path, capsys):
 def test_an_unnamed_column_is_not_named_twice(tmp_path, capsys):
     p = tmp_path / "bad.csv"
     p.write_text("0.0,1.0\n0.001,1.1\n0.002,x\n0.003,1.0\n" * 5)
-    err = _one_line_error(capsys, ["measure", p, "-r", "1000"], "not a number")
+    err = one_line_error(capsys, ["measure", p, "-r", "1000"], "not a number")
     assert "column column" not in err
