@@ -370,4 +370,6 @@ def summary_text(table) -> str:
                      f"{c['uncalibrated_dark_steps']} lit steps dark")
     if "flicker" in s:
         lines += table.flicker.summary_lines()
+    if "warning" in s.get("drive_light", {}):
+        lines.append("warning: " + s["drive_light"]["warning"])
     return "\n".join(lines) + "\n"
