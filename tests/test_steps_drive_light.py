@@ -55,3 +55,34 @@ def test_cli_prints_the_warning_and_json_carries_the_column():
                                    check=True).stdout)
     assert js["steps"][0]["model_light"] == pytest.approx(0.05)
     assert "warning" in js["summary"]["drive_light"]
+
+
+def test_header_and_workbook_carry_the_warning(tmp_path):
+    import openpyxl
+
+    cmd = [sys.executable, "-m", "flickerkit", "steps", "-n", "8", "--bits", "10",
+           "--pwm-frequency", "1234.56", "--off-level", "0.05", "-q"]
+    h = subprocess.run(cmd + ["--format", "c"], capture_output=True, text=True, check=True).stdout
+    assert " * WARNING: the light, L*, dL* and visible columns assume" in h
+    book = tmp_path / "t.xlsx"
+    subprocess.run(cmd + ["--xlsx", str(book)], capture_output=True, text=True, check=True)
+    ws = openpyxl.load_workbook(book)["Summary"]
+    labels = {ws.cell(row=r, column=1).value: ws.cell(row=r, column=2).value
+              for r in range(1, ws.max_row + 1)}
+    assert "count / TOP" in labels["Warning"]
+
+
+def test_workbook_shows_settings_unrounded_and_no_unwrapped_long_line(tmp_path):
+    import openpyxl
+
+    book = tmp_path / "t.xlsx"
+    subprocess.run([sys.executable, "-m", "flickerkit", "steps", "-n", "8", "--bits", "10",
+                    "--pwm-frequency", "1234.56", "-q", "--xlsx", str(book)],
+                   capture_output=True, text=True, check=True)
+    ws = openpyxl.load_workbook(book)["Summary"]
+    for r in range(1, ws.max_row + 1):
+        a, b = ws.cell(row=r, column=1), ws.cell(row=r, column=2)
+        if a.value in ("PWM frequency [Hz]", "Flicker: pwm frequency hz"):
+            assert b.value == 1234.56 and b.number_format == "General"
+        if isinstance(b.value, str) and len(b.value) > 60:
+            assert b.alignment.wrap_text, a.value
