@@ -1103,13 +1103,21 @@ def plan(
     if best.counts >= res.counts and not recs[0].reaches_smallest_level:
         # the counter is fine grained enough; the drive's shortest pulse is the limit, which
         # a faster clock or dithering cannot shorten
-        return head(
-            verdict=f"every timer setting at {f_req:.6g} Hz or above has the resolution "
-                    f"({res.describe()}), but none makes the smallest level "
-                    f"{res.min_level * 100:g} %: the drive's shortest light pulse (turn-on "
-                    f"delay, rise, minimum on-time) is {recs[0].minimum_duty * 100:.3g} % of "
-                    f"the period at {best.frequency_hz:.6g} Hz",
-            options=(_hybrid_option(drive, best, res, targets, lv),))
+        reach = [r for r in recs if r.reaches_smallest_level]
+        verdict = (f"no timer setting at {f_req:.6g} Hz or above has both the resolution "
+                   f"({res.describe()}) and a light pulse short enough for the smallest "
+                   f"level {res.min_level * 100:g} %: the finest, {best.mode} prescaler "
+                   f"{best.prescaler} TOP {best.top} at {best.frequency_hz:.6g} Hz, has the "
+                   f"resolution, but the drive's shortest light pulse (turn-on delay, rise, "
+                   f"minimum on-time) is {recs[0].minimum_duty * 100:.3g} % of its period")
+        if reach:
+            r0 = reach[0].setting
+            verdict += (f"; the settings that make the smallest level lack the resolution "
+                        f"(the finest of them, {r0.mode} prescaler {r0.prescaler} TOP "
+                        f"{r0.top} at {r0.frequency_hz:.6g} Hz, has {r0.bits:.2f} bits)")
+        else:
+            verdict += "; no setting makes the smallest level"
+        return head(verdict=verdict, options=(_hybrid_option(drive, best, res, targets, lv),))
     return head(
         verdict=f"no timer setting meets both the targets at {f_req:.6g} Hz and "
                 f"the resolution ({res.describe()}): the finest gives {best.counts} "

@@ -1,0 +1,35 @@
+"""The plan's closing verdict must say only what its own settings table shows."""
+
+import math
+
+from flickerkit.drive import Drive, Edges
+from flickerkit.planner import Resolution, parse_targets, plan
+from flickerkit.timers import Timer
+
+
+def test_pulse_limited_verdict_names_the_setting_that_reaches_the_level():
+    # timer arithmetic by hand: 170 MHz, 16-bit counter; edge TOP 65535 gives
+    # 170e6 / 65536 = 2593.99 Hz with 65536 counts (16 bits); centre at >= 2000.26 Hz gives
+    # TOP floor(170e6 / (2 * 2000.26)) = 42494, 170e6 / 84988 = 2000.28 Hz, log2 42494 = 15.37
+    # bits. A 0.45 us linear rise is 0.45e-6 * 2593.99 = 0.117 % of the edge period (misses
+    # the 0.1 % level) but 0.0900 % of the centre period (makes it, without the 16 bits).
+    drive = Drive(edges=Edges("linear", 0.45e-6, 0.0))
+    p = plan(drive, parse_targets("svm<=0.4"), timer=Timer(170e6),
+             resolution=Resolution(bits=16, min_level=0.001), tolerance=0.0001)
+    by_mode = {r.setting.mode: r for r in p.settings}
+    assert by_mode["edge"].setting.top == 65535 and by_mode["centre"].setting.top == 42494
+    assert math.isclose(by_mode["centre"].setting.frequency_hz, 170e6 / 84988)
+    assert by_mode["centre"].reaches_smallest_level and not by_mode["edge"].reaches_smallest_level
+    assert p.feasible is False
+    # before: "every timer setting ... has the resolution ..., but none makes the smallest level"
+    assert "none makes" not in p.verdict and "every timer setting" not in p.verdict
+    assert "centre prescaler 1 TOP 42494" in p.verdict and "15.37 bits" in p.verdict
+
+
+def test_pulse_limited_verdict_when_no_setting_reaches_the_level():
+    # 0.5 us: 0.5e-6 * 2000.28 = 0.100014 % > 0.1 %, so neither setting makes the level
+    drive = Drive(edges=Edges("linear", 0.5e-6, 0.0))
+    p = plan(drive, parse_targets("svm<=0.4"), timer=Timer(170e6),
+             resolution=Resolution(bits=16, min_level=0.001), tolerance=0.0001)
+    assert not any(r.reaches_smallest_level for r in p.settings)
+    assert p.verdict.endswith("no setting makes the smallest level")
