@@ -33,3 +33,25 @@ def test_pulse_limited_verdict_when_no_setting_reaches_the_level():
              resolution=Resolution(bits=16, min_level=0.001), tolerance=0.0001)
     assert not any(r.reaches_smallest_level for r in p.settings)
     assert p.verdict.endswith("no setting makes the smallest level")
+
+
+def test_phased_channels_warn_that_one_channel_alone_fails(tmp_path):
+    import openpyxl
+
+    from flickerkit.export.modelbooks import write_plan_workbook
+
+    # analytic: 3 ideal channels at 0/120/240 deg sum to light repeating at 3 f, so IEEE 1789
+    # low-risk (100 % modulation allowed from 1250 Hz, IEEE 1789-2015 Fig. 18) is met from
+    # f = 1250 / 3 = 416.67 Hz; one channel alone is 100 % PWM at f, above the 0.08 f % line
+    targets = parse_targets("ieee1789-low-risk")
+    p = plan(Drive(channels=3), targets, levels=[0.001, 0.1, 1.0])
+    assert math.isclose(p.lowest_frequency_hz, 1250 / 3, rel_tol=1e-3)
+    assert len(p.warnings) == 1 and "one channel alone" in p.warnings[0]
+    assert "fails ieee1789-low-risk" in p.warnings[0]
+    assert p.to_dict()["warnings"] == list(p.warnings)
+    book = tmp_path / "p.xlsx"
+    write_plan_workbook(book, p)
+    ws = openpyxl.load_workbook(book)["Plan"]
+    assert any(ws.cell(row=r, column=1).value == "Warning" for r in range(1, ws.max_row + 1))
+    # one channel: nothing to warn about
+    assert plan(Drive(), targets, levels=[0.001, 1.0]).warnings == ()

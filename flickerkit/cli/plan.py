@@ -220,6 +220,8 @@ def text(p: Plan) -> str:
     if p.verdict:
         s.append("")
         s.append(p.verdict)
+    for w in p.warnings:
+        s.append(f"warning: {w}")
     for o in p.options:
         s.append(f"  option, {o.option}: {o.cost}")
     return "\n".join(s) + "\n"
