@@ -55,3 +55,15 @@ def test_phased_channels_warn_that_one_channel_alone_fails(tmp_path):
     assert any(ws.cell(row=r, column=1).value == "Warning" for r in range(1, ws.max_row + 1))
     # one channel: nothing to warn about
     assert plan(Drive(), targets, levels=[0.001, 1.0]).warnings == ()
+
+
+def test_plan_refuses_fixed_counts_with_a_timer(tmp_path):
+    import subprocess
+    import sys
+
+    # the drive's 64 counts would quantise the judged light while the settings table lists
+    # 12543 counts (16 MHz / 1275.6 Hz, edge): one of the two must go
+    r = subprocess.run([sys.executable, "-m", "flickerkit", "plan", "-t", "ieee1789-low-risk",
+                        "--clock-mhz", "16", "--counts", "64"], capture_output=True, text=True)
+    assert r.returncode != 0 and "Traceback" not in r.stderr
+    assert "64 counts per period" in r.stderr and r.stderr.count("\n") == 1
