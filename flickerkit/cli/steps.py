@@ -74,7 +74,8 @@ def add_parser(sub) -> None:
     c = p.add_argument_group("counter")
     g = c.add_mutually_exclusive_group(required=True)
     g.add_argument("--bits", type=int, metavar="N", help="counter resolution; TOP = 2^N - 1")
-    g.add_argument("--top", type=int, metavar="TOP", help="full-scale count (100 %% duty). Timers differ: where duty is "
+    g.add_argument("--top", type=int, metavar="TOP",
+                   help="full-scale count (100 %% duty). Timers differ: where duty is "
                         "CMP / (TOP + 1), as for plan's edge-aligned settings, 100 %% is "
                         "CMP = TOP + 1, so give that timer's TOP + 1 here; where it is "
                         "CMP / TOP (plan's centre-aligned), its TOP")
