@@ -217,6 +217,10 @@ def banding(model: LightModel | Light, camera: Camera) -> Banding:
                    contrast, depth)
 
 
+#: Most frequencies sampled across one frequency's clock-tolerance band.
+BAND_POINTS = 17
+
+
 def _rational(x: float) -> Fraction:
     return Fraction(x).limit_denominator(1001)
 
@@ -265,6 +269,7 @@ def suggest_frequencies(
     *,
     max_contrast: float = 0.01,
     count: int = 5,
+    tolerance: float = 0.0,
 ) -> list[Suggestion]:
     """PWM frequencies in a range that avoid banding on the given cameras.
 
@@ -281,6 +286,12 @@ def suggest_frequencies(
         Band contrast accepted [unitless].
     count : int
         Suggestions returned at most.
+    tolerance : float
+        Frequency tolerance of the PWM clock, a fraction [unitless]: each
+        frequency is judged by its worst contrast over ``f (1 +- tolerance)``
+        (sampled at up to :data:`BAND_POINTS` frequencies, ends included);
+        0 judges the exact frequency. Bands then stand still only on an
+        exact clock, so ``standing`` is False when ``tolerance > 0``.
 
     Returns
     -------
@@ -299,12 +310,23 @@ def suggest_frequencies(
     if not (0.0 <= max_contrast <= 1.0):
         raise SettingsError(f"accepted band contrast must be 0 to 100 %, got "
                             f"{max_contrast * 100:g} %")
+    tol = float(tolerance)
+    if not (0.0 <= tol < 0.5):
+        raise SettingsError(f"frequency tolerance must be 0 to 50 %, got {tol * 100:g} %")
     fps = _lcm([_rational(c.frame_rate_hz) for c in cameras])
     full = _lcm([fps] + [_rational(1.0 / c.exposure_s) for c in cameras])
+    longest = max(c.exposure_s for c in cameras)
 
     def worst(f: float) -> float:
-        m = model_at(f)
-        return max(banding(m, c).contrast for c in cameras)
+        if tol == 0:
+            m = model_at(f)
+            return max(banding(m, c).contrast for c in cameras)
+        # the contrast repeats each time the longest exposure gains one period: about four
+        # points per such turn across the band, at least the ends and the centre
+        turns = 2 * tol * f * longest
+        n = int(min(BAND_POINTS, max(3, 2 * math.ceil(2 * turns) + 1)))
+        return max(max(banding(model_at(g), c).contrast for c in cameras)
+                   for g in f * (1.0 + tol * np.linspace(-1.0, 1.0, n)))
 
     out: list[Suggestion] = []
     seen: set[float] = set()
@@ -321,15 +343,19 @@ def suggest_frequencies(
             w = worst(f)
             if w <= max_contrast:
                 seen.add(f)
-                out.append(Suggestion(f, w, True, why))
+                out.append(Suggestion(f, w, tol == 0, why + (
+                    f"; worst over the +-{tol * 100:g} % clock band" if tol else "")))
             if len(out) >= count:
                 return out
     if out:
         return out
-    grid = np.geomspace(low_hz, high_hz, 200)
+    grid = np.geomspace(low_hz, high_hz, 200 if tol == 0 else 60)
     scored = sorted(((worst(float(f)), float(f)) for f in grid))
-    return [Suggestion(f, w, all(beat_frequency(f, c.frame_rate_hz) < 1e-9 for c in cameras),
-                       "lowest band contrast found on a frequency grid") for w, f in scored[:count]]
+    return [Suggestion(f, w, tol == 0 and all(beat_frequency(f, c.frame_rate_hz) < 1e-9
+                                              for c in cameras),
+                       "lowest band contrast found on a frequency grid" + (
+                           f"; worst over the +-{tol * 100:g} % clock band" if tol else ""))
+            for w, f in scored[:count]]
 
 
 __all__ = ["Banding", "Camera", "Suggestion", "banding", "beat_frequency",

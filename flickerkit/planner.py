@@ -942,6 +942,9 @@ class Plan:
         Ways out when none does.
     verdict : str or None
         The plan in one sentence (None without a timer and with a recommendation).
+    warnings : tuple of str
+        How the plan may be wrong for the product (several channels judged on
+        their summed light).
     """
 
     drive: str
@@ -960,6 +963,7 @@ class Plan:
     feasible: bool | None = None
     options: tuple[Option, ...] = ()
     verdict: str | None = None
+    warnings: tuple[str, ...] = ()
 
     @property
     def lowest_frequency_hz(self) -> float | None:
@@ -1005,6 +1009,7 @@ class Plan:
         }
         if self.verdict is not None:
             out["verdict"] = self.verdict
+        out["warnings"] = list(self.warnings)
         return out
 
 
@@ -1082,7 +1087,8 @@ def plan(
         targets=tuple(targets), levels=tuple(lv), range_hz=(range_hz[0], range_hz[1]),
         frequency=combined, per_target=tuple(per_target), resolution=res, tolerance=tol,
         recommended_frequency_hz=f_rec, recommendation_notes=tuple(rec_notes),
-        abrupt_changes=tuple(abrupt_changes(drive, targets, lv, near, tol)))
+        abrupt_changes=tuple(abrupt_changes(drive, targets, lv, near, tol)),
+        warnings=tuple(_channel_warning(drive, targets, lv, f_rec)))
     if f_rec is None:
         return head(verdict=f"no frequency up to {range_hz[1]:g} Hz keeps its whole "
                             f"+-{100 * tol:g} % tolerance band within the targets")
@@ -1103,19 +1109,44 @@ def plan(
     if best.counts >= res.counts and not recs[0].reaches_smallest_level:
         # the counter is fine grained enough; the drive's shortest pulse is the limit, which
         # a faster clock or dithering cannot shorten
-        return head(
-            verdict=f"every timer setting at {f_req:.6g} Hz or above has the resolution "
-                    f"({res.describe()}), but none makes the smallest level "
-                    f"{res.min_level * 100:g} %: the drive's shortest light pulse (turn-on "
-                    f"delay, rise, minimum on-time) is {recs[0].minimum_duty * 100:.3g} % of "
-                    f"the period at {best.frequency_hz:.6g} Hz",
-            options=(_hybrid_option(drive, best, res, targets, lv),))
+        reach = [r for r in recs if r.reaches_smallest_level]
+        verdict = (f"no timer setting at {f_req:.6g} Hz or above has both the resolution "
+                   f"({res.describe()}) and a light pulse short enough for the smallest "
+                   f"level {res.min_level * 100:g} %: the finest, {best.mode} prescaler "
+                   f"{best.prescaler} TOP {best.top} at {best.frequency_hz:.6g} Hz, has the "
+                   f"resolution, but the drive's shortest light pulse (turn-on delay, rise, "
+                   f"minimum on-time) is {recs[0].minimum_duty * 100:.3g} % of its period")
+        if reach:
+            r0 = reach[0].setting
+            verdict += (f"; the settings that make the smallest level lack the resolution "
+                        f"(the finest of them, {r0.mode} prescaler {r0.prescaler} TOP "
+                        f"{r0.top} at {r0.frequency_hz:.6g} Hz, has {r0.bits:.2f} bits)")
+        else:
+            verdict += "; no setting makes the smallest level"
+        return head(verdict=verdict, options=(_hybrid_option(drive, best, res, targets, lv),))
     return head(
         verdict=f"no timer setting meets both the targets at {f_req:.6g} Hz and "
                 f"the resolution ({res.describe()}): the finest gives {best.counts} "
                 f"counts ({best.bits:.2f} bits), {res.counts} are needed",
         options=(_clock_option(res, f_req), _hybrid_option(drive, best, res, targets, lv),
                  _dither_cost(drive, best, res, targets)))
+
+
+def _channel_warning(drive: Drive, targets: Sequence[Target], levels: Sequence[float],
+                     f_hz: float | None) -> list[str]:
+    """Warn that phased channels are judged on their sum, with what one channel alone meets."""
+    if drive.channels <= 1 or f_hz is None:
+        return []
+    one = replace(drive, channels=1, phase_offsets_deg=(), frequency_hz=f_hz)
+    need_svm = any(t.kind == "svm" for t in targets)
+    figs = [figures(one.at(lv), lv, need_svm=need_svm) for lv in levels]
+    fails = [t.name for t in targets if not all(f.meets(t) for f in figs)]
+    if not fails:
+        return []
+    return [f"the {drive.channels} channels are judged on their summed light; one channel "
+            f"alone at {f_hz:.6g} Hz fails {', '.join(fails)}. This holds only where the "
+            f"channels' light mixes before it reaches the eye and the scene (one optic, one "
+            f"colour); for separate colours or spots plan with --channels 1"]
 
 
 def _clock_option(res: Resolution, f_req: float) -> ClockOption:

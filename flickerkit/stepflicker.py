@@ -108,6 +108,10 @@ class StepFlicker:
         Threshold model of the SVM (see :data:`flickerkit.svm.THRESHOLDS`).
     target_region : str
         Region the table should stay in (that region or a better one).
+    model_light : numpy.ndarray or None
+        Drive path only: each step's modelled mean light relative to the
+        drive's light at full level [unitless]; it differs from ``count / TOP``
+        where the drive has an off-level, edges, delays or a minimum on-time.
     """
 
     pwm_frequency_hz: float
@@ -119,6 +123,7 @@ class StepFlicker:
     svm: np.ndarray
     svm_threshold: str = "power"
     target_region: str = DEFAULT_TARGET_REGION
+    model_light: np.ndarray | None = None
 
     def outside(self) -> np.ndarray:
         """Mark each step that is lit and worse than the target region (bool per step)."""
@@ -131,8 +136,11 @@ class StepFlicker:
     def columns(self) -> dict[str, np.ndarray]:
         """Return the per-step columns for the table rows."""
         region = np.array([r if r else None for r in self.ieee1789_region.tolist()], dtype=object)
-        return {"percent_flicker": self.percent_flicker, "flicker_index": self.flicker_index,
+        cols = {"percent_flicker": self.percent_flicker, "flicker_index": self.flicker_index,
                 "ieee1789_region": region, "svm": self.svm}
+        if self.model_light is not None:
+            cols["model_light"] = self.model_light
+        return cols
 
     def summary(self) -> dict[str, Any]:
         """Where the table leaves its target region (JSON-ready)."""
@@ -290,6 +298,8 @@ def step_flicker_from_drive(
 
     Notes
     -----
+    A level at which the drive makes no light (a pulse shorter than the
+    turn-on delay, a skipped pulse) is dark: no figures, ``model_light`` 0.
     Each distinct non-zero level is modelled once: ``drive.at(level)``, its
     sampled light (exact interval averages over whole periods) through
     :func:`flickerkit.assess.assess`, with the model's exact percent flicker,
@@ -309,13 +319,21 @@ def step_flicker_from_drive(
     c1 = np.full(d.shape, np.nan)
     svm = np.full(d.shape, np.nan)
     region = np.full(d.shape, "", dtype=object)
+    full = float(drive.at(1.0).mean)
+    # count 0: the drive's floor, the off-level (at the crossover current when hybrid)
+    floor = {"pwm": float(drive.off_level), "hybrid": float(drive.off_level * drive.crossover)
+             }.get(drive.method, 0.0)
+    mean = np.full(d.shape, floor / full if full > 0 else np.nan)
     levels, inverse = np.unique(d, return_inverse=True)
     for j, lv in enumerate(levels.tolist()):
         if lv <= 0:
             continue
         model = drive.at(lv)
-        rec = model_record(model, max_samples=model_capture_samples)
         sel = inverse == j
+        mean[sel] = float(model.mean) / full if full > 0 else np.nan
+        if not model.mean > 0:
+            continue  # the drive makes no light at this count (delay, skipped pulse): dark
+        rec = model_record(model, max_samples=model_capture_samples)
         pf[sel] = rec["percent_flicker"]
         fi[sel] = rec["flicker_index"]
         head = rec.get("ieee1789")
@@ -331,4 +349,5 @@ def step_flicker_from_drive(
                              f"{drive.frequency_hz:g} Hz)",
                        percent_flicker=pf, flicker_index=fi,
                        ieee1789_region=region.astype(str), fundamental_amplitude=c1,
-                       svm=svm, svm_threshold=svm_threshold, target_region=target)
+                       svm=svm, svm_threshold=svm_threshold, target_region=target,
+                       model_light=mean)

@@ -36,6 +36,10 @@ from .errors import InputError, SettingsError
 #: Delta L* = 1, called unempirical in Delta E glossaries) may suit a design review.
 DEFAULT_VISIBLE_STEP = 2.3
 
+#: Largest difference between a drive model's mean light and the table's light column that
+#: passes without a warning [Delta L*] (a twentieth of the 2.3 JND; our choice, no source).
+DRIVE_LIGHT_TOLERANCE = 0.1
+
 #: Where the default visibility threshold comes from (reported with the table).
 VISIBLE_STEP_SOURCE = (
     "Delta E*ab = 2.3, Mahy et al. 1994 (colour-science JND_CIE1976); "
@@ -625,6 +629,42 @@ class StepTable:
             out["calibration"] = self._calibration_summary()
         if self.flicker is not None:
             out["flicker"] = self.flicker.summary()
+            check = self._drive_light_summary()
+            if check is not None:
+                out["drive_light"] = check
+        return out
+
+    def _drive_light_summary(self) -> dict | None:
+        """Compare the drive model's mean light with the table's light column (drive path)."""
+        ml = getattr(self.flicker, "model_light", None)
+        if ml is None:
+            return None
+        m = np.asarray(ml, dtype=np.float64)
+        diff = np.abs(lightness_of(m) - self.lightness)
+        k = int(np.nanargmax(diff)) if np.isfinite(diff).any() else 0
+        dark = [int(i) for i in np.flatnonzero((self.relative_light > 0) & ~(m > 0))]
+        big = bool(diff[k] > DRIVE_LIGHT_TOLERANCE) or bool(dark)
+        out: dict[str, Any] = {
+            "largest_lightness_difference": _num(diff[k]), "step": k,
+            "model_light": _num(m[k]), "table_light": _num(self.relative_light[k]),
+            "model_dark_steps": dark, "tolerance": DRIVE_LIGHT_TOLERANCE,
+        }
+        if big and self.transfer is not None:
+            out["warning"] = (
+                f"the drive model's mean light differs from the calibration by up to "
+                f"{diff[k]:.3g} L* (step {k}: {100 * m[k]:.4g} % modelled, "
+                f"{100 * self.relative_light[k]:.4g} % measured): the flicker columns "
+                f"describe a drive other than the one measured; check the drive description")
+        elif big:
+            out["warning"] = (
+                f"the light, L*, dL* and visible columns assume light = count / TOP, but the "
+                f"drive model gives up to {diff[k]:.3g} L* different light (step {k}: "
+                f"{100 * m[k]:.4g} % modelled, {100 * self.relative_light[k]:.4g} % in the "
+                f"table; off-level, edges, delay or minimum on-time)"
+                + (f"; lit steps dark in the model: {', '.join(map(str, dark[:12]))}"
+                   if dark else "")
+                + "; the table is not even on this drive: measure its light at a few counts "
+                  "and build on it with --calibration")
         return out
 
     def _calibration_summary(self) -> dict:

@@ -77,3 +77,19 @@ def test_suggestions_avoid_bands():
 def test_bad_input(make, match):
     with pytest.raises(SettingsError, match=match):
         make()
+
+
+def test_suggestion_judged_over_the_clock_band():
+    # analytic (running mean of a 10 % pulse train): 3000 Hz = lcm(60 fps, 1/(1/1000 s)) puts 3
+    # whole periods in a 1 ms exposure, contrast 0 on an exact clock. At -2 % (2940 Hz) the
+    # window holds 2.94 periods: light integral between 0.24 and 0.30 periods' worth, Michelson
+    # contrast 0.06 / 0.54 = 1/9; at +2 % (3060 Hz), 0.06 / 0.66 = 1/11.
+    cams = [Camera(60.0, 1 / 1000)]
+    exact = suggest_frequencies(lambda f: Pwm(f, 0.1), cams, 2900.0, 3100.0)
+    assert exact[0].frequency_hz == pytest.approx(3000.0) and exact[0].worst_contrast < 1e-9
+    band = suggest_frequencies(lambda f: Pwm(f, 0.1), cams, 2900.0, 3100.0, max_contrast=1.0,
+                               tolerance=0.02)
+    assert band[0].frequency_hz == pytest.approx(3000.0)
+    assert band[0].worst_contrast == pytest.approx(1 / 9, rel=1e-6)
+    assert band[0].standing is False and "2 % clock band" in band[0].reason
+    assert banding(Pwm(3060.0, 0.1), cams[0]).contrast == pytest.approx(1 / 11, rel=1e-6)

@@ -14,7 +14,8 @@ Predict what video cameras see of a modelled drive: for each frame rate and
 exposure, the beat (how fast bands roll, 0 when they stand still), bands per
 frame, rows per band and band contrast (Michelson contrast of the rows'
 exposure-averaged light); then PWM frequencies in a range that avoid banding
-on all of them. Exposures are seconds or fractions such as 1/120.
+on all of them, each judged by its worst contrast over the PWM clock's
+tolerance band (--tolerance). Exposures are seconds or fractions such as 1/120.
 
 examples:
   flickerkit camera -f 1000 --level 10 --fps 24,25,30,50,60,120 --exposure 1/60,1/120
@@ -43,6 +44,10 @@ def add_parser(sub) -> None:
                    help="suggest PWM frequencies in this range that avoid banding")
     p.add_argument("--max-contrast", type=float, default=1.0, metavar="PERCENT",
                    help="band contrast accepted in suggestions (default 1)")
+    p.add_argument("--tolerance", type=float, default=2.0, metavar="PERCENT",
+                   help="frequency tolerance of the PWM clock, +- percent: a suggestion's "
+                        "contrast is the worst over its band (default 2, an internal RC "
+                        "oscillator, as in plan; 0 for an exact clock; common practice)")
     o = p.add_argument_group("output")
     o.add_argument("--json", action="store_true", help="print JSON")
     o.add_argument("--xlsx", metavar="OUT.xlsx", help="also write a workbook")
@@ -113,8 +118,10 @@ def run(args: argparse.Namespace) -> int:
             lo, hi = (float(x) for x in args.suggest.split(":"))
         except ValueError:
             raise SettingsError(f"--suggest: {args.suggest!r} is not LOW:HIGH in Hz") from None
+        check_number(args.tolerance, "--tolerance", low=0, high=10)
         sugg = suggest_frequencies(lambda f: drive.with_frequency(f).at(level), cams, lo, hi,
-                                   max_contrast=args.max_contrast / 100.0)
+                                   max_contrast=args.max_contrast / 100.0,
+                                   tolerance=args.tolerance / 100.0)
         out["suggestions"] = [s.to_dict() for s in sugg]
     if args.json:
         from ..export.jsonout import dumps

@@ -136,6 +136,11 @@ def run(args: argparse.Namespace) -> int:
                      max_step=None if args.max_step is None else args.max_step / 100.0)
     timer = None
     pres = None
+    if args.clock_mhz is not None and drive.counts_per_period is not None:
+        raise SettingsError(
+            f"the drive has {drive.counts_per_period} counts per period (--counts or "
+            f"counts_per_period in the drive file), but with --clock-mhz each timer setting "
+            f"has its own counts; give one of them")
     if args.clock_mhz is not None:
         try:
             prescalers = tuple(int(x) for x in args.prescalers.split(",") if x.strip())
@@ -220,6 +225,8 @@ def text(p: Plan) -> str:
     if p.verdict:
         s.append("")
         s.append(p.verdict)
+    for w in p.warnings:
+        s.append(f"warning: {w}")
     for o in p.options:
         s.append(f"  option, {o.option}: {o.cost}")
     return "\n".join(s) + "\n"

@@ -74,7 +74,11 @@ def add_parser(sub) -> None:
     c = p.add_argument_group("counter")
     g = c.add_mutually_exclusive_group(required=True)
     g.add_argument("--bits", type=int, metavar="N", help="counter resolution; TOP = 2^N - 1")
-    g.add_argument("--top", type=int, metavar="TOP", help="full-scale count (100 %% duty)")
+    g.add_argument("--top", type=int, metavar="TOP",
+                   help="full-scale count (100 %% duty). Timers differ: where duty is "
+                        "CMP / (TOP + 1), as for plan's edge-aligned settings, 100 %% is "
+                        "CMP = TOP + 1, so give that timer's TOP + 1 here; where it is "
+                        "CMP / TOP (plan's centre-aligned), its TOP")
     c.add_argument("--min-count", type=int, default=0, metavar="N",
                    help="smallest non-zero count the driver turns on (default: any)")
     c.add_argument("--rounding", choices=("distinct", "nearest"), default="distinct",
@@ -371,4 +375,6 @@ def summary_text(table) -> str:
                      f"{c['uncalibrated_dark_steps']} lit steps dark")
     if "flicker" in s:
         lines += table.flicker.summary_lines()
+    if "warning" in s.get("drive_light", {}):
+        lines.append("warning: " + s["drive_light"]["warning"])
     return "\n".join(lines) + "\n"

@@ -159,5 +159,10 @@ def table_header(table: Any, *, name: str = DEFAULT_NAME, version: str = "") -> 
         desc.append(f"calibrated on measured light: {s['calibration']['source'] or 'given points'}")
     if "flicker" in s and s["flicker"].get("pwm_frequency_hz"):
         desc.append(f"PWM frequency: {s['flicker']['pwm_frequency_hz']:g} Hz")
+    warning = s.get("drive_light", {}).get("warning")
+    if warning:
+        import textwrap
+
+        desc += textwrap.wrap("WARNING: " + warning, 92)
     return c_header(table.counts, top=table.counter.top, name=name, description=desc,
                     version=version)

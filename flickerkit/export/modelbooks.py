@@ -131,6 +131,7 @@ def write_plan_workbook(path: str | Path, plan: Plan, *, force: bool = False,
             ["Resolution needed", plan.resolution.describe()],
             ["Counts needed", plan.resolution.counts],
             ["Verdict", plan.verdict]]
+    rows += [["Warning", w] for w in plan.warnings]
     rows += [[f"Lowest frequency for {r.targets[0].name} [Hz]", r.frequency_hz]
              for r in plan.per_target]
     last = write_rows(ws, ["Item", "Value"], rows, widths=[40, 60])

@@ -107,15 +107,27 @@ def add_steps_sheets(wb, table: Any, settings: dict[str, Any], *, summary_sheet=
     put(ws_sum, 1, 1, "Brightness table").font = Font(bold=True, size=14)
     r = 3
     for label, value in _summary_lines(table, summary):
-        put(ws_sum, r, 1, label).font = bold
-        put(ws_sum, r, 2, value)
+        lab = put(ws_sum, r, 1, label)
+        lab.font = bold
+        lab.alignment = Alignment(vertical="top")
+        # a frequency is a setting: shown whole (1234.56 Hz, not 4 digits' 1235)
+        cell = put(ws_sum, r, 2, value,
+                   number_format="General" if "frequency" in label.lower() else None)
+        if label == "Warning":
+            cell.font = bold
+        if isinstance(value, str) and len(value) > 60:
+            # wrapped in the 70-wide column: an unwrapped long line widens the printed page
+            # and shrinks the whole summary to fit it
+            cell.alignment = Alignment(wrap_text=True, vertical="top")
+            ws_sum.row_dimensions[r].height = 15 * (1 + len(value) // 60)
         r += 1
     r += 1
     put(ws_sum, r, 1, "Settings").font = bold
     r += 1
     for k, v in settings.items():
         put(ws_sum, r, 1, str(k))
-        put(ws_sum, r, 2, "" if v is None else (v if isinstance(v, (int, float)) else str(v)))
+        put(ws_sum, r, 2, "" if v is None else (v if isinstance(v, (int, float)) else str(v)),
+            number_format="General")  # settings as given, not rounded for display
         r += 1
     r += 1
     c = put(ws_sum, r, 1, CAUTION)
@@ -185,10 +197,12 @@ def _summary_lines(table: Any, s: dict) -> list[tuple[str, Any]]:
         lines += [("Calibration", f"{c['source']} ({c['points']} points)"),
                   ("Largest count shift from calibration", c["largest_count_shift"]),
                   ("Largest step, uncalibrated [L*]", c["uncalibrated_largest_jump"])]
+    if "warning" in s.get("drive_light", {}):
+        lines.append(("Warning", s["drive_light"]["warning"]))
     if "flicker" in s:
         f = s["flicker"]
         for k, v in f.items():
-            if not isinstance(v, (dict, list)):
+            if not isinstance(v, (dict, list)) and k != "caution":  # the caution is below
                 lines.append((f"Flicker: {k.replace('_', ' ')}", v))
     return lines
 
