@@ -430,33 +430,35 @@ def write_pictures(pictures: Sequence[Picture], folder: str | Path, *,
     return paths
 
 
-def capture_picture_names(records: Sequence[dict[str, Any]], traces: dict[str, Trace]
-                          ) -> list[str]:
-    """Return the file stems :func:`capture_pictures` gives, without drawing."""
-    names = []
-    for rec in records:
-        label = str(rec.get("label", ""))
-        stem = safe_name(label)
-        if traces.get(label) is not None:
-            names.append(f"{stem}_waveform")
-        names.append(f"{stem}_spectrum")
-    return names
+def _capture_plan(records: Sequence[dict[str, Any]], traces: dict[str, Trace], threshold: str
+                  ) -> list[tuple[str, Any, str]]:
+    """List each capture picture as (file stem, drawing call, caption), drawing nothing."""
+    from functools import partial
 
-
-def capture_pictures(records: Sequence[dict[str, Any]], traces: dict[str, Trace],
-                     *, threshold: str = "power", sheet: str = "Pictures") -> list[Picture]:
-    """Waveform (when the samples are at hand) and spectrum of each capture."""
-    pics = []
+    plan: list[tuple[str, Any, str]] = []
     for rec in records:
         label = str(rec.get("label", ""))
         stem = safe_name(label)
         tr = traces.get(label)
         if tr is not None:
-            pics.append(render(waveform_figure(tr, rec), f"{stem}_waveform", sheet,
-                               f"{label}: waveform"))
-        pics.append(render(spectrum_figure(rec, threshold=threshold), f"{stem}_spectrum", sheet,
-                           f"{label}: modulation spectrum"))
-    return pics
+            plan.append((f"{stem}_waveform", partial(waveform_figure, tr, rec),
+                         f"{label}: waveform"))
+        plan.append((f"{stem}_spectrum", partial(spectrum_figure, rec, threshold=threshold),
+                     f"{label}: modulation spectrum"))
+    return plan
+
+
+def capture_picture_names(records: Sequence[dict[str, Any]], traces: dict[str, Trace]
+                          ) -> list[str]:
+    """Return the file stems :func:`capture_pictures` gives, without drawing."""
+    return [name for name, _, _ in _capture_plan(records, traces, "power")]
+
+
+def capture_pictures(records: Sequence[dict[str, Any]], traces: dict[str, Trace],
+                     *, threshold: str = "power", sheet: str = "Pictures") -> list[Picture]:
+    """Draw the waveform (when the samples are at hand) and spectrum of each capture."""
+    return [render(draw(), name, sheet, caption)
+            for name, draw, caption in _capture_plan(records, traces, threshold)]
 
 
 def limit_lines(criteria: Sequence[Any], date) -> list[tuple[str, float, str]]:
