@@ -377,3 +377,28 @@ def test_verdict_grid_names_stand_upright_on_their_own_page(demo_record):
     longest = max(len(c.value) for c in heads)
     assert ws.row_dimensions[title.row + 1].height >= 6 * longest  # points: the names fit
     assert title.row - 1 in [b.id for b in ws.row_breaks.brk]
+
+
+def test_pictures_of_equal_file_names_in_two_folders_are_kept_apart(tmp_path, capsys):
+    # a/cap.npy and b/cap.npy: the table labels them a/cap.npy and b/cap.npy; the pictures
+    # took the bare file name, so b's replaced a's with exit 0
+    import numpy as np
+
+    fs = 20_000.0
+    t = np.arange(20_000) / fs
+    for sub, f in (("a", 123.4), ("b", 234.5)):
+        (tmp_path / sub).mkdir()
+        np.save(tmp_path / sub / "cap.npy", 1.0 + 0.3 * np.sin(2 * np.pi * f * t))
+    pics = tmp_path / "pics"
+    assert main(["measure", str(tmp_path / "a" / "cap.npy"), str(tmp_path / "b" / "cap.npy"),
+                 "-r", "20000", "-q", "--pictures", str(pics)]) == 0
+    names = sorted(p.name for p in pics.iterdir())
+    assert len(names) == 8 and len({n.split("_", 1)[0] for n in names}) == 2, names
+
+
+def test_two_pictures_of_one_run_with_one_name_are_refused(tmp_path):
+    from flickerkit.errors import OutputError
+    from flickerkit.export.figures import check_picture_names
+
+    with pytest.raises(OutputError, match="share the name"):
+        check_picture_names(tmp_path / "pics", ["x_spectrum", "x_spectrum"], force=True)

@@ -166,8 +166,12 @@ def add_parser(sub) -> None:
     p.set_defaults(run=run)
 
 
-def _pictures(args, outcomes, settings):
-    """Draw the waveform and spectrum of each measured capture into ``args.pictures``."""
+def _pictures(args, outcomes, records, settings):
+    """Draw the waveform and spectrum of each measured capture into ``args.pictures``.
+
+    ``records`` are :func:`distinct_records` of ``outcomes``, in their order: the pictures
+    take the labels the table and workbook show (equal file names in two folders).
+    """
     from ..errors import FlickerkitError
     from ..export.figures import (capture_picture_names, capture_pictures, check_picture_names,
                                   trace_of, write_pictures)
@@ -175,16 +179,13 @@ def _pictures(args, outcomes, settings):
 
     opts = read_options(args, args.signal)
     traces = {}
-    records = []
-    for o in outcomes:
-        if o.record is None:
-            continue
-        records.append(o.record)
+    done = [o for o in outcomes if o.record is not None]  # in the order of records
+    for o, rec in zip(done, records):
         try:
             cap = read_capture(o.path, opts)
         except (FlickerkitError, OSError):
             continue
-        traces[o.record["label"]] = trace_of(cap, o.record.get("frequency_hz"))
+        traces[rec["label"]] = trace_of(cap, rec.get("frequency_hz"))
     check_picture_names(args.pictures, capture_picture_names(records, traces), force=args.force)
     pics = capture_pictures(records, traces, threshold=settings.svm_threshold)
     write_pictures(pics, args.pictures, force=args.force)
@@ -264,7 +265,7 @@ def run(args: argparse.Namespace) -> int:
     # pictures before any output: a refusal (an existing picture) leaves stdout empty
     pictures = None
     if args.pictures and args.signal == "light":
-        pictures = _pictures(args, outcomes, settings)
+        pictures = _pictures(args, outcomes, records, settings)
     elif args.pictures and not args.quiet:
         print("flickerkit: note: --pictures draws light captures only; none drawn",
               file=sys.stderr)

@@ -390,6 +390,12 @@ def check_picture_names(folder: str | Path, names: Sequence[str], *, force: bool
 
     out = Path(folder)
     check_picture_folder(out)
+    seen: set[str] = set()
+    for name in names:  # one picture would replace another of the same run
+        if name in seen:
+            raise OutputError(f"{out / name}: two pictures of this run would share the name; "
+                              f"give the captures labels of their own")
+        seen.add(name)
     if force:
         return
     for name in names:
