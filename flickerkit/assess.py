@@ -685,9 +685,10 @@ def empty_fundamental(modul: modulation.ModulationAnalysis, spec: Spectrum
     Parameters
     ----------
     modul : ModulationAnalysis
-        The capture's components (used when the spectrum is windowed).
+        The capture's components (its fundamental).
     spec : Spectrum
-        The capture's spectrum; over whole periods, harmonic h is bin h P exactly.
+        The capture's spectrum over whole periods (one span or averaged windows of P
+        periods each): harmonic h is bin h P exactly.
 
     Returns
     -------
@@ -697,22 +698,14 @@ def empty_fundamental(modul: modulation.ModulationAnalysis, spec: Spectrum
         :data:`EMPTY_FUNDAMENTAL_RATIO` of the last; else None.
     """
     f0 = modul.fundamental_hz
-    if not f0:
+    if not f0 or spec.whole_periods < 1:  # no period: a Hann-windowed spectrum
         return None
-    if spec.window == "rectangular" and spec.whole_periods >= 1:
-        harm = spec.amplitudes[spec.whole_periods::spec.whole_periods]
-        if harm.size < 2:
-            return None
-        k = int(np.argmax(harm))
-        a1, f_strong, a_strong = float(harm[0]), (k + 1) * f0, float(harm[k])
-    else:
-        harmonics = [c for c in modul.components if c.kind == "harmonic" and c.harmonic]
-        if not harmonics:
-            return None
-        strong = max(harmonics, key=lambda c: c.amplitude)
-        a1 = max((c.amplitude for c in harmonics if c.harmonic == 1), default=0.0)
-        f_strong, a_strong = strong.frequency_hz, strong.amplitude
-    if f_strong <= f0 * 1.5 or a1 >= EMPTY_FUNDAMENTAL_RATIO * a_strong:
+    harm = spec.amplitudes[spec.whole_periods::spec.whole_periods]
+    if harm.size < 2:
+        return None
+    k = int(np.argmax(harm))
+    a1, f_strong, a_strong = float(harm[0]), (k + 1) * f0, float(harm[k])
+    if k == 0 or a1 >= EMPTY_FUNDAMENTAL_RATIO * a_strong:
         return None
     return a1, f_strong, a_strong
 
